@@ -1,0 +1,122 @@
+/**
+ * Flex and self-stress spaces of a supercell on the dense reference path.
+ *
+ *   flexes        = dim ker R       (infinitesimal motions, rigid ones included)
+ *   self-stresses = dim ker Rᴴ      (bar tensions in equilibrium with zero load)
+ *   trivial       = dim(ker R ∩ rigid motions the boundary allows)
+ * Rank uses σ > tol with tol = relative · σ_max (default relative 1e-9), and the singular
+ * values on both sides of the cut are reported. Maxwell–Calladine:
+ *   flexes − self-stresses = 2·joints − bars  (an exact identity of the counts).
+ */
+import { Matrix, SingularValueDecomposition } from 'ml-matrix';
+import { checkDenseFits, nullSpace, singularValues, DENSE_MEMORY_LIMIT, type NullBasis } from '../linalg/dense.js';
+import { decideRank, DEFAULT_RELATIVE_TOLERANCE, type Gap } from '../linalg/rank.js';
+import { conjugateTranspose, sparseMatVec, type SparseMatrix } from '../linalg/sparse.js';
+import { rigidityMatrix } from '../supercell/rigidity.js';
+import type { Supercell } from '../supercell/supercell.js';
+import { rigidMotions, type RigidMotion } from './rigid.js';
+
+export interface AnalysisOptions {
+  /** Relative rank tolerance (× σ_max); default 1e-9. */
+  tolerance?: number;
+  /** Bytes the dense solver may use; default 1.5 GB. */
+  memoryLimit?: number;
+}
+
+export interface FlexCounts {
+  joints: number;
+  bars: number;
+  /** Columns of R: 2 per joint. */
+  dof: number;
+  flexes: number;
+  trivialFlexes: number;
+  /** The rigid motions that were tested for being flexes. */
+  rigidMotionsTested: RigidMotion['name'][];
+  selfStresses: number;
+  rank: number;
+  tolerance: { relative: number; absolute: number };
+  sigmaMax: number;
+  gap: Gap;
+  maxwellCalladine: { lhs: number; rhs: number; ok: boolean };
+  /** Whether the rigidity matrix is real (every phase ±1). */
+  real: boolean;
+  solver: 'dense';
+  groundedBars: number;
+  droppedBars: number;
+}
+
+export interface FlexAnalysis extends FlexCounts {
+  matrix: SparseMatrix;
+  /** Orthonormal basis of the flexes (computed on first call). */
+  flexBasis(): NullBasis;
+  /** Orthonormal basis of the self-stresses (computed on first call). */
+  selfStressBasis(): NullBasis;
+}
+
+/** Number of independent columns of R·T for orthonormal rigid fields T, at the same absolute tolerance. */
+function rigidRank(R: SparseMatrix, motions: RigidMotion[], absTol: number): number {
+  if (motions.length === 0 || R.rows === 0) return 0;
+  const RT = new Matrix(Math.max(R.rows, motions.length), motions.length);
+  motions.forEach((m, c) => {
+    const y = sparseMatVec(R, m.field, null);
+    for (let r = 0; r < R.rows; r++) RT.set(r, c, y.re[r]);
+  });
+  const s = new SingularValueDecomposition(RT, { computeLeftSingularVectors: false, computeRightSingularVectors: false }).diagonal;
+  return s.filter((v) => v > absTol).length;
+}
+
+export function analyseSupercell(sc: Supercell, options: AnalysisOptions = {}): FlexAnalysis {
+  const relative = options.tolerance ?? DEFAULT_RELATIVE_TOLERANCE;
+  const R = rigidityMatrix(sc);
+  const m = R.rows;
+  const n = R.cols;
+  checkDenseFits(m, n, !sc.real, false, options.memoryLimit ?? DENSE_MEMORY_LIMIT);
+  const sigma = singularValues(R);
+  const decision = decideRank(sigma, m, n, relative);
+  const flexes = n - decision.rank;
+  const selfStresses = m - decision.rank;
+  const motions = sc.real ? rigidMotions(sc) : [];
+  const trivialFlexes = motions.length - rigidRank(R, motions, decision.tolerance.absolute);
+  let flexCache: NullBasis | undefined;
+  let stressCache: NullBasis | undefined;
+  const limit = options.memoryLimit ?? DENSE_MEMORY_LIMIT;
+  return {
+    joints: sc.jointCount,
+    bars: m,
+    dof: n,
+    flexes,
+    trivialFlexes,
+    rigidMotionsTested: motions.map((x) => x.name),
+    selfStresses,
+    rank: decision.rank,
+    tolerance: decision.tolerance,
+    sigmaMax: decision.sigmaMax,
+    gap: decision.gap,
+    maxwellCalladine: { lhs: flexes - selfStresses, rhs: 2 * sc.jointCount - m, ok: flexes - selfStresses === 2 * sc.jointCount - m },
+    real: sc.real,
+    solver: 'dense',
+    groundedBars: sc.grounded,
+    droppedBars: sc.dropped,
+    matrix: R,
+    flexBasis() {
+      if (!flexCache) {
+        checkDenseFits(m, n, !sc.real, true, limit);
+        flexCache = nullSpace(R, flexes);
+      }
+      return flexCache;
+    },
+    selfStressBasis() {
+      if (!stressCache) {
+        checkDenseFits(n, m, !sc.real, true, limit);
+        stressCache = nullSpace(conjugateTranspose(R), selfStresses);
+      }
+      return stressCache;
+    },
+  };
+}
+
+/** The plain-data part of an analysis (what `count --json` prints). */
+export function countsOf(a: FlexAnalysis): FlexCounts {
+  const { matrix: _m, flexBasis: _f, selfStressBasis: _s, ...rest } = a;
+  return rest;
+}

@@ -1,0 +1,171 @@
+/**
+ * The N1×N2 supercell of a periodic framework under boundary rules.
+ *
+ * Cells (i, j) with 0 ≤ i < N1, 0 ≤ j < N2 of the infinite framework are kept. For each bar
+ * of the infinite framework with at least one end in the supercell:
+ *  - both ends inside (after wrapping twisted axes): the bar is kept;
+ *  - along a twisted axis with phase θ (in turns) cell indices wrap modulo N, and the far
+ *    joint's velocity picks up exp(2πiθw) for w wraps; each bar orbit gives one row;
+ *  - otherwise one end lies outside: the bar is *grounded* (that end fixed) when every side it
+ *    leaves through is pinned, and *dropped* when any of them is free. Bars with both ends
+ *    outside do not belong to the supercell.
+ * Joint index of site s in cell (i, j): (j·N1 + i)·S + s, with S joints per unit cell.
+ */
+import { InputError } from '../errors.js';
+import type { Framework, Vec2 } from '../framework/types.js';
+import { boundaryIsReal, reduceTurns, type AxisRule, type Boundary } from './boundary.js';
+
+export interface SupercellBar {
+  /** Joint index of the `from` end, or −1 when that end is fixed (grounded bar). */
+  a: number;
+  /** Joint index of the `to` end, or −1 when that end is fixed (grounded bar). */
+  b: number;
+  /** The bar vector p = position(to) − position(from) in the infinite framework (unwrapped). */
+  vector: Vec2;
+  /** Phase factor exp(2πi(θ1 w1 + θ2 w2)) carried by the `to` end's velocity. */
+  phase: [number, number];
+  /** Wrap counts (w1, w2) of the `to` end along twisted axes. */
+  wraps: [number, number];
+  /** Index of the unit-cell bar this row comes from. */
+  source: number;
+  /** Cell of the `from` end in the infinite framework. */
+  cell: [number, number];
+  grounded: boolean;
+}
+
+export interface Supercell {
+  framework: Framework;
+  cells: [number, number];
+  boundary: Boundary;
+  /** Joints per unit cell. */
+  sites: number;
+  /** Number of supercell joints (N1·N2·S); fixed far ends of grounded bars are not joints. */
+  jointCount: number;
+  /** Cartesian positions, 2 per joint. */
+  positions: Float64Array;
+  /** Cell (i, j) of each joint, 2 per joint. */
+  jointCells: Int32Array;
+  /** Unit-cell site of each joint. */
+  jointSites: Int32Array;
+  /** The rows of the rigidity matrix: kept and grounded bars. */
+  bars: SupercellBar[];
+  /** Bars of the infinite framework touching the supercell that were dropped at free sides. */
+  dropped: number;
+  grounded: number;
+  /** True when every phase factor is real (each twist θ ≡ 0 or ½). */
+  real: boolean;
+}
+
+export const MAX_CELLS_PER_AXIS = 100000;
+
+export function checkCells(cells: [number, number], where = 'cells'): void {
+  const bad = cells.filter((n) => !Number.isInteger(n) || n < 1 || n > MAX_CELLS_PER_AXIS);
+  if (bad.length) {
+    throw new InputError(`The supercell size ${cells.join('x')} cannot be used:`, [
+      { where, what: `each side must be a whole number of cells from 1 to ${MAX_CELLS_PER_AXIS}, got ${cells.join('x')}`, fix: 'write N1xN2 with positive integers, e.g. 8x8' },
+    ]);
+  }
+}
+
+export function jointIndex(i: number, j: number, s: number, N1: number, S: number): number {
+  return (j * N1 + i) * S + s;
+}
+
+type EndState = { idx: number; wraps: number; out: 'low' | 'high' | null };
+
+/** Where a cell index lands along one axis. */
+function place(c: number, N: number, rule: AxisRule): EndState {
+  if (rule.kind === 'twist') {
+    const w = Math.floor(c / N);
+    return { idx: c - w * N, wraps: w, out: null };
+  }
+  if (c < 0) return { idx: c, wraps: 0, out: 'low' };
+  if (c >= N) return { idx: c, wraps: 0, out: 'high' };
+  return { idx: c, wraps: 0, out: null };
+}
+
+function pinned(rule: AxisRule, side: 'low' | 'high'): boolean {
+  return rule.kind === 'sides' && rule[side] === 'pinned';
+}
+
+export function buildSupercell(fw: Framework, cells: [number, number], boundary: Boundary): Supercell {
+  checkCells(cells);
+  const [N1, N2] = cells;
+  const S = fw.joints.length;
+  const [a1, a2] = fw.lattice;
+  const siteOf = new Map(fw.joints.map((j, k) => [j.id, k]));
+  const jointCount = N1 * N2 * S;
+  const positions = new Float64Array(2 * jointCount);
+  const jointCells = new Int32Array(2 * jointCount);
+  const jointSites = new Int32Array(jointCount);
+  for (let j = 0; j < N2; j++)
+    for (let i = 0; i < N1; i++)
+      for (let s = 0; s < S; s++) {
+        const k = jointIndex(i, j, s, N1, S);
+        const at = fw.joints[s].at;
+        positions[2 * k] = at[0] + i * a1[0] + j * a2[0];
+        positions[2 * k + 1] = at[1] + i * a1[1] + j * a2[1];
+        jointCells[2 * k] = i;
+        jointCells[2 * k + 1] = j;
+        jointSites[k] = s;
+      }
+
+  const theta1 = boundary.x.kind === 'twist' ? reduceTurns(boundary.x.theta) : 0;
+  const theta2 = boundary.y.kind === 'twist' ? reduceTurns(boundary.y.theta) : 0;
+  const bars: SupercellBar[] = [];
+  let dropped = 0;
+  let grounded = 0;
+  // Range of `from` cells along an axis: all cells for a twisted axis (one orbit each), else
+  // every cell where at least one end lies inside.
+  const range = (N: number, shift: number, rule: AxisRule): [number, number] =>
+    rule.kind === 'twist' ? [0, N] : [Math.min(0, -shift), Math.max(N, N - shift)];
+
+  fw.bars.forEach((bar, source) => {
+    const sa = siteOf.get(bar.from)!;
+    const sb = siteOf.get(bar.to)!;
+    const [s1, s2] = bar.shift;
+    const pa = fw.joints[sa].at;
+    const pb = fw.joints[sb].at;
+    const vector: Vec2 = [pb[0] + s1 * a1[0] + s2 * a2[0] - pa[0], pb[1] + s1 * a1[1] + s2 * a2[1] - pa[1]];
+    const [i0, i1] = range(N1, s1, boundary.x);
+    const [j0, j1] = range(N2, s2, boundary.y);
+    for (let j = j0; j < j1; j++) {
+      for (let i = i0; i < i1; i++) {
+        const fx = place(i, N1, boundary.x);
+        const fy = place(j, N2, boundary.y);
+        const tx = place(i + s1, N1, boundary.x);
+        const ty = place(j + s2, N2, boundary.y);
+        const fromOut = fx.out !== null || fy.out !== null;
+        const toOut = tx.out !== null || ty.out !== null;
+        if (fromOut && toOut) continue;
+        const a = fromOut ? -1 : jointIndex(fx.idx, fy.idx, sa, N1, S);
+        const b = toOut ? -1 : jointIndex(tx.idx, ty.idx, sb, N1, S);
+        if (fromOut || toOut) {
+          const [ox, oy] = fromOut ? [fx, fy] : [tx, ty];
+          const ok = (ox.out === null || pinned(boundary.x, ox.out)) && (oy.out === null || pinned(boundary.y, oy.out));
+          if (!ok) {
+            dropped++;
+            continue;
+          }
+          grounded++;
+        }
+        const w1 = tx.wraps;
+        const w2 = ty.wraps;
+        const ang = 2 * Math.PI * (theta1 * w1 + theta2 * w2);
+        const phase = phaseOf(theta1 * w1 + theta2 * w2, ang);
+        bars.push({ a, b, vector, phase, wraps: [w1, w2], source, cell: [i, j], grounded: fromOut || toOut });
+      }
+    }
+  });
+  return { framework: fw, cells: [N1, N2], boundary, sites: S, jointCount, positions, jointCells, jointSites, bars, dropped, grounded, real: boundaryIsReal(boundary) };
+}
+
+/** exp(2πi t), exact for t a multiple of ¼ (so real boundaries stay exactly real). */
+function phaseOf(t: number, ang: number): [number, number] {
+  const q = t * 4;
+  if (Number.isInteger(q)) {
+    const r = ((q % 4) + 4) % 4;
+    return ([[1, 0], [0, 1], [-1, 0], [0, -1]] as [number, number][])[r];
+  }
+  return [Math.cos(ang), Math.sin(ang)];
+}
