@@ -1,0 +1,24 @@
+/**
+ * shimmy's typed Node/browser API: the computational core without any shell.
+ *
+ *   import { count, buildGallery } from 'shimmy';
+ *   const { analysis } = count({ framework: buildGallery('gallery:kagome'), cells: [6, 6], boundary: 'periodic' });
+ *   analysis.flexes, analysis.selfStresses, analysis.flexBasis().vectors
+ */
+export type { Framework, Joint, Bar, Vec2 } from './framework/types.js';
+export { parseFramework, validateFramework, checkFramework } from './framework/validate.js';
+export { GALLERY, galleryEntry, buildGallery, parseGallerySpec, type GalleryEntry, type GalleryParam } from './framework/gallery.js';
+export { loadFramework, isGallerySpec } from './framework/load.js';
+export { parseBoundary, formatBoundary, describeBoundary, type Boundary, type AxisRule, type SideRule } from './supercell/boundary.js';
+export { buildSupercell, type Supercell, type SupercellBar } from './supercell/supercell.js';
+export { rigidityMatrix } from './supercell/rigidity.js';
+export { analyseSupercell, countsOf, type FlexAnalysis, type FlexCounts, type AnalysisOptions } from './flex/spaces.js';
+export { rigidMotions, allowedRigidMotionNames } from './flex/rigid.js';
+export { symbolMatrix, symbolKernel } from './spectrum/symbol.js';
+export { decideRank, DEFAULT_RELATIVE_TOLERANCE, AMBIGUOUS_RATIO, type Gap, type RankDecision } from './linalg/rank.js';
+export type { SparseMatrix } from './linalg/sparse.js';
+export type { CVec } from './linalg/complex.js';
+export type { NullBasis } from './linalg/dense.js';
+export { count, type CountRequest, type CountResult } from './analysis.js';
+export { InputError, TooLargeError, type Problem } from './errors.js';
+export { CAUTION, CAUTION_SHORT } from './caution.js';
