@@ -1,0 +1,125 @@
+/** The CLI shell: output formats, help, exit codes and error messages (no stack traces). */
+import { spawnSync } from 'node:child_process';
+import { mkdtempSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { main, readTextFile } from '../src/cli/main.js';
+
+async function run(argv: string[]) {
+  let out = '';
+  let err = '';
+  const code = await main(argv, { out: (t) => (out += t), err: (t) => (err += t), readText: readTextFile });
+  return { code, out, err };
+}
+
+const tmp = mkdtempSync(join(tmpdir(), 'shimmy-cli-'));
+
+describe('shimmy count', () => {
+  it('--json prints exactly one JSON object with the promised fields', async () => {
+    const r = await run(['count', 'gallery:kagome', '--cells', '4x6', '--bc', 'periodic', '--json']);
+    expect(r.code).toBe(0);
+    expect(r.err).toBe('');
+    const o = JSON.parse(r.out);
+    // kagome periodic N1×N2: N1 + N2 + gcd(N1, N2) = 12 (Sun, Souslov, Mao & Lubensky, PNAS 2012)
+    expect(o).toMatchObject({ joints: 72, bars: 144, flexes: 12, trivialFlexes: 2, selfStresses: 12 });
+    expect(o.maxwellCalladine).toEqual({ lhs: 0, rhs: 0, ok: true });
+    expect(o.tolerance.relative).toBe(1e-9);
+    expect(o.tolerance.absolute).toBeCloseTo(1e-9 * o.sigmaMax, 20);
+    expect(Object.keys(o.gap).sort()).toEqual(['ambiguous', 'dropped', 'kept', 'ratio']);
+    expect(o.gap.kept).toBeGreaterThan(o.tolerance.absolute);
+    expect(o.gap.dropped).toBeLessThanOrEqual(o.tolerance.absolute);
+    expect(o.gap.ratio).toBeCloseTo(o.gap.kept / o.gap.dropped, 0);
+    expect(o.caution).toMatch(/first-order/);
+  });
+
+  it('the table names every count, the tolerance, the gap and the caution', async () => {
+    const r = await run(['count', 'gallery:square', '--cells', '4x5']);
+    expect(r.code).toBe(0);
+    for (const word of ['joints', 'flexes', 'trivial', 'self-stresses', 'Maxwell–Calladine', 'tolerance', 'gap', 'Caution']) expect(r.out).toContain(word);
+    // square grid free 4×5 joints: 9 flexes (Bolker & Crapo 1979)
+    expect(r.out).toMatch(/flexes\s+9\n/);
+  });
+
+  it('--tol changes the cut and is reported', async () => {
+    const r = await run(['count', 'gallery:square', '--cells', '3x3', '--tol', '1e-6', '--json']);
+    expect(JSON.parse(r.out).tolerance.relative).toBe(1e-6);
+  });
+
+  it('warns when the gap is narrow (rank ambiguous)', async () => {
+    // Two nearly flat triangles, apexes lifted by 3e-6 and 1e-6 above their bases: each has
+    // one tiny singular value (proportional to the lift). A cut between them (1e-6 × σ_max,
+    // σ_max = 3) keeps one and drops the other, so the gap ratio is about 3, far under 1e4.
+    const f = join(tmp, 'thin.json');
+    const joints = [['A', 0, 0], ['B', 2, 0], ['C', 1, 3e-6], ['D', 0, 3], ['E', 2, 3], ['F', 1, 3 + 1e-6]].map(([id, x, y]) => ({ id, at: [x, y] }));
+    const bars = ['AB', 'BC', 'AC', 'DE', 'EF', 'DF'].map((p) => ({ from: p[0], to: p[1], shift: [0, 0] }));
+    writeFileSync(f, JSON.stringify({ lattice: [[10, 0], [0, 10]], joints, bars }));
+    const r = await run(['count', f, '--cells', '1x1', '--tol', '1e-6', '--json']);
+    const o = JSON.parse(r.out);
+    expect(o.gap.ratio).toBeGreaterThan(1);
+    expect(o.gap.ratio).toBeLessThan(10);
+    expect(o.gap.ambiguous).toBe(true);
+    expect(o.warnings[0]).toMatch(/ambiguous/);
+    const table = await run(['count', f, '--cells', '1x1', '--tol', '1e-6']);
+    expect(table.out).toMatch(/Warning: .*ambiguous/);
+  });
+});
+
+describe('help and errors', () => {
+  it('shimmy --help lists the commands; count --help lists its flags', async () => {
+    const top = await run(['--help']);
+    expect(top.code).toBe(0);
+    expect(top.out).toContain('count');
+    const c = await run(['count', '--help']);
+    expect(c.code).toBe(0);
+    for (const flag of ['--cells', '--bc', '--tol', '--json']) expect(c.out).toContain(flag);
+  });
+
+  it.each([
+    [['count', 'gallery:kagome', '--cellz', '4x4'], '--cellz'],
+    [['count', 'gallery:kagome', '--cells', '4by4'], '--cells'],
+    [['count', 'gallery:kagome', '--cells', '0x3'], '--cells'],
+    [['count', 'gallery:kagome', '--bc', 'sticky'], '--bc'],
+    [['count', 'gallery:kagome', '--tol', 'tiny'], '--tol'],
+    [['count', 'gallery:kagome', '--cells'], '--cells'],
+    [['count', 'gallery:nonesuch'], 'nonesuch'],
+    [['count', join(tmp, 'missing.json')], 'no such file'],
+    [['count'], 'FRAMEWORK'],
+    [['frobnicate'], 'frobnicate'],
+  ])('%j exits 2 naming %s', async (argv, needle) => {
+    const r = await run(argv);
+    expect(r.code).toBe(2);
+    expect(r.out).toBe('');
+    expect(r.err).toContain(needle);
+    expect(r.err).not.toMatch(/\n\s+at /); // no stack trace
+  });
+
+  it('an invalid framework file lists every problem and exits 2', async () => {
+    const f = join(tmp, 'bad.json');
+    writeFileSync(f, JSON.stringify({ lattice: [[1, 0], [2, 0]], joints: [{ id: 'A', at: [0, 0] }], bars: [{ from: 'A', to: 'Q', shift: [1, 0.5] }] }));
+    const r = await run(['count', f]);
+    expect(r.code).toBe(2);
+    expect(r.err).toContain('lattice');
+    expect(r.err).toContain('bars[0].to');
+    expect(r.err).toContain('bars[0].shift[1]');
+  });
+
+  it('refuses a dense problem too large for memory, with an estimate', async () => {
+    const r = await run(['count', 'gallery:kagome', '--cells', '200x200', '--bc', 'twist:0.1,0.2']);
+    expect(r.code).toBe(3);
+    expect(r.err).toMatch(/about [\d.]+ GB/);
+    expect(r.err).not.toMatch(/\n\s+at /);
+  });
+});
+
+describe('the installed command', () => {
+  it('bin/shimmy.js runs the CLI through tsx and sets the exit code', () => {
+    const ok = spawnSync(process.execPath, ['bin/shimmy.js', 'count', 'gallery:square', '--cells', '3x3', '--json'], { encoding: 'utf8' });
+    expect(ok.status).toBe(0);
+    expect(JSON.parse(ok.stdout).flexes).toBe(6); // 3×3 joints: a + b = 6 (Bolker & Crapo 1979)
+    const bad = spawnSync(process.execPath, ['bin/shimmy.js', 'count', 'gallery:square', '--bc', 'nope'], { encoding: 'utf8' });
+    expect(bad.status).toBe(2);
+    expect(bad.stderr).toContain('--bc');
+    expect(bad.stderr).not.toMatch(/\n\s+at /);
+  }, 30000);
+});
