@@ -1,5 +1,5 @@
 /**
- * Flex and self-stress spaces of a supercell on the dense reference path.
+ * Flex and self-stress spaces of a supercell.
  *
  *   flexes        = dim ker R       (infinitesimal motions, rigid ones included)
  *   self-stresses = dim ker Rᴴ      (bar tensions in equilibrium with zero load)
@@ -9,18 +9,24 @@
  *   flexes − self-stresses = 2·joints − bars  (an exact identity of the counts).
  */
 import { Matrix, SingularValueDecomposition } from 'ml-matrix';
-import { checkDenseFits, nullSpace, singularValues, DENSE_MEMORY_LIMIT, type NullBasis } from '../linalg/dense.js';
-import { decideRank, DEFAULT_RELATIVE_TOLERANCE, type Gap } from '../linalg/rank.js';
-import { conjugateTranspose, sparseMatVec, type SparseMatrix } from '../linalg/sparse.js';
+import { DENSE_MEMORY_LIMIT, type NullBasis } from '../linalg/dense.js';
+import { DEFAULT_RELATIVE_TOLERANCE, type Gap } from '../linalg/rank.js';
+import { sparseMatVec, type SparseMatrix } from '../linalg/sparse.js';
 import { rigidityMatrix } from '../supercell/rigidity.js';
 import type { Supercell } from '../supercell/supercell.js';
 import { rigidMotions, type RigidMotion } from './rigid.js';
+import { chooseSolver } from './solvers.js';
+import type { Progress, SolverChoice, SolverName } from './solver.js';
 
 export interface AnalysisOptions {
   /** Relative rank tolerance (× σ_max); default 1e-9. */
   tolerance?: number;
-  /** Bytes the dense solver may use; default 1.5 GB. */
+  /** Bytes a solver may use; default 1.5 GB. */
   memoryLimit?: number;
+  /** Which solver; default 'auto' (picked by size and structure, reported in `solver`). */
+  solver?: SolverChoice;
+  onProgress?: (p: Progress) => void;
+  signal?: AbortSignal;
 }
 
 export interface FlexCounts {
@@ -37,10 +43,13 @@ export interface FlexCounts {
   tolerance: { relative: number; absolute: number };
   sigmaMax: number;
   gap: Gap;
+  gapNote?: string;
   maxwellCalladine: { lhs: number; rhs: number; ok: boolean };
   /** Whether the rigidity matrix is real (every phase ±1). */
   real: boolean;
-  solver: 'dense';
+  solver: SolverName;
+  /** Why `solver` was picked. */
+  solverReason: string;
   groundedBars: number;
   droppedBars: number;
 }
@@ -53,7 +62,7 @@ export interface FlexAnalysis extends FlexCounts {
   selfStressBasis(): NullBasis;
 }
 
-/** Number of independent columns of R·T for orthonormal rigid fields T, at the same absolute tolerance. */
+/** Number of independent columns of R·T for orthonormal rigid fields T, at the given absolute tolerance. */
 function rigidRank(R: SparseMatrix, motions: RigidMotion[], absTol: number): number {
   if (motions.length === 0 || R.rows === 0) return 0;
   const RT = new Matrix(Math.max(R.rows, motions.length), motions.length);
@@ -70,16 +79,13 @@ export function analyseSupercell(sc: Supercell, options: AnalysisOptions = {}): 
   const R = rigidityMatrix(sc);
   const m = R.rows;
   const n = R.cols;
-  checkDenseFits(m, n, !sc.real, false, options.memoryLimit ?? DENSE_MEMORY_LIMIT);
-  const sigma = singularValues(R);
-  const decision = decideRank(sigma, m, n, relative);
+  const { solve, name, reason } = chooseSolver(sc, R, options.solver ?? 'auto');
+  const spaces = solve(sc, R, { relative, memoryLimit: options.memoryLimit ?? DENSE_MEMORY_LIMIT, onProgress: options.onProgress, signal: options.signal });
+  const decision = spaces.decision;
   const flexes = n - decision.rank;
   const selfStresses = m - decision.rank;
   const motions = sc.real ? rigidMotions(sc) : [];
   const trivialFlexes = motions.length - rigidRank(R, motions, decision.tolerance.absolute);
-  let flexCache: NullBasis | undefined;
-  let stressCache: NullBasis | undefined;
-  const limit = options.memoryLimit ?? DENSE_MEMORY_LIMIT;
   return {
     joints: sc.jointCount,
     bars: m,
@@ -92,26 +98,16 @@ export function analyseSupercell(sc: Supercell, options: AnalysisOptions = {}): 
     tolerance: decision.tolerance,
     sigmaMax: decision.sigmaMax,
     gap: decision.gap,
+    ...(spaces.gapNote ? { gapNote: spaces.gapNote } : {}),
     maxwellCalladine: { lhs: flexes - selfStresses, rhs: 2 * sc.jointCount - m, ok: flexes - selfStresses === 2 * sc.jointCount - m },
     real: sc.real,
-    solver: 'dense',
+    solver: name,
+    solverReason: reason,
     groundedBars: sc.grounded,
     droppedBars: sc.dropped,
     matrix: R,
-    flexBasis() {
-      if (!flexCache) {
-        checkDenseFits(m, n, !sc.real, true, limit);
-        flexCache = nullSpace(R, flexes);
-      }
-      return flexCache;
-    },
-    selfStressBasis() {
-      if (!stressCache) {
-        checkDenseFits(n, m, !sc.real, true, limit);
-        stressCache = nullSpace(conjugateTranspose(R), selfStresses);
-      }
-      return stressCache;
-    },
+    flexBasis: () => spaces.flexBasis(),
+    selfStressBasis: () => spaces.selfStressBasis(),
   };
 }
 

@@ -1,0 +1,55 @@
+/**
+ * What a solver for the flex and self-stress spaces provides. The dense SVD is the reference;
+ * faster solvers (Bloch block-diagonalisation, sparse factorisations) must give identical counts
+ * and spaces wherever both run.
+ */
+import type { NullBasis } from '../linalg/dense.js';
+import type { RankDecision } from '../linalg/rank.js';
+import type { SparseMatrix } from '../linalg/sparse.js';
+import type { Supercell } from '../supercell/supercell.js';
+
+export type SolverName = 'dense' | 'bloch' | 'sparse';
+export type SolverChoice = SolverName | 'auto';
+export const SOLVER_CHOICES: SolverChoice[] = ['auto', 'dense', 'bloch', 'sparse'];
+
+export interface Progress {
+  /** Fraction done in [0, 1]. */
+  fraction: number;
+  /** What is being done, e.g. "factorising". */
+  stage: string;
+}
+
+export interface SolveOptions {
+  /** Relative rank tolerance (× σ_max). */
+  relative: number;
+  /** Bytes the solver may allocate. */
+  memoryLimit: number;
+  onProgress?: (p: Progress) => void;
+  signal?: AbortSignal;
+}
+
+export interface SolvedSpaces {
+  solver: SolverName;
+  /** rank, tolerance and the singular-value gap around the cut. */
+  decision: RankDecision;
+  /** How the gap figures were obtained, when not plain singular values of R. */
+  gapNote?: string;
+  /** Orthonormal flex basis (ker R), dimension cols − rank; computed on first call. */
+  flexBasis(): NullBasis;
+  /** Orthonormal self-stress basis (ker Rᴴ), dimension rows − rank; computed on first call. */
+  selfStressBasis(): NullBasis;
+}
+
+export type SpaceSolver = (sc: Supercell, R: SparseMatrix, options: SolveOptions) => SolvedSpaces;
+
+/** Thrown when a run is cancelled through its AbortSignal. */
+export class CancelledError extends Error {
+  constructor() {
+    super('The computation was cancelled.');
+    this.name = 'CancelledError';
+  }
+}
+
+export function throwIfAborted(signal?: AbortSignal): void {
+  if (signal?.aborted) throw new CancelledError();
+}
