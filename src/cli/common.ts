@@ -5,6 +5,7 @@ import { InputError } from '../errors.js';
 import { parseBoundary, type Boundary } from '../supercell/boundary.js';
 import { parseCells, parseNumberFlag, type FlagSpec, type ParsedArgs } from './args.js';
 import type { CliIO } from './command.js';
+import { SOLVER_CHOICES, type SolverChoice } from '../flex/solver.js';
 
 export const FRAMEWORK_HELP = [
   'FRAMEWORK is a framework file (JSON, see schema/framework.schema.json) or a built-in lattice',
@@ -24,6 +25,7 @@ export const SUPERCELL_FLAGS: FlagSpec[] = [
   { name: '--cells', value: 'N1xN2', help: 'supercell size in unit cells', default: '8x8' },
   { name: '--bc', value: 'SPEC', help: 'boundary rules, see below', default: 'free' },
   { name: '--tol', value: 'T', help: 'relative rank tolerance: σ counts as zero when σ ≤ T·σ_max', default: '1e-9' },
+  { name: '--solver', value: 'NAME', help: 'auto | dense | bloch | sparse (auto picks by size and structure and says which)', default: 'auto' },
 ];
 
 export interface SupercellArgs {
@@ -33,6 +35,7 @@ export interface SupercellArgs {
   boundary: Boundary;
   bcText: string;
   tolerance: number;
+  solver: SolverChoice;
 }
 
 export function frameworkArg(args: ParsedArgs, command: string): string {
@@ -50,6 +53,12 @@ export function readSupercellArgs(args: ParsedArgs, io: CliIO, command: string):
   const cellsText = (args.flags.get('--cells') as string | undefined) ?? '8x8';
   const bcText = (args.flags.get('--bc') as string | undefined) ?? 'free';
   const tolText = args.flags.get('--tol') as string | undefined;
+  const solverText = (args.flags.get('--solver') as string | undefined) ?? 'auto';
+  if (!(SOLVER_CHOICES as string[]).includes(solverText)) {
+    throw new InputError(`The solver "${solverText}" cannot be used:`, [
+      { where: '--solver', what: `"${solverText}" is not a solver`, fix: `write --solver followed by one of ${SOLVER_CHOICES.join(', ')}` },
+    ]);
+  }
   const framework = loadFramework(spec, io.readText);
   return {
     spec,
@@ -57,6 +66,7 @@ export function readSupercellArgs(args: ParsedArgs, io: CliIO, command: string):
     cells: parseCells(cellsText),
     boundary: parseBoundary(bcText),
     bcText,
+    solver: solverText as SolverChoice,
     tolerance: tolText === undefined ? 1e-9 : parseNumberFlag(tolText, '--tol', (v) => v >= 0 && v < 1, 'a number from 0 up to (not including) 1, e.g. 1e-9'),
   };
 }

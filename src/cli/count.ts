@@ -16,7 +16,7 @@ export const countCommand: Command = {
   details: [...FRAMEWORK_HELP, '', ...BOUNDARY_HELP],
   run(args, io) {
     const a = readSupercellArgs(args, io, 'count');
-    const { analysis } = count({ framework: a.framework, cells: a.cells, boundary: a.boundary, tolerance: a.tolerance });
+    const { analysis } = count({ framework: a.framework, cells: a.cells, boundary: a.boundary, tolerance: a.tolerance, solver: a.solver });
     const c = countsOf(analysis);
     const ambiguous = c.gap.ambiguous;
     if (args.flags.has('--json')) {
@@ -46,10 +46,12 @@ export const countCommand: Command = {
           ['  non-trivial', String(c.flexes - c.trivialFlexes)],
           ['self-stresses', String(c.selfStresses)],
           ['Maxwell–Calladine', `flexes − self-stresses = ${mc.lhs}, 2·joints − bars = ${mc.rhs} ${mc.ok ? '(holds)' : '(FAILS)'}`],
-          ['rank', `${c.rank} of ${c.dof} columns, ${c.real ? 'real' : 'complex'} matrix, ${c.solver} SVD`],
+          ['rank', `${c.rank} of ${c.dof} columns, ${c.real ? 'real' : 'complex'} matrix`],
+          ['solver', `${c.solver} (${c.solverReason})`],
           ['tolerance', `σ ≤ ${c.tolerance.relative} × σ_max = ${fmt(c.tolerance.absolute)} counts as zero`],
           ['gap', `smallest kept σ ${fmt(c.gap.kept)}, largest dropped σ ${fmt(c.gap.dropped)}, ratio ${c.gap.ratio === null ? 'unbounded' : fmt(c.gap.ratio, 3)}`],
         ]) +
+        (c.gapNote ? `  (${c.gapNote})\n` : '') +
         (ambiguous ? `\nWarning: ${ambiguityWarning(c.gap.ratio)}\n` : '') +
         `\n${CAUTION}\n`,
     );
