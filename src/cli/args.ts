@@ -3,6 +3,7 @@
  * stray arguments are InputErrors naming the flag and the fix.
  */
 import { InputError } from '../errors.js';
+import { closestWord } from '../suggest.js';
 
 export interface FlagSpec {
   name: string;
@@ -17,30 +18,10 @@ export interface ParsedArgs {
   flags: Map<string, string | true>;
 }
 
-function closest(word: string, options: string[]): string | undefined {
-  let best: string | undefined;
-  let bestD = Infinity;
-  for (const o of options) {
-    const d = editDistance(word, o);
-    if (d < bestD) {
-      bestD = d;
-      best = o;
-    }
-  }
-  return bestD <= Math.max(2, Math.floor(word.length / 3)) ? best : undefined;
-}
 
-export function editDistance(a: string, b: string): number {
-  const d = Array.from({ length: a.length + 1 }, (_, i) => [i, ...Array(b.length).fill(0)]);
-  for (let j = 1; j <= b.length; j++) d[0][j] = j;
-  for (let i = 1; i <= a.length; i++)
-    for (let j = 1; j <= b.length; j++)
-      d[i][j] = Math.min(d[i - 1][j] + 1, d[i][j - 1] + 1, d[i - 1][j - 1] + (a[i - 1] === b[j - 1] ? 0 : 1));
-  return d[a.length][b.length];
-}
 
 export function suggest(word: string, options: string[]): string {
-  const c = closest(word, options);
+  const c = closestWord(word, options);
   return c ? ` (did you mean ${c}?)` : '';
 }
 

@@ -7,6 +7,7 @@
  * units; each entry's summary states its bond length.
  */
 import { InputError, type Problem } from '../errors.js';
+import { closestWord } from '../suggest.js';
 import type { Bar, Framework, Joint, Vec2 } from './types.js';
 
 export interface GalleryParam {
@@ -478,36 +479,10 @@ function knownNames(): string {
   return GALLERY.map((e) => e.name).join(', ');
 }
 
-/** Levenshtein distance, for "did you mean" hints. */
-function editDistance(a: string, b: string): number {
-  const prev = Array.from({ length: b.length + 1 }, (_, j) => j);
-  for (let i = 1; i <= a.length; i++) {
-    let diag = prev[0];
-    prev[0] = i;
-    for (let j = 1; j <= b.length; j++) {
-      const keep = prev[j];
-      prev[j] = Math.min(prev[j] + 1, prev[j - 1] + 1, diag + (a[i - 1] === b[j - 1] ? 0 : 1));
-      diag = keep;
-    }
-  }
-  return prev[b.length];
-}
 
-function closest(word: string, candidates: string[]): string | undefined {
-  let best: string | undefined;
-  let bestDist = Infinity;
-  for (const c of candidates) {
-    const d = editDistance(word.toLowerCase(), c.toLowerCase());
-    if (d < bestDist) {
-      bestDist = d;
-      best = c;
-    }
-  }
-  return best;
-}
 
 function unknownNameProblem(name: string): Problem {
-  const guess = closest(name, GALLERY.map((e) => e.name));
+  const guess = closestWord(name, GALLERY.map((e) => e.name), true);
   return {
     where: `gallery name "${name}"`,
     what: `there is no gallery lattice called "${name}" (known: ${knownNames()})`,
@@ -545,7 +520,7 @@ function unknownKeyProblem(def: Definition, key: string): Problem {
       fix: `remove "${key}" (write just ${GALLERY_PREFIX}${def.name})`,
     };
   }
-  const guess = closest(key, def.params.map((q) => q.key));
+  const guess = closestWord(key, def.params.map((q) => q.key), true);
   return {
     where: `${GALLERY_PREFIX}${def.name} parameter "${key}"`,
     what: `${def.name} has no parameter "${key}"`,

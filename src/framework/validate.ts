@@ -17,6 +17,7 @@
  * is either accepted as written or reported.
  */
 import { InputError, type Problem } from '../errors.js';
+import { closestWord as closest } from '../suggest.js';
 import type { Bar, Framework, Joint, Vec2 } from './types.js';
 
 const TOP_LEVEL = '(top level)';
@@ -124,40 +125,7 @@ function describe(v: unknown): string {
   return `a value of type ${typeof v}`;
 }
 
-/** Levenshtein distance, case-insensitive. */
-function editDistance(a: string, b: string): number {
-  const s = a.toLowerCase();
-  const t = b.toLowerCase();
-  const prev = new Array<number>(t.length + 1);
-  for (let j = 0; j <= t.length; j++) prev[j] = j;
-  for (let i = 1; i <= s.length; i++) {
-    let diag = prev[0];
-    prev[0] = i;
-    for (let j = 1; j <= t.length; j++) {
-      const up = prev[j];
-      prev[j] = Math.min(up + 1, prev[j - 1] + 1, diag + (s[i - 1] === t[j - 1] ? 0 : 1));
-      diag = up;
-    }
-  }
-  return prev[t.length];
-}
 
-/** The closest of `candidates` to `word`, if it is close enough to be a likely typo. */
-function closest(word: string, candidates: readonly string[]): string | undefined {
-  let best: string | undefined;
-  let bestD = Infinity;
-  for (const c of candidates) {
-    const d = editDistance(word, c);
-    if (d < bestD) {
-      bestD = d;
-      best = c;
-    }
-  }
-  if (best === undefined) return undefined;
-  // one edit per three letters; very short names only match when they differ in case alone
-  const limit = Math.floor(Math.max(word.length, best.length) / 3);
-  return bestD <= limit ? best : undefined;
-}
 
 function suggestField(key: string, known: readonly string[]): string | undefined {
   const syn = (SYNONYMS[key.toLowerCase()] ?? []).find((c) => known.includes(c));
