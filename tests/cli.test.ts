@@ -105,7 +105,7 @@ describe('help and errors', () => {
   });
 
   it('refuses a dense problem too large for memory, with an estimate', async () => {
-    const r = await run(['count', 'gallery:kagome', '--cells', '200x200', '--bc', 'twist:0.1,0.2']);
+    const r = await run(['count', 'gallery:kagome', '--cells', '200x200', '--bc', 'twist:0.1,0.2', '--solver', 'dense']);
     expect(r.code).toBe(3);
     expect(r.err).toMatch(/about [\d.]+ GB/);
     expect(r.err).not.toMatch(/\n\s+at /);

@@ -8,8 +8,9 @@ import { parseArgs, suggest } from './args.js';
 import { commandHelp, type CliIO, type Command } from './command.js';
 import { countCommand } from './count.js';
 import { galleryCommand } from './gallery.js';
+import { spectrumCommand } from './spectrum.js';
 
-export const COMMANDS: Command[] = [countCommand, galleryCommand];
+export const COMMANDS: Command[] = [countCommand, spectrumCommand, galleryCommand];
 
 const VERSION = '0.1.0';
 

@@ -5,19 +5,26 @@
 import { InputError } from '../errors.js';
 import type { SparseMatrix } from '../linalg/sparse.js';
 import type { Supercell } from '../supercell/supercell.js';
+import { blochSolver } from '../spectrum/bloch.js';
 import { denseSolver } from './solve-dense.js';
 import type { SolverChoice, SolverName, SpaceSolver } from './solver.js';
 
 const SOLVERS: Partial<Record<SolverName, SpaceSolver>> = {
   dense: denseSolver,
+  bloch: blochSolver,
 };
 
 export function availableSolvers(): SolverName[] {
   return Object.keys(SOLVERS) as SolverName[];
 }
 
-export function chooseSolver(_sc: Supercell, _R: SparseMatrix, choice: SolverChoice): { solve: SpaceSolver; name: SolverName; reason: string } {
-  if (choice === 'auto') return { solve: denseSolver, name: 'dense', reason: 'auto: the dense reference path' };
+export function chooseSolver(sc: Supercell, _R: SparseMatrix, choice: SolverChoice): { solve: SpaceSolver; name: SolverName; reason: string } {
+  if (choice === 'auto') {
+    const twisted = [sc.boundary.x, sc.boundary.y].filter((r) => r.kind === 'twist').length;
+    if (twisted === 2) return { solve: blochSolver, name: 'bloch', reason: 'auto: both axes twisted, one unit-cell block per Bloch phase' };
+    if (twisted === 1) return { solve: blochSolver, name: 'bloch', reason: 'auto: one twisted axis, one strip problem per Bloch phase' };
+    return { solve: denseSolver, name: 'dense', reason: 'auto: open boundaries, dense reference path' };
+  }
   const solve = SOLVERS[choice];
   if (!solve) {
     throw new InputError(`The solver "${choice}" cannot be used:`, [

@@ -14,45 +14,70 @@ export interface SparseMatrix {
 
 /** Accumulates entries row by row; entries landing on the same (row, col) are summed. */
 export class SparseBuilder {
-  private readonly rowsOut: Array<Map<number, [number, number]>> = [];
+  private rowOf: number[] = [];
+  private colOf: number[] = [];
+  private reOf: number[] = [];
+  private imOf: number[] = [];
+  private rowCount = 0;
   constructor(readonly cols: number) {}
 
   /** Start a new row and return its index. */
   newRow(): number {
-    this.rowsOut.push(new Map());
-    return this.rowsOut.length - 1;
+    return this.rowCount++;
   }
 
   add(row: number, col: number, re: number, im = 0): void {
-    const m = this.rowsOut[row];
-    const cur = m.get(col);
-    if (cur) {
-      cur[0] += re;
-      cur[1] += im;
-    } else m.set(col, [re, im]);
+    this.rowOf.push(row);
+    this.colOf.push(col);
+    this.reOf.push(re);
+    this.imOf.push(im);
   }
 
   /** Build the CSR matrix; `complex` false drops imaginary parts (the caller guarantees they are 0). */
   build(complex: boolean): SparseMatrix {
-    let nnz = 0;
-    for (const m of this.rowsOut) nnz += m.size;
-    const rowPtr = new Int32Array(this.rowsOut.length + 1);
-    const colIdx = new Int32Array(nnz);
-    const re = new Float64Array(nnz);
-    const im = complex ? new Float64Array(nnz) : null;
-    let k = 0;
-    this.rowsOut.forEach((m, r) => {
-      const cols = [...m.keys()].sort((a, b) => a - b);
-      for (const c of cols) {
-        const v = m.get(c)!;
-        colIdx[k] = c;
-        re[k] = v[0];
-        if (im) im[k] = v[1];
-        k++;
+    const rows = this.rowCount;
+    const n = this.rowOf.length;
+    // counting sort by row, then sort each row's few entries by column and merge duplicates
+    const start = new Int32Array(rows + 1);
+    for (let k = 0; k < n; k++) start[this.rowOf[k] + 1]++;
+    for (let r = 0; r < rows; r++) start[r + 1] += start[r];
+    const fill = start.slice(0, rows);
+    const order = new Int32Array(n);
+    for (let k = 0; k < n; k++) order[fill[this.rowOf[k]]++] = k;
+    const rowPtr = new Int32Array(rows + 1);
+    const colIdx = new Int32Array(n);
+    const re = new Float64Array(n);
+    const im = complex ? new Float64Array(n) : null;
+    let out = 0;
+    for (let r = 0; r < rows; r++) {
+      // insertion sort of the row's few entries by column (stable)
+      const lo = start[r];
+      const hi = start[r + 1];
+      for (let p = lo + 1; p < hi; p++) {
+        const k = order[p];
+        let q = p - 1;
+        while (q >= lo && this.colOf[order[q]] > this.colOf[k]) {
+          order[q + 1] = order[q];
+          q--;
+        }
+        order[q + 1] = k;
       }
-      rowPtr[r + 1] = k;
-    });
-    return { rows: this.rowsOut.length, cols: this.cols, rowPtr, colIdx, re, im };
+      for (let p = lo; p < hi; p++) {
+        const k = order[p];
+        const c = this.colOf[k];
+        if (out > rowPtr[r] && colIdx[out - 1] === c) {
+          re[out - 1] += this.reOf[k];
+          if (im) im[out - 1] += this.imOf[k];
+          continue;
+        }
+        colIdx[out] = c;
+        re[out] = this.reOf[k];
+        if (im) im[out] = this.imOf[k];
+        out++;
+      }
+      rowPtr[r + 1] = out;
+    }
+    return { rows, cols: this.cols, rowPtr, colIdx: colIdx.slice(0, out), re: re.slice(0, out), im: im ? im.slice(0, out) : null };
   }
 }
 

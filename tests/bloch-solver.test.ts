@@ -1,0 +1,222 @@
+/**
+ * The Bloch reduction solver against the dense reference path: the same counts, the same gap
+ * and the same flex and self-stress spaces (compared through their orthogonal projectors), on
+ * every gallery lattice and on random frameworks, at several sizes, twists and mixed boundaries.
+ * Block-diagonalisation of a translation-invariant operator by the discrete Fourier transform is
+ * common practice (N. W. Ashcroft & N. D. Mermin, Solid State Physics (1976), ch. 8, from memory).
+ */
+import { describe, expect, it } from 'vitest';
+import { InputError } from '../src/errors.js';
+import { denseSolver } from '../src/flex/solve-dense.js';
+import { CancelledError, type SolvedSpaces } from '../src/flex/solver.js';
+import { GALLERY } from '../src/framework/gallery.js';
+import type { Framework } from '../src/framework/types.js';
+import type { CVec } from '../src/linalg/complex.js';
+import { conjugateTranspose, sparseMatVec, type SparseMatrix } from '../src/linalg/sparse.js';
+import { blochPlan, blochSolver } from '../src/spectrum/bloch.js';
+import { parseBoundary } from '../src/supercell/boundary.js';
+import { rigidityMatrix } from '../src/supercell/rigidity.js';
+import { buildSupercell } from '../src/supercell/supercell.js';
+import { randomFramework } from './helpers.js';
+
+const OPTIONS = { relative: 1e-9, memoryLimit: 1.5 * 1024 ** 3 };
+
+/**
+ * ‖P_a − P_b‖_F for orthonormal bases of equal dimension: √2 · ‖(I − P_a) b‖_F, computed from
+ * the residuals of projecting b onto span a (accurate down to rounding, unlike √(2k − 2‖aᴴb‖²)).
+ */
+function projectorDistance(a: CVec[], b: CVec[]): number {
+  let sum = 0;
+  for (const v of b) {
+    const rr = Float64Array.from(v.re);
+    const ri = Float64Array.from(v.im);
+    for (const u of a) {
+      let sr = 0;
+      let si = 0;
+      for (let i = 0; i < u.re.length; i++) {
+        sr += u.re[i] * v.re[i] + u.im[i] * v.im[i];
+        si += u.re[i] * v.im[i] - u.im[i] * v.re[i];
+      }
+      for (let i = 0; i < u.re.length; i++) {
+        rr[i] -= sr * u.re[i] - si * u.im[i];
+        ri[i] -= sr * u.im[i] + si * u.re[i];
+      }
+    }
+    for (let i = 0; i < rr.length; i++) sum += rr[i] ** 2 + ri[i] ** 2;
+  }
+  return Math.SQRT2 * Math.sqrt(sum);
+}
+
+/** max |⟨u_k, u_l⟩ − δ_kl| */
+function orthonormalityError(a: CVec[]): number {
+  let worst = 0;
+  for (let k = 0; k < a.length; k++)
+    for (let l = k; l < a.length; l++) {
+      let sr = 0;
+      let si = 0;
+      for (let i = 0; i < a[k].re.length; i++) {
+        sr += a[k].re[i] * a[l].re[i] + a[k].im[i] * a[l].im[i];
+        si += a[k].re[i] * a[l].im[i] - a[k].im[i] * a[l].re[i];
+      }
+      worst = Math.max(worst, Math.hypot(sr - (k === l ? 1 : 0), si));
+    }
+  return worst;
+}
+
+/** max ‖A u‖ over the basis. */
+function residual(A: SparseMatrix, a: CVec[]): number {
+  let worst = 0;
+  for (const u of a) {
+    const y = sparseMatVec(A, u.re, u.im);
+    let s = 0;
+    for (let i = 0; i < y.re.length; i++) s += y.re[i] ** 2 + y.im[i] ** 2;
+    worst = Math.max(worst, Math.sqrt(s));
+  }
+  return worst;
+}
+
+function compare(fw: Framework, cells: [number, number], bc: string): void {
+  const sc = buildSupercell(fw, cells, parseBoundary(bc));
+  const R = rigidityMatrix(sc);
+  const b: SolvedSpaces = blochSolver(sc, R, OPTIONS);
+  const d: SolvedSpaces = denseSolver(sc, R, OPTIONS);
+  const where = `${fw.name} ${cells.join('x')} ${bc}`;
+  const smax = d.decision.sigmaMax;
+  expect(b.solver, where).toBe('bloch');
+  expect(b.decision.rank, where).toBe(d.decision.rank);
+  expect(Math.abs(b.decision.sigmaMax - smax), where).toBeLessThanOrEqual(1e-12 * smax);
+  expect(b.decision.tolerance.relative, where).toBe(d.decision.tolerance.relative);
+  expect(Math.abs(b.decision.tolerance.absolute - d.decision.tolerance.absolute), where).toBeLessThanOrEqual(1e-20 + 1e-12 * d.decision.tolerance.absolute);
+  // Smallest kept σ: a genuine singular value, equal to 1e-12 relative.
+  const gb = b.decision.gap;
+  const gd = d.decision.gap;
+  if (gd.kept === null) expect(gb.kept, where).toBeNull();
+  else expect(Math.abs(gb.kept! - gd.kept), where).toBeLessThanOrEqual(1e-12 * smax);
+  // Largest dropped σ: 0 for structural zeros, null when nothing is dropped, else a rounding
+  // level value that both paths put below 1e-12 · σ_max (its digits are noise on either path).
+  if (gd.dropped === null || gd.dropped === 0) expect(gb.dropped, where).toBe(gd.dropped);
+  else {
+    expect(gb.dropped, where).not.toBeNull();
+    expect(Math.abs(gb.dropped! - gd.dropped), where).toBeLessThanOrEqual(1e-12 * smax);
+  }
+  expect(gb.ambiguous, where).toBe(gd.ambiguous);
+
+  for (const which of ['flex', 'stress'] as const) {
+    const vb = which === 'flex' ? b.flexBasis() : b.selfStressBasis();
+    const vd = which === 'flex' ? d.flexBasis() : d.selfStressBasis();
+    const A = which === 'flex' ? R : conjugateTranspose(R);
+    const w = `${where} ${which}`;
+    expect(vb.vectors.length, w).toBe(which === 'flex' ? R.cols - d.decision.rank : R.rows - d.decision.rank);
+    expect(vb.vectors.length, w).toBe(vd.vectors.length);
+    expect(vb.real, w).toBe(vd.real);
+    expect(vb.real, w).toBe(sc.real);
+    if (vb.real) for (const v of vb.vectors) expect(v.im.every((x) => x === 0), w).toBe(true);
+    expect(orthonormalityError(vb.vectors), w).toBeLessThan(1e-12);
+    expect(residual(A, vb.vectors), w).toBeLessThan(1e-12 * Math.max(1, smax));
+    expect(projectorDistance(vb.vectors, vd.vectors), w).toBeLessThan(1e-9);
+  }
+}
+
+const BOUNDARIES = [
+  'periodic',
+  'twist:0.5,0',
+  'twist:0.5,0.5',
+  'twist:0.3,0.7',
+  'twist:0.25,0',
+  'x=periodic,y=free',
+  'x=twist:0.5,bottom=pinned',
+  'x=twist:0.2,y=pinned',
+  'y=periodic,x=free',
+  'y=twist:0.5,left=pinned',
+  'y=twist:0.35,right=pinned,left=free',
+];
+
+describe('bloch solver equals the dense path on the gallery', () => {
+  for (const entry of GALLERY) {
+    const fw = entry.build({});
+    it(`${entry.name}`, () => {
+      BOUNDARIES.forEach((bc, k) => {
+        compare(fw, [1, 1], bc);
+        compare(fw, k % 2 ? [2, 3] : [3, 2], bc);
+      });
+    });
+  }
+});
+
+describe('bloch solver equals the dense path on random frameworks', () => {
+  const sizes: [number, number][] = [[1, 1], [2, 2], [3, 1], [1, 3], [5, 1], [1, 5], [3, 2]];
+  for (const seed of [3, 7, 19, 42]) {
+    it(`seed ${seed}`, () => {
+      const fw = randomFramework(seed, 2 + (seed % 3), 4 + (seed % 4));
+      // every boundary at two sizes, the sizes cycling so each seed covers all of them
+      BOUNDARIES.forEach((bc, k) => {
+        compare(fw, sizes[(k + seed) % sizes.length], bc);
+        compare(fw, sizes[(k + seed + 3) % sizes.length], bc);
+      });
+    });
+  }
+  it('a larger square supercell, 5×5, periodic and twisted', () => {
+    const fw = GALLERY.find((e) => e.name === 'kagome')!.build({});
+    compare(fw, [5, 5], 'periodic');
+    compare(fw, [5, 4], 'twist:0.5,0.125');
+    compare(fw, [5, 3], 'x=twist:0.5,y=free');
+  });
+});
+
+describe('bloch solver: plan, errors, progress, cancellation', () => {
+  const kagome = GALLERY.find((e) => e.name === 'kagome')!.build({});
+
+  it('the blocks are the single cell twisted by ((θ1+m1)/N1, (θ2+m2)/N2), and strips are 1×N2', () => {
+    const sc = buildSupercell(kagome, [3, 2], parseBoundary('twist:0.3,0.5'));
+    const plan = blochPlan(sc);
+    expect(plan.kind).toBe('both');
+    expect(plan.blocks.length).toBe(6);
+    expect(plan.blockCells).toEqual([1, 1]);
+    const phases = plan.blocks.map((b) => b.phase.map((x) => +x.toFixed(12)));
+    expect(phases).toContainEqual([+(1.3 / 3).toFixed(12), 0.75]);
+    const strip = blochPlan(buildSupercell(kagome, [4, 5], parseBoundary('x=periodic,y=free')));
+    expect(strip.kind).toBe('x');
+    expect(strip.blockCells).toEqual([1, 5]);
+    expect(strip.blocks.map((b) => b.phase[0])).toEqual([0, 0.25, 0.5, 0.75]);
+    // real boundary: φ and −φ are paired; 0 and ½ are their own partners
+    expect(strip.blocks.map((b) => b.conjugate)).toEqual([0, 3, 2, 1]);
+  });
+
+  it('refuses a boundary without a twisted axis, naming --solver', () => {
+    const sc = buildSupercell(kagome, [2, 2], parseBoundary('free'));
+    const run = () => blochSolver(sc, rigidityMatrix(sc), OPTIONS);
+    expect(run).toThrow(InputError);
+    try {
+      run();
+    } catch (e) {
+      const p = (e as InputError).problems[0];
+      expect(p.where).toBe('--solver');
+      expect(p.what).toMatch(/twisted or periodic axis/);
+      expect(p.fix).toMatch(/--solver dense/);
+    }
+  });
+
+  it('reports progress per block and stops on an aborted signal', () => {
+    const sc = buildSupercell(kagome, [3, 2], parseBoundary('periodic'));
+    const R = rigidityMatrix(sc);
+    const seen: number[] = [];
+    blochSolver(sc, R, { ...OPTIONS, onProgress: (p) => seen.push(p.fraction) });
+    expect(seen.length).toBe(6);
+    expect(seen[seen.length - 1]).toBe(1);
+    for (let k = 1; k < seen.length; k++) expect(seen[k]).toBeGreaterThan(seen[k - 1]);
+    const ctl = new AbortController();
+    ctl.abort();
+    expect(() => blochSolver(sc, R, { ...OPTIONS, signal: ctl.signal })).toThrow(CancelledError);
+  });
+
+  it('kagome periodic 4×6: N1 + N2 + gcd(N1, N2) = 12 flexes and self-stresses', () => {
+    // Sun, Souslov, Mao & Lubensky, "Surface phonons, elastic response, and conformal
+    // invariance in twisted kagome lattices", PNAS 109, 12369 (2012): zero modes on the lines
+    // q·e = 0; the N1 + N2 + gcd count of closed straight lines follows from them.
+    const sc = buildSupercell(kagome, [4, 6], parseBoundary('periodic'));
+    const R = rigidityMatrix(sc);
+    const s = blochSolver(sc, R, OPTIONS);
+    expect(R.cols - s.decision.rank).toBe(12);
+    expect(R.rows - s.decision.rank).toBe(12);
+  });
+});
