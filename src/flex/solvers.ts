@@ -7,23 +7,29 @@ import type { SparseMatrix } from '../linalg/sparse.js';
 import type { Supercell } from '../supercell/supercell.js';
 import { blochSolver } from '../spectrum/bloch.js';
 import { denseSolver } from './solve-dense.js';
+import { sparseSolver } from './solve-sparse.js';
 import type { SolverChoice, SolverName, SpaceSolver } from './solver.js';
 
 const SOLVERS: Partial<Record<SolverName, SpaceSolver>> = {
   dense: denseSolver,
   bloch: blochSolver,
+  sparse: sparseSolver,
 };
+
+/** Open supercells with at least this many columns go to the sparse solver (measured crossover). */
+export const SPARSE_MIN_DOF = 200;
 
 export function availableSolvers(): SolverName[] {
   return Object.keys(SOLVERS) as SolverName[];
 }
 
-export function chooseSolver(sc: Supercell, _R: SparseMatrix, choice: SolverChoice): { solve: SpaceSolver; name: SolverName; reason: string } {
+export function chooseSolver(sc: Supercell, R: SparseMatrix, choice: SolverChoice): { solve: SpaceSolver; name: SolverName; reason: string } {
   if (choice === 'auto') {
     const twisted = [sc.boundary.x, sc.boundary.y].filter((r) => r.kind === 'twist').length;
     if (twisted === 2) return { solve: blochSolver, name: 'bloch', reason: 'auto: both axes twisted, one unit-cell block per Bloch phase' };
     if (twisted === 1) return { solve: blochSolver, name: 'bloch', reason: 'auto: one twisted axis, one strip problem per Bloch phase' };
-    return { solve: denseSolver, name: 'dense', reason: 'auto: open boundaries, dense reference path' };
+    if (R.cols >= SPARSE_MIN_DOF) return { solve: sparseSolver, name: 'sparse', reason: `auto: open boundaries and ${R.cols} ≥ ${SPARSE_MIN_DOF} columns, banded factorisation` };
+    return { solve: denseSolver, name: 'dense', reason: `auto: open boundaries and only ${R.cols} columns, dense reference path` };
   }
   const solve = SOLVERS[choice];
   if (!solve) {

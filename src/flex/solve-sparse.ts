@@ -1,0 +1,1409 @@
+/**
+ * The sparse solver for supercells without translation symmetry (free / pinned sides, or any
+ * rigidity matrix): banded factorisations of the Gram matrices instead of a dense SVD.
+ *
+ * Cost. Numbered along the shorter side (row by row, or by reverse Cuthill–McKee when that is
+ * narrower), K = RᴴR is banded with half-bandwidth b ≈ 2S·(N·|s2|max + |s1|max + 1) for N cells
+ * along the numbering direction (for the kagome ≈ 4N). A band factorisation costs about dof·b²/2
+ * multiply-adds and dof·b words: O(N⁴) time and O(N³) memory for an N×N supercell, against O(N⁶)
+ * and O(N⁴) for the dense SVD. A count needs one factorisation plus ~40 single solves (dof·b
+ * each); a basis of k vectors one more factorisation and two k-vector solves (2·dof·b·k).
+ *
+ * Numerics. The rank rule is σ > tol = relative·σ_max on the singular values of R. RᴴR squares
+ * σ: its eigenvalues carry absolute errors of about ε·σ_max², i.e. an eigenvalue of K only tells
+ * σ to about √ε·σ_max ≈ 1e-8·σ_max, coarser than the default cut 1e-9·σ_max. So K is used only to
+ * *find* the small singular subspace; every σ that decides the rank is measured as ‖A v‖ of an
+ * orthonormal Ritz vector v (absolute accuracy ~ε·σ_max, as sharp as the dense path):
+ *
+ *  1. σ_max: Lanczos on RᴴR (no reorthogonalisation is needed for the extreme eigenvalue) until
+ *     the largest Ritz value stalls to 1e-13 relative over 10 steps.
+ *  2. Side: A = R (flexes, K = RᴴR) or A = Rᴴ (self-stresses, K = RRᴴ), whichever is smaller.
+ *     By flexes − self-stresses = cols − rows the smaller side also has the fewer null vectors.
+ *     An inertia count there at τ = (c·σ_max)², c = 1e-3, gives k = #eigenvalues of K below τ
+ *     (Sylvester's law of inertia on the band LDLᴴ of K − τI; Bai, Demmel, Dongarra, Ruhe &
+ *     van der Vorst (eds.), Templates for the Solution of Algebraic Eigenvalue Problems, SIAM
+ *     2000). Why c = 1e-3 and not smaller: the unpivoted factorisation of the indefinite K − τI
+ *     may grow like σ_max²/τ, and its backward error ε·σ_max⁴/τ must stay far below τ; at
+ *     c = 1e-3 it is ~1e-4·τ, while τ stays six decades above the cut in σ. The growth actually
+ *     met is measured and reported. A zero or tiny pivot moves τ by 5 % and counts again.
+ *  3. The same factor, if its growth is at most 1e4 (on the lattices tried it is 1 to 5), serves
+ *     as the shift-invert operator T = (K − τI)⁻¹, so a count costs one factorisation; otherwise
+ *     a band Cholesky of K + δI, δ = (1e-4·σ_max)², is used. Shift-invert subspace iteration on
+ *     k + 8 vectors with Rayleigh–Ritz (through the small Gram matrix (AV)ᴴ(AV), then σ_i = ‖A v_i‖
+ *     directly) runs until the Ritz σ at or below the cut settle; the block grows while fewer than
+ *     4 Ritz σ lie above the cut. Ritz values are upper bounds of the true ones (Courant–Fischer),
+ *     so each vector counted as null is certified: ‖A v‖ ≤ tol.
+ *  4. The smallest σ above the cut (gap.kept): those null vectors are locked and Lanczos on T,
+ *     fully reorthogonalised, converges the extreme Ritz value far faster than block iteration
+ *     when the bottom of the spectrum is clustered (edge modes); its σ is again ‖A y‖ measured
+ *     directly, settled to 1e-9 relative. A Ritz vector found at or below the cut is locked too.
+ *  5. The rank is the side's dimension minus the number of Ritz σ ≤ tol (the structural zeros of
+ *     a non-square R taken out as the dense path does); the other count follows from the rank.
+ *  6. Bases are orthonormal (real for a real R). The decision side's basis is its locked vectors;
+ *     the other side's is computed on first request, its dimension fixed by the rank: a band
+ *     Cholesky of its K + δI, δ = (1e-6·σ_max)² (each solve shrinks the other directions by
+ *     δ/σ²), two solves on k random vectors, Cholesky QR, and every residual ‖A v‖ checked
+ *     against max(1e-3·tol, 16ε·σ_max), solving again while one is larger.
+ * Complex (twisted) matrices use the Hermitian LDLᴴ throughout; nothing is embedded.
+ */
+import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
+import { TooLargeError } from '../errors.js';
+import {
+  bandBytes,
+  bandLdl,
+  createBand,
+  ldlSolveBlock,
+  perturbedShift,
+  reverseCuthillMcKee,
+  type BandMatrix,
+  type Graph,
+  type LdlFactor,
+} from '../linalg/banded.js';
+import { formatBytes, type NullBasis } from '../linalg/dense.js';
+import { AMBIGUOUS_RATIO, type RankDecision } from '../linalg/rank.js';
+import { conjugateTranspose, type SparseMatrix } from '../linalg/sparse.js';
+import type { Supercell } from '../supercell/supercell.js';
+import { throwIfAborted, type Progress, type SolvedSpaces, type SolveOptions, type SpaceSolver } from './solver.js';
+
+const EPS = 2.220446049250313e-16;
+/** Largest growth of the unpivoted LDLᴴ of K − τI for which it also serves as the shift-invert operator. */
+const GROWTH_LIMIT = 1e4;
+
+export interface SparseSolveOptions extends SolveOptions {
+  /** τ = (inertiaShift·σ_max)² for the inertia count; default 1e-3. */
+  inertiaShift?: number;
+  /** δ = (choleskyShift·σ_max)² for the shift-invert factorisation; default 1e-6. */
+  choleskyShift?: number;
+  /** Guard vectors beyond the expected null space; default 8 (at least 4). */
+  guardVectors?: number;
+  /** Seed of the deterministic start vectors; default 1. */
+  seed?: number;
+  /**
+   * σ_max to scale the tolerance (and the shifts) by, instead of R's own from Lanczos: e.g. the
+   * whole supercell's when R is one Bloch block of it, so every block is cut at the same
+   * absolute tolerance. It is reported as decision.sigmaMax.
+   */
+  sigmaMax?: number;
+  /** Text after "Fix: " in a TooLargeError, given the bytes needed and allowed. */
+  sizeAdvice?: (bytesNeeded: number, bytesAllowed: number) => string;
+}
+
+/** The band layout the solver would use, and what it would allocate. */
+export interface SparsePlan {
+  rows: number;
+  cols: number;
+  complex: boolean;
+  /** Half-bandwidth of RᴴR (flex side) and RRᴴ (self-stress side) in the chosen orderings. */
+  bandwidth: { flexes: number; selfStresses: number };
+  /** Bytes of the larger of the two bands (one band is held at a time). */
+  bandBytes: number;
+  /** Flops of one band factorisation on the smaller side (≈ dim·b²; ×4 for complex). */
+  factorFlops: number;
+}
+
+// ---------------------------------------------------------------------------------------------
+// Small helpers: random numbers, complex blocks of column vectors
+
+function rng(seed: number): () => number {
+  let t = seed >>> 0;
+  return () => {
+    t = (t + 0x6d2b79f5) >>> 0;
+    let r = Math.imul(t ^ (t >>> 15), 1 | t);
+    r = (r + Math.imul(r ^ (r >>> 7), 61 | r)) ^ r;
+    return ((r ^ (r >>> 14)) >>> 0) / 4294967296 - 0.5;
+  };
+}
+
+/** q column vectors of length `len`; `im` null for real data. */
+interface Block {
+  len: number;
+  re: Float64Array[];
+  im: Float64Array[] | null;
+}
+
+function randomColumn(b: Block, rand: () => number): { re: Float64Array; im: Float64Array | null } {
+  const re = new Float64Array(b.len);
+  for (let i = 0; i < b.len; i++) re[i] = rand();
+  let im: Float64Array | null = null;
+  if (b.im) {
+    im = new Float64Array(b.len);
+    for (let i = 0; i < b.len; i++) im[i] = rand();
+  }
+  return { re, im };
+}
+
+function addRandomColumns(b: Block, count: number, rand: () => number): void {
+  for (let c = 0; c < count; c++) {
+    const v = randomColumn(b, rand);
+    b.re.push(v.re);
+    if (b.im) b.im.push(v.im!);
+  }
+}
+
+/** y = A x (y overwritten). */
+function matvec(A: SparseMatrix, xr: Float64Array, xi: Float64Array | null, yr: Float64Array, yi: Float64Array | null): void {
+  const { rowPtr, colIdx, re } = A;
+  const im = A.im;
+  if (!im && !xi) {
+    for (let r = 0; r < A.rows; r++) {
+      let s = 0;
+      for (let k = rowPtr[r]; k < rowPtr[r + 1]; k++) s += re[k] * xr[colIdx[k]];
+      yr[r] = s;
+    }
+    if (yi) yi.fill(0);
+    return;
+  }
+  for (let r = 0; r < A.rows; r++) {
+    let sr = 0;
+    let si = 0;
+    for (let k = rowPtr[r]; k < rowPtr[r + 1]; k++) {
+      const c = colIdx[k];
+      const ar = re[k];
+      const ai = im ? im[k] : 0;
+      const br = xr[c];
+      const bi = xi ? xi[c] : 0;
+      sr += ar * br - ai * bi;
+      si += ar * bi + ai * br;
+    }
+    yr[r] = sr;
+    yi![r] = si;
+  }
+}
+
+function norm2(re: Float64Array, im: Float64Array | null): number {
+  let s = 0;
+  for (let i = 0; i < re.length; i++) s += re[i] * re[i];
+  if (im) for (let i = 0; i < im.length; i++) s += im[i] * im[i];
+  return Math.sqrt(s);
+}
+
+/** Orthonormalise the columns in place (modified Gram–Schmidt, two passes); dependent columns are replaced by random ones. */
+function orthonormalise(b: Block, rand: () => number): void {
+  const q = b.re.length;
+  const n = b.len;
+  for (let j = 0; j < q; j++) {
+    for (let attempt = 0; ; attempt++) {
+      const xr = b.re[j];
+      const xi = b.im ? b.im[j] : null;
+      const n0 = norm2(xr, xi);
+      if (n0 > 0 && Number.isFinite(n0)) {
+        const s = 1 / n0;
+        for (let i = 0; i < n; i++) xr[i] *= s;
+        if (xi) for (let i = 0; i < n; i++) xi[i] *= s;
+        for (let pass = 0; pass < 2; pass++) {
+          for (let p = 0; p < j; p++) {
+            const qr = b.re[p];
+            if (!xi) {
+              let c = 0;
+              for (let i = 0; i < n; i++) c += qr[i] * xr[i];
+              if (c !== 0) for (let i = 0; i < n; i++) xr[i] -= c * qr[i];
+            } else {
+              const qi = b.im![p];
+              let cr = 0;
+              let ci = 0;
+              for (let i = 0; i < n; i++) {
+                cr += qr[i] * xr[i] + qi[i] * xi[i];
+                ci += qr[i] * xi[i] - qi[i] * xr[i];
+              }
+              for (let i = 0; i < n; i++) {
+                xr[i] -= cr * qr[i] - ci * qi[i];
+                xi[i] -= cr * qi[i] + ci * qr[i];
+              }
+            }
+          }
+        }
+        const n1 = norm2(xr, xi);
+        if (n1 > 1e-10 || attempt >= 5) {
+          const s1 = 1 / n1;
+          for (let i = 0; i < n; i++) xr[i] *= s1;
+          if (xi) for (let i = 0; i < n; i++) xi[i] *= s1;
+          break;
+        }
+      }
+      const v = randomColumn(b, rand);
+      b.re[j] = v.re;
+      if (b.im) b.im[j] = v.im!;
+    }
+  }
+}
+
+/**
+ * Orthonormalise the columns in place by Cholesky QR, twice (CholQR2; common practice for tall
+ * blocks): G = XᴴX accumulated row by row, G = LLᴴ, X ← X·L⁻ᴴ. Returns false (X unchanged or
+ * partly done, to be redone by Gram–Schmidt) when G is not numerically positive definite.
+ */
+function cholQr2(X: Block): boolean {
+  const k = X.re.length;
+  const n = X.len;
+  if (k === 0) return true;
+  const complex = X.im !== null;
+  for (let pass = 0; pass < 2; pass++) {
+    // row-major copy
+    const Mr = new Float64Array(n * k);
+    const Mi = complex ? new Float64Array(n * k) : null;
+    for (let j = 0; j < k; j++) {
+      const xr = X.re[j];
+      for (let i = 0; i < n; i++) Mr[i * k + j] = xr[i];
+      if (Mi) {
+        const xi = X.im![j];
+        for (let i = 0; i < n; i++) Mi[i * k + j] = xi[i];
+      }
+    }
+    // G = MᴴM (upper triangle), G[a][b] = Σ_i conj(M_ia) M_ib
+    const Gr = new Float64Array(k * k);
+    const Gi = complex ? new Float64Array(k * k) : null;
+    for (let i = 0; i < n; i++) {
+      const o = i * k;
+      for (let a = 0; a < k; a++) {
+        const ar = Mr[o + a];
+        const ai = Mi ? Mi[o + a] : 0;
+        if (ar === 0 && ai === 0) continue;
+        const g = a * k;
+        if (!Mi) {
+          for (let b = a; b < k; b++) Gr[g + b] += ar * Mr[o + b];
+        } else {
+          for (let b = a; b < k; b++) {
+            const br = Mr[o + b];
+            const bi = Mi[o + b];
+            Gr[g + b] += ar * br + ai * bi;
+            Gi![g + b] += ar * bi - ai * br;
+          }
+        }
+      }
+    }
+    // Cholesky G = Uᴴ U with U upper triangular (U = Lᴴ), in place in the upper triangle
+    let maxDiag = 0;
+    for (let a = 0; a < k; a++) maxDiag = Math.max(maxDiag, Gr[a * k + a]);
+    for (let a = 0; a < k; a++) {
+      let d = Gr[a * k + a];
+      for (let l = 0; l < a; l++) d -= Gr[l * k + a] ** 2 + (Gi ? Gi[l * k + a] ** 2 : 0);
+      if (!(d > 1e-14 * maxDiag)) return false;
+      const u = Math.sqrt(d);
+      Gr[a * k + a] = u;
+      if (Gi) Gi[a * k + a] = 0;
+      for (let b = a + 1; b < k; b++) {
+        // U_ab = (G_ab − Σ_l conj(U_la) U_lb) / U_aa
+        let sr = Gr[a * k + b];
+        let si = Gi ? Gi[a * k + b] : 0;
+        for (let l = 0; l < a; l++) {
+          const ur = Gr[l * k + a];
+          const vr = Gr[l * k + b];
+          if (!Gi) sr -= ur * vr;
+          else {
+            const ui = Gi[l * k + a];
+            const vi = Gi[l * k + b];
+            sr -= ur * vr + ui * vi;
+            si -= ur * vi - ui * vr;
+          }
+        }
+        Gr[a * k + b] = sr / u;
+        if (Gi) Gi[a * k + b] = si / u;
+      }
+    }
+    // T = U⁻¹ (upper triangular), by columns: U T = I
+    const Tr = new Float64Array(k * k);
+    const Ti = complex ? new Float64Array(k * k) : null;
+    for (let b = 0; b < k; b++) {
+      Tr[b * k + b] = 1 / Gr[b * k + b];
+      for (let a = b - 1; a >= 0; a--) {
+        let sr = 0;
+        let si = 0;
+        for (let l = a + 1; l <= b; l++) {
+          const ur = Gr[a * k + l];
+          const tr = Tr[l * k + b];
+          if (!Ti) sr += ur * tr;
+          else {
+            const ui = Gi![a * k + l];
+            const ti = Ti[l * k + b];
+            sr += ur * tr - ui * ti;
+            si += ur * ti + ui * tr;
+          }
+        }
+        const inv = 1 / Gr[a * k + a];
+        Tr[a * k + b] = -sr * inv;
+        if (Ti) Ti[a * k + b] = -si * inv;
+      }
+    }
+    // X ← M·T row by row: y_b = Σ_{a ≤ b} M_ia T_ab
+    const yr = new Float64Array(k);
+    const yi = complex ? new Float64Array(k) : null;
+    for (let i = 0; i < n; i++) {
+      const o = i * k;
+      yr.fill(0);
+      if (yi) yi.fill(0);
+      for (let a = 0; a < k; a++) {
+        const mr = Mr[o + a];
+        const mi = Mi ? Mi[o + a] : 0;
+        if (mr === 0 && mi === 0) continue;
+        const t = a * k;
+        if (!yi) {
+          for (let b = a; b < k; b++) yr[b] += mr * Tr[t + b];
+        } else {
+          for (let b = a; b < k; b++) {
+            const tr = Tr[t + b];
+            const ti = Ti![t + b];
+            yr[b] += mr * tr - mi * ti;
+            yi[b] += mr * ti + mi * tr;
+          }
+        }
+      }
+      for (let b = 0; b < k; b++) {
+        X.re[b][i] = yr[b];
+        if (yi) X.im![b][i] = yi[b];
+      }
+    }
+  }
+  return true;
+}
+
+/**
+ * Eigen-decomposition of a small Hermitian q×q matrix H (row-major re/im): ascending values,
+ * eigenvectors as columns (vre[i*q + j] = component i of vector j).
+ */
+function hermitianEig(hre: Float64Array, him: Float64Array | null, q: number): { values: Float64Array; vre: Float64Array; vim: Float64Array | null } {
+  if (!him) {
+    const M = new Matrix(q, q);
+    for (let i = 0; i < q; i++) for (let j = 0; j < q; j++) M.set(i, j, 0.5 * (hre[i * q + j] + hre[j * q + i]));
+    const e = new EigenvalueDecomposition(M, { assumeSymmetric: true });
+    const vals = e.realEigenvalues;
+    const V = e.eigenvectorMatrix;
+    const idx = vals.map((_, i) => i).sort((a, b) => vals[a] - vals[b]);
+    const values = new Float64Array(q);
+    const vre = new Float64Array(q * q);
+    idx.forEach((src, j) => {
+      values[j] = vals[src];
+      for (let i = 0; i < q; i++) vre[i * q + j] = V.get(i, src);
+    });
+    return { values, vre, vim: null };
+  }
+  return complexJacobi(hre, him, q);
+}
+
+/** Cyclic Jacobi for a complex Hermitian matrix (common practice; Golub & Van Loan, Matrix Computations, §8.5, from memory). */
+function complexJacobi(hre0: Float64Array, him0: Float64Array, q: number): { values: Float64Array; vre: Float64Array; vim: Float64Array } {
+  const ar = hre0.slice();
+  const ai = him0.slice();
+  // make exactly Hermitian
+  for (let i = 0; i < q; i++) {
+    ai[i * q + i] = 0;
+    for (let j = i + 1; j < q; j++) {
+      const r = 0.5 * (ar[i * q + j] + ar[j * q + i]);
+      const m = 0.5 * (ai[i * q + j] - ai[j * q + i]);
+      ar[i * q + j] = r;
+      ar[j * q + i] = r;
+      ai[i * q + j] = m;
+      ai[j * q + i] = -m;
+    }
+  }
+  const vr = new Float64Array(q * q);
+  const vi = new Float64Array(q * q);
+  for (let i = 0; i < q; i++) vr[i * q + i] = 1;
+  let total = 0;
+  for (let i = 0; i < q * q; i++) total += ar[i] * ar[i] + ai[i] * ai[i];
+  for (let sweep = 0; sweep < 60; sweep++) {
+    let off = 0;
+    for (let i = 0; i < q; i++) for (let j = 0; j < q; j++) if (i !== j) off += ar[i * q + j] ** 2 + ai[i * q + j] ** 2;
+    if (off <= 1e-32 * total || off === 0) break;
+    for (let p = 0; p < q - 1; p++) {
+      for (let r = p + 1; r < q; r++) {
+        const hr = ar[p * q + r];
+        const hi = ai[p * q + r];
+        const c = Math.hypot(hr, hi);
+        if (c === 0) continue;
+        const app = ar[p * q + p];
+        const arr = ar[r * q + r];
+        if (c <= 1e-18 * Math.sqrt(Math.abs(app * arr)) ) {
+          ar[p * q + r] = ar[r * q + p] = ai[p * q + r] = ai[r * q + p] = 0;
+          continue;
+        }
+        // H_pr = c·e^{iφ}; with P = diag(1, e^{−iφ}) the 2×2 block becomes real [[a, c], [c, b]]
+        const er = hr / c; // e^{iφ}
+        const ei = hi / c;
+        const zeta = (arr - app) / (2 * c);
+        const t = (zeta >= 0 ? 1 : -1) / (Math.abs(zeta) + Math.sqrt(1 + zeta * zeta));
+        const cs = 1 / Math.sqrt(1 + t * t);
+        const sn = t * cs;
+        // V = P·[[cs, sn], [−sn, cs]] = [[cs, sn], [−sn·e^{−iφ}, cs·e^{−iφ}]]
+        // columns: x'_p = cs·x_p − sn·e^{−iφ}·x_r ; x'_r = sn·x_p + cs·e^{−iφ}·x_r
+        const upd = (xr: Float64Array, xi: Float64Array, ip: number, ir: number) => {
+          const pr = xr[ip];
+          const pi = xi[ip];
+          const rr = xr[ir];
+          const ri = xi[ir];
+          // e^{−iφ}·x_r = (er − i ei)(rr + i ri)
+          const wr = er * rr + ei * ri;
+          const wi = er * ri - ei * rr;
+          xr[ip] = cs * pr - sn * wr;
+          xi[ip] = cs * pi - sn * wi;
+          xr[ir] = sn * pr + cs * wr;
+          xi[ir] = sn * pi + cs * wi;
+        };
+        for (let k = 0; k < q; k++) {
+          if (k === p || k === r) continue;
+          // H ← Vᴴ H V: column update on row k, then mirror (Hermitian)
+          upd(ar, ai, k * q + p, k * q + r);
+          ar[p * q + k] = ar[k * q + p];
+          ai[p * q + k] = -ai[k * q + p];
+          ar[r * q + k] = ar[k * q + r];
+          ai[r * q + k] = -ai[k * q + r];
+        }
+        ar[p * q + p] = app - t * c;
+        ar[r * q + r] = arr + t * c;
+        ar[p * q + r] = ar[r * q + p] = ai[p * q + r] = ai[r * q + p] = 0;
+        for (let k = 0; k < q; k++) upd(vr, vi, k * q + p, k * q + r);
+      }
+    }
+  }
+  const idx = Array.from({ length: q }, (_, i) => i).sort((a, b) => ar[a * q + a] - ar[b * q + b]);
+  const values = new Float64Array(q);
+  const vre = new Float64Array(q * q);
+  const vim = new Float64Array(q * q);
+  idx.forEach((src, j) => {
+    values[j] = ar[src * q + src];
+    for (let i = 0; i < q; i++) {
+      vre[i * q + j] = vr[i * q + src];
+      vim[i * q + j] = vi[i * q + src];
+    }
+  });
+  return { values, vre, vim };
+}
+
+// ---------------------------------------------------------------------------------------------
+// Sides, orderings, Gram bands
+
+/** One side of the problem: the null space of A (A = R for flexes, A = Rᴴ for self-stresses), K = AᴴA. */
+interface Side {
+  kind: 'flexes' | 'selfStresses';
+  A: SparseMatrix;
+  AH: SparseMatrix;
+  dim: number;
+  /** perm[old] = position in the band. */
+  perm: Int32Array;
+  bw: number;
+  gramName: string;
+  opName: string;
+}
+
+/** Half-bandwidth of AᴴA when its rows/columns are permuted by perm. */
+function gramBandwidth(A: SparseMatrix, perm: Int32Array): number {
+  let bw = 0;
+  for (let r = 0; r < A.rows; r++) {
+    let lo = Infinity;
+    let hi = -Infinity;
+    for (let k = A.rowPtr[r]; k < A.rowPtr[r + 1]; k++) {
+      const p = perm[A.colIdx[k]];
+      if (p < lo) lo = p;
+      if (p > hi) hi = p;
+    }
+    if (hi - lo > bw) bw = hi - lo;
+  }
+  return bw;
+}
+
+/** The graph of AᴴA: nodes are A's columns, joined when some row of A holds both. */
+function gramGraph(A: SparseMatrix, AH: SparseMatrix): Graph {
+  const n = A.cols;
+  const mark = new Int32Array(n).fill(-1);
+  const ptr = new Int32Array(n + 1);
+  const adj: number[] = [];
+  for (let i = 0; i < n; i++) {
+    mark[i] = i;
+    for (let k = AH.rowPtr[i]; k < AH.rowPtr[i + 1]; k++) {
+      const r = AH.colIdx[k];
+      for (let t = A.rowPtr[r]; t < A.rowPtr[r + 1]; t++) {
+        const c = A.colIdx[t];
+        if (mark[c] !== i) {
+          mark[c] = i;
+          adj.push(c);
+        }
+      }
+    }
+    ptr[i + 1] = adj.length;
+  }
+  return { n, ptr, adj: Int32Array.from(adj) };
+}
+
+function inversePermutation(order: Int32Array): Int32Array {
+  const perm = new Int32Array(order.length);
+  for (let i = 0; i < order.length; i++) perm[order[i]] = i;
+  return perm;
+}
+
+/** The narrower of the given orderings (perm[old] = new) for AᴴA. */
+function narrowest(A: SparseMatrix, perms: Int32Array[]): { perm: Int32Array; bw: number } {
+  let best = { perm: perms[0], bw: gramBandwidth(A, perms[0]) };
+  for (const p of perms.slice(1)) {
+    const bw = gramBandwidth(A, p);
+    if (bw < best.bw) best = { perm: p, bw };
+  }
+  return best;
+}
+
+function makeSides(R: SparseMatrix, RH: SparseMatrix): { flex: Side; stress: Side } {
+  const n = R.cols;
+  const m = R.rows;
+  const identity = (k: number) => Int32Array.from({ length: k }, (_, i) => i);
+  const colRcm = inversePermutation(reverseCuthillMcKee(gramGraph(R, RH)));
+  const cols = narrowest(R, [identity(n), colRcm]);
+  // rows of R sorted by the first (then last) band position of their columns: "by cell"
+  const key = new Float64Array(m);
+  for (let r = 0; r < m; r++) {
+    let lo = Infinity;
+    let hi = -Infinity;
+    for (let k = R.rowPtr[r]; k < R.rowPtr[r + 1]; k++) {
+      const p = cols.perm[R.colIdx[k]];
+      lo = Math.min(lo, p);
+      hi = Math.max(hi, p);
+    }
+    key[r] = lo === Infinity ? 0 : lo * (n + 1) + hi;
+  }
+  const byCell = Int32Array.from({ length: m }, (_, i) => i).sort((a, b) => key[a] - key[b] || a - b);
+  const rowRcm = inversePermutation(reverseCuthillMcKee(gramGraph(RH, R)));
+  const rows = narrowest(RH, [inversePermutation(byCell), rowRcm]);
+  return {
+    flex: { kind: 'flexes', A: R, AH: RH, dim: n, perm: cols.perm, bw: Math.min(cols.bw, Math.max(0, n - 1)), gramName: 'RᴴR', opName: 'R' },
+    stress: { kind: 'selfStresses', A: RH, AH: R, dim: m, perm: rows.perm, bw: Math.min(rows.bw, Math.max(0, m - 1)), gramName: 'RRᴴ', opName: 'Rᴴ' },
+  };
+}
+
+/** K = AᴴA in band storage, permuted. */
+function gramBand(side: Side): BandMatrix {
+  const { A, perm } = side;
+  const G = createBand(side.dim, side.bw, A.im !== null);
+  const w = G.bw + 1;
+  const gr = G.re;
+  const gi = G.im;
+  for (let r = 0; r < A.rows; r++) {
+    for (let a = A.rowPtr[r]; a < A.rowPtr[r + 1]; a++) {
+      const i = perm[A.colIdx[a]];
+      const xr = A.re[a];
+      const xi = A.im ? A.im[a] : 0;
+      for (let b = A.rowPtr[r]; b < A.rowPtr[r + 1]; b++) {
+        const j = perm[A.colIdx[b]];
+        if (j > i) continue;
+        // K_ij += conj(A_ri)·A_rj
+        const yr = A.re[b];
+        const yi = A.im ? A.im[b] : 0;
+        const idx = i * w + (j - i + G.bw);
+        gr[idx] += xr * yr + xi * yi;
+        if (gi && i !== j) gi[idx] += xr * yi - xi * yr;
+      }
+    }
+  }
+  return G;
+}
+
+// ---------------------------------------------------------------------------------------------
+// σ_max by Lanczos
+
+/** Largest eigenvalue of the symmetric tridiagonal (alpha, beta) of order j, by bisection on Sturm counts. */
+function tridiagonalMax(alpha: number[], beta: number[], lo0: number): number {
+  const j = alpha.length;
+  let hi = -Infinity;
+  let lo = Infinity;
+  for (let i = 0; i < j; i++) {
+    const r = Math.abs(i > 0 ? beta[i - 1] : 0) + Math.abs(i < j - 1 ? beta[i] : 0);
+    hi = Math.max(hi, alpha[i] + r);
+    lo = Math.min(lo, alpha[i] - r);
+  }
+  lo = Math.max(lo, lo0);
+  const below = (x: number) => {
+    let c = 0;
+    let d = alpha[0] - x;
+    if (d < 0) c++;
+    for (let i = 1; i < j; i++) {
+      if (d === 0) d = EPS * (Math.abs(x) + 1);
+      d = alpha[i] - x - (beta[i - 1] * beta[i - 1]) / d;
+      if (d < 0) c++;
+    }
+    return c;
+  };
+  for (let it = 0; it < 200 && hi - lo > 1e-16 * Math.abs(hi); it++) {
+    const mid = 0.5 * (lo + hi);
+    if (below(mid) >= j) hi = mid;
+    else lo = mid;
+  }
+  return hi;
+}
+
+function lanczosSigmaMax(R: SparseMatrix, RH: SparseMatrix, seed: number, check: () => void): { sigma: number; steps: number } {
+  const n = R.cols;
+  const complex = R.im !== null;
+  const rand = rng(seed * 7919 + 13);
+  let vr: Float64Array = new Float64Array(n);
+  let vi: Float64Array | null = complex ? new Float64Array(n) : null;
+  for (let i = 0; i < n; i++) vr[i] = rand();
+  if (vi) for (let i = 0; i < n; i++) vi[i] = rand();
+  let nv = norm2(vr, vi);
+  for (let i = 0; i < n; i++) vr[i] /= nv;
+  if (vi) for (let i = 0; i < n; i++) vi[i] /= nv;
+  let pr: Float64Array = new Float64Array(n);
+  let pi: Float64Array | null = complex ? new Float64Array(n) : null;
+  const yr = new Float64Array(R.rows);
+  const yi = complex ? new Float64Array(R.rows) : null;
+  const alpha: number[] = [];
+  const beta: number[] = [];
+  const history: number[] = [];
+  let prevBeta = 0;
+  let theta = 0;
+  const maxSteps = Math.min(n, 600);
+  for (let j = 0; j < maxSteps; j++) {
+    if (j % 50 === 49) check();
+    const wr = new Float64Array(n);
+    const wi = complex ? new Float64Array(n) : null;
+    matvec(R, vr, vi, yr, yi);
+    matvec(RH, yr, yi, wr, wi);
+    for (let i = 0; i < n; i++) wr[i] -= prevBeta * pr[i];
+    if (wi) for (let i = 0; i < n; i++) wi[i] -= prevBeta * pi![i];
+    let a = 0;
+    for (let i = 0; i < n; i++) a += vr[i] * wr[i];
+    if (wi) for (let i = 0; i < n; i++) a += vi![i] * wi[i];
+    for (let i = 0; i < n; i++) wr[i] -= a * vr[i];
+    if (wi) for (let i = 0; i < n; i++) wi[i] -= a * vi![i];
+    alpha.push(a);
+    const b = norm2(wr, wi);
+    theta = tridiagonalMax(alpha, beta, theta);
+    history.push(theta);
+    const h = history.length;
+    if (b <= 1e-13 * theta) break; // invariant subspace: θ is an eigenvalue, the largest for a random start
+    if (h >= 12 && history[h - 1] - history[h - 11] <= 1e-13 * history[h - 1]) break;
+    beta.push(b);
+    pr = vr;
+    pi = vi;
+    vr = wr;
+    vi = wi;
+    nv = b;
+    for (let i = 0; i < n; i++) vr[i] /= nv;
+    if (vi) for (let i = 0; i < n; i++) vi[i] /= nv;
+    prevBeta = b;
+  }
+  return { sigma: Math.sqrt(Math.max(theta, 0)), steps: alpha.length };
+}
+
+// ---------------------------------------------------------------------------------------------
+// Factorisations with retries
+
+interface Ctx {
+  memoryLimit: number;
+  complex: boolean;
+  check: () => void;
+  progress: (fraction: number, stage: string) => void;
+  advice: (need: number, allowed: number) => string;
+  rand: () => number;
+}
+
+function checkMemory(ctx: Ctx, side: Side, vectors: number, what: string): void {
+  const f = ctx.complex ? 2 : 1;
+  const band = bandBytes(side.dim, side.bw, ctx.complex);
+  // block of vectors, its rotated copy, A·V, and the solve's chunk buffers
+  const vec = 8 * f * (vectors * (2 * side.dim + side.A.rows) + 32 * side.dim);
+  const need = band + vec;
+  if (need > ctx.memoryLimit) {
+    throw new TooLargeError(
+      `The sparse solver would need about ${formatBytes(need)} for ${what}: the ${side.dim}×${side.dim} ${ctx.complex ? 'complex ' : ''}band of ${side.gramName} ` +
+        `(half-bandwidth ${side.bw}, ${formatBytes(band)}) and ${vectors} vectors, over the ${formatBytes(ctx.memoryLimit)} it may use. Fix: ${ctx.advice(need, ctx.memoryLimit)}.`,
+      need,
+      ctx.memoryLimit,
+    );
+  }
+}
+
+/** Inertia of K − τI: the number of eigenvalues of K below τ (τ moved slightly after a breakdown). */
+function inertiaCount(side: Side, tau: number, ctx: Ctx, p0: number, p1: number): { below: number; shift: number; retries: number; growth: number; bw: number; F: LdlFactor } {
+  for (let retry = 0; ; retry++) {
+    const shift = retry === 0 ? tau : perturbedShift(tau, 0.05, retry);
+    const K = gramBand(side);
+    const F = bandLdl(K, { shift, overwrite: true, check: ctx.check, onProgress: (f) => ctx.progress(p0 + (p1 - p0) * f, `inertia count: LDLᴴ of ${side.gramName} − τI`) });
+    if (!F.breakdown) return { below: F.negatives, shift, retries: retry, growth: F.growth, bw: K.bw, F };
+    if (retry >= 8) throw new Error(`sparse solver: the inertia count of ${side.gramName} − τI broke down at every shift tried near τ = ${tau}`);
+  }
+}
+
+/** Band LDLᴴ of K + δI with every pivot positive (δ raised ×100 until it is). */
+function choleskyShifted(side: Side, delta0: number, deltaMax: number, ctx: Ctx, p0: number, p1: number): { F: LdlFactor; delta: number } {
+  let delta = delta0;
+  for (;;) {
+    const K = gramBand(side);
+    const F = bandLdl(K, { shift: -delta, overwrite: true, check: ctx.check, onProgress: (f) => ctx.progress(p0 + (p1 - p0) * f, `factorising ${side.gramName} + δI`) });
+    if (!F.breakdown && F.negatives === 0) return { F, delta };
+    if (delta >= deltaMax) throw new Error(`sparse solver: ${side.gramName} + δI is not positive definite even at δ = ${delta}`);
+    delta = Math.min(deltaMax, delta * 100);
+  }
+}
+
+// ---------------------------------------------------------------------------------------------
+// Subspace iteration
+
+interface SubspaceResult {
+  X: Block;
+  sigma: Float64Array;
+  sweeps: number;
+  converged: boolean;
+  lanczosSteps?: number;
+}
+
+function applyInverse(side: Side, F: LdlFactor, X: Block): void {
+  const { perm, dim } = side;
+  const q = X.re.length;
+  const tr: Float64Array[] = [];
+  const ti: Float64Array[] | null = X.im ? [] : null;
+  for (let c = 0; c < q; c++) {
+    const a = new Float64Array(dim);
+    const x = X.re[c];
+    for (let i = 0; i < dim; i++) a[perm[i]] = x[i];
+    tr.push(a);
+    if (ti) {
+      const b = new Float64Array(dim);
+      const y = X.im![c];
+      for (let i = 0; i < dim; i++) b[perm[i]] = y[i];
+      ti.push(b);
+    }
+  }
+  ldlSolveBlock(F, tr, ti);
+  for (let c = 0; c < q; c++) {
+    const x = X.re[c];
+    const a = tr[c];
+    for (let i = 0; i < dim; i++) x[i] = a[perm[i]];
+    if (ti) {
+      const y = X.im![c];
+      const b = ti[c];
+      for (let i = 0; i < dim; i++) y[i] = b[perm[i]];
+    }
+  }
+}
+
+/**
+ * Rayleigh–Ritz for K = AᴴA on the orthonormal block X: the `take` Ritz vectors with the smallest
+ * Ritz values, sorted by σ = ‖A v‖ (measured directly, absolute accuracy ~ε·σ_max).
+ */
+function rayleighRitz(side: Side, X: Block, take = X.re.length): { X: Block; sigma: Float64Array } {
+  const A = side.A;
+  const q = X.re.length;
+  const m = A.rows;
+  const complex = X.im !== null;
+  const Yr: Float64Array[] = [];
+  const Yi: Float64Array[] = [];
+  for (let c = 0; c < q; c++) {
+    const yr = new Float64Array(m);
+    const yi = complex ? new Float64Array(m) : null;
+    matvec(A, X.re[c], X.im ? X.im[c] : null, yr, yi);
+    Yr.push(yr);
+    if (yi) Yi.push(yi);
+  }
+  const gr = new Float64Array(q * q);
+  const gi = complex ? new Float64Array(q * q) : null;
+  for (let a = 0; a < q; a++) {
+    for (let b = a; b < q; b++) {
+      let sr = 0;
+      let si = 0;
+      const ar = Yr[a];
+      const br = Yr[b];
+      if (!complex) {
+        for (let i = 0; i < m; i++) sr += ar[i] * br[i];
+      } else {
+        const ai = Yi[a];
+        const bi = Yi[b];
+        for (let i = 0; i < m; i++) {
+          sr += ar[i] * br[i] + ai[i] * bi[i];
+          si += ar[i] * bi[i] - ai[i] * br[i];
+        }
+      }
+      gr[a * q + b] = sr;
+      gr[b * q + a] = sr;
+      if (gi) {
+        gi[a * q + b] = si;
+        gi[b * q + a] = -si;
+      }
+    }
+  }
+  const { vre, vim } = hermitianEig(gr, gi, q);
+  const n = X.len;
+  const t = Math.min(take, q);
+  const out: Block = { len: n, re: [], im: complex ? [] : null };
+  for (let j = 0; j < t; j++) {
+    const xr = new Float64Array(n);
+    const xi = complex ? new Float64Array(n) : null;
+    for (let i = 0; i < q; i++) {
+      const wr = vre[i * q + j];
+      const wi = vim ? vim[i * q + j] : 0;
+      const sr = X.re[i];
+      if (!xi) {
+        if (wr !== 0) for (let k = 0; k < n; k++) xr[k] += wr * sr[k];
+      } else {
+        const si = X.im![i];
+        for (let k = 0; k < n; k++) {
+          xr[k] += wr * sr[k] - wi * si[k];
+          xi[k] += wr * si[k] + wi * sr[k];
+        }
+      }
+    }
+    out.re.push(xr);
+    if (xi) out.im!.push(xi);
+  }
+  const sig = new Float64Array(t);
+  const yr = new Float64Array(m);
+  const yi = complex ? new Float64Array(m) : null;
+  for (let j = 0; j < t; j++) {
+    matvec(A, out.re[j], out.im ? out.im[j] : null, yr, yi);
+    sig[j] = norm2(yr, yi);
+  }
+  const idx = Array.from({ length: t }, (_, i) => i).sort((a, b) => sig[a] - sig[b]);
+  return {
+    X: { len: n, re: idx.map((i) => out.re[i]), im: out.im ? idx.map((i) => out.im![i]) : null },
+    sigma: Float64Array.from(idx.map((i) => sig[i])),
+  };
+}
+
+function identityBlock(dim: number, complex: boolean): Block {
+  const b: Block = { len: dim, re: [], im: complex ? [] : null };
+  for (let j = 0; j < dim; j++) {
+    const v = new Float64Array(dim);
+    v[j] = 1;
+    b.re.push(v);
+    if (b.im) b.im.push(new Float64Array(dim));
+  }
+  return b;
+}
+
+/**
+ * Columns of `cand` made orthonormal against `locked` and each other (two passes of modified
+ * Gram–Schmidt); a column whose remainder is at most 1e-10 of its norm is dropped.
+ */
+function orthonormalDrop(cand: Block, locked: Block): Block {
+  const out: Block = { len: cand.len, re: [], im: cand.im ? [] : null };
+  const n = cand.len;
+  const basisRe = [...locked.re];
+  const basisIm = locked.im ? [...locked.im] : null;
+  for (let j = 0; j < cand.re.length; j++) {
+    const xr = cand.re[j].slice();
+    const xi = cand.im ? cand.im[j].slice() : null;
+    const n0 = norm2(xr, xi);
+    if (!(n0 > 0) || !Number.isFinite(n0)) continue;
+    for (let i = 0; i < n; i++) xr[i] /= n0;
+    if (xi) for (let i = 0; i < n; i++) xi[i] /= n0;
+    for (let pass = 0; pass < 2; pass++) {
+      for (let p = 0; p < basisRe.length; p++) {
+        const qr = basisRe[p];
+        if (!xi) {
+          let c = 0;
+          for (let i = 0; i < n; i++) c += qr[i] * xr[i];
+          if (c !== 0) for (let i = 0; i < n; i++) xr[i] -= c * qr[i];
+        } else {
+          const qi = basisIm![p];
+          let cr = 0;
+          let ci = 0;
+          for (let i = 0; i < n; i++) {
+            cr += qr[i] * xr[i] + qi[i] * xi[i];
+            ci += qr[i] * xi[i] - qi[i] * xr[i];
+          }
+          for (let i = 0; i < n; i++) {
+            xr[i] -= cr * qr[i] - ci * qi[i];
+            xi[i] -= cr * qi[i] + ci * qr[i];
+          }
+        }
+      }
+    }
+    const n1 = norm2(xr, xi);
+    if (!(n1 > 1e-10)) continue;
+    for (let i = 0; i < n; i++) xr[i] /= n1;
+    if (xi) for (let i = 0; i < n; i++) xi[i] /= n1;
+    basisRe.push(xr);
+    out.re.push(xr);
+    if (xi) {
+      basisIm!.push(xi);
+      out.im!.push(xi);
+    }
+  }
+  return out;
+}
+
+/** True when every change is settled: extrapolated remaining error ≤ max(rel·σ, floor). */
+function settled(sigma: Float64Array, prev: Float64Array | null, prevDelta: Float64Array | null, count: number, rel: number, floor: number): { ok: boolean; delta: Float64Array } {
+  const delta = new Float64Array(count);
+  if (!prev || prev.length < count) return { ok: false, delta: delta.fill(Infinity) };
+  let ok = true;
+  for (let i = 0; i < count; i++) {
+    delta[i] = Math.abs(sigma[i] - prev[i]);
+    const rate = prevDelta && prevDelta.length > i && Number.isFinite(prevDelta[i]) && prevDelta[i] > 0 ? Math.min(0.95, delta[i] / prevDelta[i]) : 0.5;
+    const est = (delta[i] * rate) / (1 - rate);
+    const bound = Math.max(rel * sigma[i], floor);
+    if (est > bound || delta[i] > 100 * bound) ok = false;
+  }
+  return { ok, delta };
+}
+
+/**
+ * The small singular subspace of A on one side, for the rank decision.
+ *
+ * Phase 1: shift-invert subspace iteration X ← orth(T·X), T the inverse of the band factor, with
+ *   Rayleigh–Ritz, on q = k + p vectors, until the Ritz σ at or below the cut (and their number)
+ *   settle; the block grows while fewer than 4 Ritz σ lie above the cut.
+ * Phase 2: those null vectors are locked and the smallest σ above the cut is found by Lanczos on
+ *   T orthogonal to them (lanczosSmallestKept).
+ * When the block would cover the whole side, one Rayleigh–Ritz on the identity is exact.
+ */
+function subspaceIteration(
+  side: Side,
+  F: LdlFactor | null,
+  q0: number,
+  structural: number,
+  /** How many eigenvalues of K lie below `shift` (the inertia count): their Ritz values must settle too. */
+  expected: { count: number; shift: number },
+  tol: number,
+  sigmaMax: number,
+  ctx: Ctx,
+  p0: number,
+  p1: number,
+): SubspaceResult {
+  const dim = side.dim;
+  const complex = ctx.complex;
+  const minGuards = 4;
+  let q = Math.min(dim, q0);
+  if (q >= dim || !F) {
+    const r = rayleighRitz(side, identityBlock(dim, complex));
+    return { X: r.X, sigma: r.sigma, sweeps: 0, converged: true };
+  }
+  let X: Block = { len: dim, re: [], im: complex ? [] : null };
+  addRandomColumns(X, q, ctx.rand);
+  const floor = Math.max(1e-3 * tol, 16 * EPS * sigmaMax);
+  const countNull = (sigma: Float64Array) => {
+    let k = 0;
+    while (k < sigma.length && (k < structural || sigma[k] <= tol)) k++;
+    return k;
+  };
+  let prev: Float64Array | null = null;
+  let prevDelta: Float64Array | null = null;
+  let prevNull = -1;
+  let sigma: Float64Array = new Float64Array(0);
+  let sweeps = 0;
+  let phase1Done = false;
+  const maxPhase1 = 40;
+  for (let sweep = 1; sweep <= maxPhase1; sweep++) {
+    ctx.check();
+    ctx.progress(p0 + ((p1 - p0) * Math.min(sweep, 8)) / 20, `subspace iteration on ${side.gramName}, sweep ${sweep} (${q} vectors)`);
+    sweeps++;
+    applyInverse(side, F, X);
+    orthonormalise(X, ctx.rand);
+    const rr = rayleighRitz(side, X);
+    X = rr.X;
+    sigma = rr.sigma;
+    const nNull = countNull(sigma);
+    if (q - nNull < minGuards && q < dim) {
+      const grow = Math.min(dim - q, Math.max(8, Math.ceil(q / 2)));
+      addRandomColumns(X, grow, ctx.rand);
+      orthonormalise(X, ctx.rand);
+      q += grow;
+      prev = null;
+      prevDelta = null;
+      continue;
+    }
+    // every Ritz value the inertia count puts below the shift must settle, not only those
+    // already at or below the cut (a null vector still converging sits above the cut)
+    const below = sigma.filter((x) => x * x < expected.shift).length;
+    const need = Math.min(q, Math.max(nNull, expected.count));
+    const s = settled(sigma, prev, prevDelta, need, 1e-8, floor);
+    const stable = nNull === prevNull && (below >= expected.count || q <= expected.count);
+    prevNull = nNull;
+    prev = sigma;
+    prevDelta = s.delta;
+    if (sweep >= 2 && s.ok && stable) {
+      phase1Done = true;
+      break;
+    }
+  }
+
+  // Phase 2: lock the null vectors, then the smallest σ above the cut by Lanczos
+  const nNull = countNull(sigma);
+  const locked: Block = { len: dim, re: X.re.slice(0, nNull), im: X.im ? X.im.slice(0, nNull) : null };
+  const lockedSigma = Array.from(sigma.slice(0, nNull));
+  const start: Block = { len: dim, re: X.re.slice(nNull, nNull + 1), im: X.im ? X.im.slice(nNull, nNull + 1) : null };
+  const kept = lanczosSmallestKept(side, F, locked, lockedSigma, start, tol, ctx, p0 + (p1 - p0) * 0.4, p1);
+  const all: Block = { len: dim, re: [...locked.re], im: locked.im ? [...locked.im] : null };
+  const allSigma = [...lockedSigma];
+  if (kept.vector) {
+    all.re.push(kept.vector.re);
+    if (all.im) all.im.push(kept.vector.im!);
+    allSigma.push(kept.sigma);
+  }
+  return { X: all, sigma: Float64Array.from(allSigma), sweeps, converged: phase1Done && kept.converged, lanczosSteps: kept.steps };
+}
+
+/**
+ * The smallest σ above the cut: Lanczos on the shift-invert operator T (the band factor's
+ * inverse), with full reorthogonalisation against the locked null vectors and its own basis.
+ * Extreme Ritz values of T are the eigenvalues of K nearest the shift; for a clustered bottom
+ * of the spectrum this converges far faster than block iteration (Krylov: the error falls like
+ * exp(−4j·√gap) rather than gapʲ). Every few steps the Ritz vectors of the extreme Ritz values are
+ * formed and σ = ‖A y‖ measured directly; one at or below the cut (a null vector phase 1 missed)
+ * is locked and the iteration restarts. Converged when the smallest σ above the cut changes by
+ * at most 1e-9 relative over two checks. At most 150 steps per start.
+ */
+function lanczosSmallestKept(
+  side: Side,
+  F: LdlFactor,
+  locked: Block,
+  lockedSigma: number[],
+  start: Block,
+  tol: number,
+  ctx: Ctx,
+  p0: number,
+  p1: number,
+): { vector: { re: Float64Array; im: Float64Array | null } | null; sigma: number; steps: number; converged: boolean } {
+  const dim = side.dim;
+  const complex = ctx.complex;
+  const free = dim - locked.re.length;
+  if (free <= 0) return { vector: null, sigma: NaN, steps: 0, converged: true };
+  const maxSteps = Math.min(free, 150);
+  const yr = new Float64Array(side.A.rows);
+  const yi = complex ? new Float64Array(side.A.rows) : null;
+  const sigmaOf = (v: { re: Float64Array; im: Float64Array | null }) => {
+    matvec(side.A, v.re, v.im, yr, yi);
+    return norm2(yr, yi);
+  };
+  let steps = 0;
+  for (let restart = 0; restart < 6; restart++) {
+    // start: the phase-1 guard (a good guess) plus a little of everything
+    const init: Block = { len: dim, re: [], im: complex ? [] : null };
+    addRandomColumns(init, 1, ctx.rand);
+    if (restart === 0 && start.re.length) {
+      for (let i = 0; i < dim; i++) init.re[0][i] = start.re[0][i] + 1e-3 * init.re[0][i];
+      if (init.im) for (let i = 0; i < dim; i++) init.im[0][i] = start.im![0][i] + 1e-3 * init.im[0][i];
+    }
+    const V = orthonormalDrop(init, locked);
+    if (V.re.length === 0) return { vector: null, sigma: NaN, steps, converged: false };
+    const alpha: number[] = [];
+    const beta: number[] = [];
+    type Candidate = { vector: { re: Float64Array; im: Float64Array | null }; sigma: number };
+    let best = null as Candidate | null;
+    let prevBest = NaN;
+    let calm = 0;
+    let lockedNew = false;
+    for (let j = 0; j < maxSteps; j++) {
+      ctx.check();
+      steps++;
+      ctx.progress(p0 + ((p1 - p0) * Math.min(j, 40)) / 41, `Lanczos for the smallest kept σ, step ${steps}`);
+      const w: Block = { len: dim, re: [V.re[j].slice()], im: V.im ? [V.im[j].slice()] : null };
+      applyInverse(side, F, w);
+      const wr = w.re[0];
+      const wi = w.im ? w.im[0] : null;
+      let a = 0;
+      const vr = V.re[j];
+      const vi = V.im ? V.im[j] : null;
+      for (let i = 0; i < dim; i++) a += vr[i] * wr[i];
+      if (vi) for (let i = 0; i < dim; i++) a += vi[i] * wi![i];
+      alpha.push(a);
+      // full reorthogonalisation (twice) against the locked vectors and the Lanczos basis
+      const all: Block = { len: dim, re: [...locked.re, ...V.re], im: locked.im ? [...locked.im, ...V.im!] : null };
+      const nw = norm2(wr, wi);
+      const o = orthonormalDrop(w, all);
+      const b = o.re.length ? nw * residualFraction(w, all, nw) : 0;
+      const invariant = o.re.length === 0 || b <= 1e-14 * Math.abs(a);
+      if ((j + 1) % 3 === 0 || invariant || j === maxSteps - 1) {
+        // Ritz pairs of the tridiagonal; check the extreme ones by their measured σ
+        const q = alpha.length;
+        const T = new Matrix(q, q);
+        for (let i = 0; i < q; i++) {
+          T.set(i, i, alpha[i]);
+          if (i + 1 < q) {
+            T.set(i, i + 1, beta[i]);
+            T.set(i + 1, i, beta[i]);
+          }
+        }
+        const e = new EigenvalueDecomposition(T, { assumeSymmetric: true });
+        const mu = e.realEigenvalues;
+        const S = e.eigenvectorMatrix;
+        const order = mu.map((_, i) => i).sort((x, y) => mu[y] - mu[x]);
+        const picks = [...new Set([...order.slice(0, 3), ...order.slice(-2)])];
+        let cand = null as Candidate | null;
+        for (const c of picks) {
+          const y = { re: new Float64Array(dim), im: complex ? new Float64Array(dim) : null };
+          for (let i = 0; i < q; i++) {
+            const sc = S.get(i, c);
+            if (sc === 0) continue;
+            const br = V.re[i];
+            for (let t = 0; t < dim; t++) y.re[t] += sc * br[t];
+            if (y.im) {
+              const bi = V.im![i];
+              for (let t = 0; t < dim; t++) y.im[t] += sc * bi[t];
+            }
+          }
+          const ny = norm2(y.re, y.im);
+          for (let t = 0; t < dim; t++) y.re[t] /= ny;
+          if (y.im) for (let t = 0; t < dim; t++) y.im[t] /= ny;
+          const sg = sigmaOf(y);
+          if (sg <= tol) {
+            // a null vector phase 1 missed: lock it and start again
+            const add = orthonormalDrop({ len: dim, re: [y.re], im: y.im ? [y.im] : null }, locked);
+            if (add.re.length) {
+              locked.re.push(add.re[0]);
+              if (locked.im) locked.im.push(add.im![0]);
+              lockedSigma.push(sigmaOf({ re: add.re[0], im: add.im ? add.im[0] : null }));
+              lockedNew = true;
+            }
+          } else if (!cand || sg < cand.sigma) cand = { vector: y, sigma: sg };
+        }
+        if (lockedNew) break;
+        if (cand && (!best || cand.sigma <= best.sigma)) best = cand;
+        if (best) {
+          calm = Math.abs(best.sigma - prevBest) <= 1e-9 * best.sigma ? calm + 1 : 0;
+          prevBest = best.sigma;
+          if (calm >= 2 || invariant) return { vector: best.vector, sigma: best.sigma, steps, converged: true };
+        }
+      }
+      if (invariant) break;
+      beta.push(b);
+      V.re.push(o.re[0]);
+      if (V.im) V.im.push(o.im![0]);
+    }
+    if (!lockedNew) return best ? { vector: best.vector, sigma: best.sigma, steps, converged: false } : { vector: null, sigma: NaN, steps, converged: false };
+  }
+  return { vector: null, sigma: NaN, steps, converged: false };
+}
+
+/** ‖w − P w‖ / ‖w‖ for the orthonormal columns P (w as it was before orthonormalDrop). */
+function residualFraction(w: Block, P: Block, nw: number): number {
+  const x = { re: w.re[0].slice(), im: w.im ? w.im[0].slice() : null };
+  const n = w.len;
+  for (let pass = 0; pass < 2; pass++)
+    for (let p = 0; p < P.re.length; p++) {
+      const qr = P.re[p];
+      if (!x.im) {
+        let c = 0;
+        for (let i = 0; i < n; i++) c += qr[i] * x.re[i];
+        for (let i = 0; i < n; i++) x.re[i] -= c * qr[i];
+      } else {
+        const qi = P.im![p];
+        let cr = 0;
+        let ci = 0;
+        for (let i = 0; i < n; i++) {
+          cr += qr[i] * x.re[i] + qi[i] * x.im[i];
+          ci += qr[i] * x.im[i] - qi[i] * x.re[i];
+        }
+        for (let i = 0; i < n; i++) {
+          x.re[i] -= cr * qr[i] - ci * qi[i];
+          x.im[i] -= cr * qi[i] + ci * qr[i];
+        }
+      }
+    }
+  return norm2(x.re, x.im) / nw;
+}
+
+/**
+ * An orthonormal basis of the `k`-dimensional null space of A, the dimension fixed beforehand:
+ * inverse iteration X ← (K + δI)⁻¹X on k random vectors with δ = (1e-6·σ_max)², so each solve
+ * shrinks the other directions by δ/σ_{k+1}²; the block is orthonormalised and every vector's
+ * residual ‖A v‖ measured, and solves repeat until each is ≤ max(1e-3·tol, 16ε·σ_max) (at most 8).
+ */
+function nullBasisIteration(side: Side, F: LdlFactor, k: number, tol: number, sigmaMax: number, ctx: Ctx, p0: number, p1: number): Block {
+  const dim = side.dim;
+  const X: Block = { len: dim, re: [], im: ctx.complex ? [] : null };
+  addRandomColumns(X, k, ctx.rand);
+  const target = Math.max(1e-3 * tol, 16 * EPS * sigmaMax);
+  const yr = new Float64Array(side.A.rows);
+  const yi = ctx.complex ? new Float64Array(side.A.rows) : null;
+  for (let solve = 1; solve <= 8; solve++) {
+    ctx.check();
+    ctx.progress(p0 + ((p1 - p0) * Math.min(solve, 3)) / 4, `null basis of ${side.opName}: solve ${solve} (${k} vectors)`);
+    applyInverse(side, F, X);
+    if (solve === 1) {
+      // scale only; the second solve makes the null components dominate to ~(δ/σ²)²
+      for (let j = 0; j < k; j++) {
+        const nr = norm2(X.re[j], X.im ? X.im[j] : null) || 1;
+        const xr = X.re[j];
+        for (let i = 0; i < dim; i++) xr[i] /= nr;
+        if (X.im) for (let i = 0; i < dim; i++) X.im[j][i] /= nr;
+      }
+      continue;
+    }
+    if (!cholQr2(X)) orthonormalise(X, ctx.rand);
+    let worst = 0;
+    for (let j = 0; j < k; j++) {
+      matvec(side.A, X.re[j], X.im ? X.im[j] : null, yr, yi);
+      worst = Math.max(worst, norm2(yr, yi));
+    }
+    if (worst <= target) break;
+  }
+  return X;
+}
+
+// ---------------------------------------------------------------------------------------------
+// The solver
+
+function toBasis(X: Block, count: number, complex: boolean): NullBasis {
+  const vectors = [];
+  for (let j = 0; j < count; j++) vectors.push({ re: X.re[j], im: X.im ? X.im[j] : new Float64Array(X.len) });
+  return { real: !complex, vectors };
+}
+
+function unitBasis(dim: number, count: number, complex: boolean): NullBasis {
+  const vectors = [];
+  for (let j = 0; j < count; j++) {
+    const re = new Float64Array(dim);
+    re[j] = 1;
+    vectors.push({ re, im: new Float64Array(dim) });
+  }
+  return { real: !complex, vectors };
+}
+
+/** The band layout and cost the sparse solver would have for R (no factorisation is done). */
+export function sparsePlan(R: SparseMatrix): SparsePlan {
+  const RH = conjugateTranspose(R);
+  const { flex, stress } = makeSides(R, RH);
+  const complex = R.im !== null;
+  const small = R.rows <= R.cols ? stress : flex;
+  return {
+    rows: R.rows,
+    cols: R.cols,
+    complex,
+    bandwidth: { flexes: flex.bw, selfStresses: stress.bw },
+    bandBytes: Math.max(bandBytes(flex.dim, flex.bw, complex), bandBytes(stress.dim, stress.bw, complex)),
+    factorFlops: small.dim * (small.bw + 1) ** 2 * (complex ? 4 : 1),
+  };
+}
+
+/**
+ * Counts, gap and (lazily) bases of ker R and ker Rᴴ by banded factorisations (see the file
+ * header). Needs no supercell; real or complex R.
+ */
+export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): SolvedSpaces {
+  const m = R.rows;
+  const n = R.cols;
+  const complex = R.im !== null;
+  const relative = options.relative;
+  if (!(relative >= 0 && relative < 1)) throw new RangeError(`relative tolerance must lie in [0, 1), got ${relative}`);
+  const check = () => throwIfAborted(options.signal);
+  const report = (fraction: number, stage: string) => options.onProgress?.({ fraction: Math.max(0, Math.min(1, fraction)), stage } satisfies Progress);
+  const ctx: Ctx = {
+    memoryLimit: options.memoryLimit,
+    complex,
+    check,
+    progress: report,
+    advice: options.sizeAdvice ?? (() => 'use fewer cells'),
+    rand: rng(options.seed ?? 1),
+  };
+  const c = options.inertiaShift ?? 1e-3;
+  const cChol = options.choleskyShift ?? 1e-4;
+  const cBasis = 1e-6;
+  const guards = Math.max(4, options.guardVectors ?? 8);
+  check();
+  report(0, 'ordering');
+  const RH = conjugateTranspose(R);
+  const { flex, stress } = makeSides(R, RH);
+  // 2. the inertia count runs on the smaller Gram matrix: check its band fits before anything else
+  const countSide = m <= n ? stress : flex;
+  const otherSide = countSide === stress ? flex : stress;
+  if (m > 0 && n > 0) checkMemory(ctx, countSide, guards, 'the inertia count');
+  report(0.02, 'σ_max (Lanczos)');
+  const given = options.sigmaMax;
+  if (given !== undefined && !(given >= 0 && Number.isFinite(given))) throw new RangeError(`sigmaMax must be a finite number ≥ 0, got ${given}`);
+  const lz = given !== undefined || n === 0 || m === 0 ? { sigma: given ?? 0, steps: 0 } : lanczosSigmaMax(R, RH, options.seed ?? 1, check);
+  const sigmaMax = lz.sigma;
+  const tol = relative * sigmaMax;
+  const minmn = Math.min(m, n);
+
+  if (sigmaMax === 0) {
+    // no bars, or every entry zero: every σ is 0
+    report(1, 'done');
+    const decision: RankDecision = {
+      rank: 0,
+      tolerance: { relative, absolute: 0 },
+      sigmaMax: 0,
+      gap: { kept: null, dropped: minmn > 0 ? 0 : Math.max(m, n) > 0 ? 0 : null, ratio: null, ambiguous: false },
+    };
+    return {
+      solver: 'sparse',
+      decision,
+      gapNote: 'the rigidity matrix has no nonzero entry: every singular value is 0',
+      flexBasis: () => unitBasis(n, n, complex),
+      selfStressBasis: () => unitBasis(m, m, complex),
+    };
+  }
+
+  const tau = (c * sigmaMax) ** 2;
+  const inertia = inertiaCount(countSide, tau, ctx, 0.06, 0.45);
+  const kCount = inertia.below;
+  const kOther = kCount + (otherSide.dim - countSide.dim);
+
+  // 3. subspace iteration on the side with fewer small eigenvalues
+  const side = kOther < kCount ? otherSide : countSide;
+  const kSide = side === countSide ? kCount : kOther;
+  const structural = side.dim - minmn;
+  const q0 = kSide + guards;
+  checkMemory(ctx, side, Math.min(side.dim, q0), 'the subspace iteration');
+  const delta0 = (cChol * sigmaMax) ** 2;
+  // the inertia factor of K − τI serves as the shift-invert operator unless it grew
+  const reuse = side === countSide && inertia.growth <= GROWTH_LIMIT;
+  const F = q0 >= side.dim ? null : reuse ? inertia.F : choleskyShifted(side, delta0, tau, ctx, 0.45, 0.85).F;
+  const it = subspaceIteration(side, F, q0, structural, { count: kSide, shift: inertia.shift }, tol, sigmaMax, ctx, 0.85, 1);
+  const sigma = it.sigma;
+  const q = sigma.length;
+
+  // 4. the decision from the Ritz σ (structural zeros of a non-square R first)
+  let nullCount = Math.min(structural, q);
+  while (nullCount < q && sigma[nullCount] <= tol) nullCount++;
+  const rank = Math.max(0, Math.min(minmn, side.dim - nullCount));
+  const nonStructuralDropped = nullCount - structural;
+  const kept = nullCount < q ? sigma[nullCount] : null;
+  const dropped = nonStructuralDropped > 0 ? sigma[nullCount - 1] : rank < Math.max(m, n) ? 0 : null;
+  const ratio = kept !== null && dropped !== null && dropped > 0 ? kept / dropped : null;
+  const decision: RankDecision = {
+    rank,
+    tolerance: { relative, absolute: tol },
+    sigmaMax,
+    gap: { kept: rank > 0 ? kept : null, dropped, ratio: rank > 0 ? ratio : null, ambiguous: rank > 0 && ratio !== null && ratio < AMBIGUOUS_RATIO },
+  };
+  const operator = reuse ? 'the inertia factor of K − τI as shift-invert operator' : `a Cholesky factor of K + δI, δ = (${cChol}·σ_max)², as shift-invert operator`;
+  const notes = [
+    F
+      ? `σ from ‖${side.opName} v‖ of Ritz vectors of K = ${side.gramName}: ${nullCount} at or below the cut by subspace iteration (${it.sweeps} sweeps on ${q0}+ vectors), the smallest above it by Lanczos (${it.lanczosSteps ?? 0} steps), with ${operator}`
+      : `σ from ‖${side.opName} v‖ of the eigenvectors of K = ${side.gramName} (a full Rayleigh–Ritz: the side has only ${side.dim} dimensions)`,
+    `inertia count at τ = (${c}·σ_max)²${inertia.retries ? ` (moved to (${(Math.sqrt(inertia.shift) / sigmaMax).toPrecision(4)}·σ_max)² after a zero pivot)` : ''}: ${kCount} eigenvalues of ${countSide.gramName} below τ`,
+    given !== undefined ? 'σ_max given by the caller' : `σ_max by Lanczos (${lz.steps} steps)`,
+  ];
+  if (!it.converged) notes.push('the iteration stopped before the smallest kept σ settled: it is an upper bound');
+  const growthBound = EPS * (inertia.bw + 1) * inertia.growth;
+  if (growthBound > 1e-2 * (c * c)) notes.push(`the inertia factorisation grew by ${inertia.growth.toExponential(2)}: its count may be off`);
+  report(1, 'done');
+
+  const nullDim = (s: Side) => s.dim - rank;
+  const cache = new Map<Side, NullBasis>();
+  cache.set(side, toBasis(it.X, nullDim(side), complex));
+  const basisOf = (s: Side): NullBasis => {
+    const hit = cache.get(s);
+    if (hit) return hit;
+    const k = nullDim(s);
+    let basis: NullBasis;
+    if (k === 0) basis = { real: !complex, vectors: [] };
+    else {
+      checkMemory(ctx, s, k, `the ${s.kind === 'flexes' ? 'flex' : 'self-stress'} basis`);
+      if (k >= s.dim) basis = unitBasis(s.dim, s.dim, complex);
+      else {
+        const Fb = choleskyShifted(s, (cBasis * sigmaMax) ** 2, tau, ctx, 0, 0.6);
+        basis = toBasis(nullBasisIteration(s, Fb.F, k, tol, sigmaMax, ctx, 0.6, 1), k, complex);
+      }
+      report(1, 'done');
+    }
+    cache.set(s, basis);
+    return basis;
+  };
+  return {
+    solver: 'sparse',
+    decision,
+    gapNote: notes.join('; '),
+    flexBasis: () => basisOf(flex),
+    selfStressBasis: () => basisOf(stress),
+  };
+}
+
+/** "about N1'×N2' cells would fit", scaling both sides (band memory grows like N1·N2·min(N1, N2)). */
+function adviceFor(sc: Supercell): (need: number, allowed: number) => string {
+  return (need, allowed) => {
+    const [N1, N2] = sc.cells;
+    const f = Math.cbrt(allowed / need) * 0.97;
+    const a = Math.max(1, Math.floor(N1 * f));
+    const b = Math.max(1, Math.floor(N2 * f));
+    return `use fewer cells: about ${a}x${b} would fit (or raise the memory limit)`;
+  };
+}
+
+export const sparseSolver: SpaceSolver = (sc, R, options) => sparseSpaces(R, { ...options, sizeAdvice: adviceFor(sc) });
