@@ -35,7 +35,7 @@ export interface RankDecision {
  */
 export function decideRank(sigma: ArrayLike<number>, rows: number, cols: number, relative = DEFAULT_RELATIVE_TOLERANCE): RankDecision {
   if (!(relative >= 0 && relative < 1)) throw new RangeError(`relative tolerance must lie in [0, 1), got ${relative}`);
-  const s = Array.from(sigma).sort((a, b) => b - a);
+  const s = Float64Array.from(sigma).sort().reverse();
   const sigmaMax = s.length ? s[0] : 0;
   const absolute = relative * sigmaMax;
   let rank = 0;

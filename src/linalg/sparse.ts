@@ -14,10 +14,11 @@ export interface SparseMatrix {
 
 /** Accumulates entries row by row; entries landing on the same (row, col) are summed. */
 export class SparseBuilder {
-  private rowOf: number[] = [];
-  private colOf: number[] = [];
-  private reOf: number[] = [];
-  private imOf: number[] = [];
+  private rowOf = new Int32Array(64);
+  private colOf = new Int32Array(64);
+  private reOf = new Float64Array(64);
+  private imOf = new Float64Array(64);
+  private count = 0;
   private rowCount = 0;
   constructor(readonly cols: number) {}
 
@@ -27,16 +28,30 @@ export class SparseBuilder {
   }
 
   add(row: number, col: number, re: number, im = 0): void {
-    this.rowOf.push(row);
-    this.colOf.push(col);
-    this.reOf.push(re);
-    this.imOf.push(im);
+    if (this.count === this.rowOf.length) this.grow();
+    const k = this.count++;
+    this.rowOf[k] = row;
+    this.colOf[k] = col;
+    this.reOf[k] = re;
+    this.imOf[k] = im;
+  }
+
+  private grow(): void {
+    const size = 2 * this.rowOf.length;
+    const g = <T extends Int32Array | Float64Array>(a: T, b: T): T => {
+      b.set(a);
+      return b;
+    };
+    this.rowOf = g(this.rowOf, new Int32Array(size));
+    this.colOf = g(this.colOf, new Int32Array(size));
+    this.reOf = g(this.reOf, new Float64Array(size));
+    this.imOf = g(this.imOf, new Float64Array(size));
   }
 
   /** Build the CSR matrix; `complex` false drops imaginary parts (the caller guarantees they are 0). */
   build(complex: boolean): SparseMatrix {
     const rows = this.rowCount;
-    const n = this.rowOf.length;
+    const n = this.count;
     // counting sort by row, then sort each row's few entries by column and merge duplicates
     const start = new Int32Array(rows + 1);
     for (let k = 0; k < n; k++) start[this.rowOf[k] + 1]++;
