@@ -9,8 +9,11 @@ import { commandHelp, type CliIO, type Command } from './command.js';
 import { countCommand } from './count.js';
 import { galleryCommand } from './gallery.js';
 import { spectrumCommand } from './spectrum.js';
+import { classifyCommand } from './classify.js';
+import { sweepCommand } from './sweep.js';
+import { exportModesCommand } from './export-modes.js';
 
-export const COMMANDS: Command[] = [countCommand, spectrumCommand, galleryCommand];
+export const COMMANDS: Command[] = [countCommand, classifyCommand, sweepCommand, spectrumCommand, exportModesCommand, galleryCommand];
 
 const VERSION = '0.1.0';
 

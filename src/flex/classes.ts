@@ -13,6 +13,16 @@ export interface ClassifyOptions {
   window?: number;
   /** Largest strip width (cells) for line flexes; default 2. */
   strip?: number;
+  /** Lattice directions (p, q) of the strips; default (1,0), (0,1), (1,1), (1,−1). */
+  directions?: [number, number][];
+  /**
+   * How flexes supported on a joint set are found: a dense SVD of the restricted matrix, the
+   * banded sparse solver on it, the intersection with the global flex basis, or whichever is
+   * cheapest (default 'auto').
+   */
+  restrictedSolve?: 'auto' | 'restricted-svd' | 'restricted-sparse' | 'kernel-intersection';
+  onProgress?: (p: { fraction: number; stage: string }) => void;
+  signal?: AbortSignal;
 }
 
 export interface Anchor {
@@ -40,6 +50,12 @@ export interface ClassifiedMode {
   decayLength?: number;
   /** Participation ratio (Σ|u_k|²)² / (J·Σ|u_k|⁴) over joints k, in (0, 1]. */
   participation: number;
+  /** Local and line flexes: the window or strip whose restricted kernel gave the vector. */
+  region?: string;
+  /** Decaying flexes: R² of the fit of log amplitude against distance from the anchor. */
+  fitQuality?: number;
+  /** Decaying flexes: share of the squared amplitude within the head radius of the anchor. */
+  headWeight?: number;
 }
 
 export interface Classification {
@@ -49,4 +65,13 @@ export interface Classification {
   /** Every threshold used, stated in the output. */
   thresholds: Record<string, number | string>;
   modes: ClassifiedMode[];
+  /**
+   * Flexes supported in a strip but on less than the line coverage of it, and in no window
+   * (short strip pieces); they are part of the rest and counted as decaying or bulk.
+   */
+  shortStripFlexes?: number;
+  /** Seconds spent per stage (windows, strips, lines, rest, localise). */
+  timings?: Record<string, number>;
+  /** Reasons to distrust the split (tolerance inconsistencies, an ambiguous rank). */
+  warnings?: string[];
 }

@@ -1,0 +1,155 @@
+/** `shimmy classify`: where the flexes of one supercell live (local, line, decaying, bulk). */
+import { writeFileSync } from 'node:fs';
+import { CAUTION } from '../caution.js';
+import { InputError } from '../errors.js';
+import { FLEX_CLASSES, type Classification, type ClassifiedMode } from '../flex/classes.js';
+import { classifyFlexes, DEFAULT_STRIP, DEFAULT_WINDOW } from '../flex/classify.js';
+import { analyseSupercell, type FlexAnalysis } from '../flex/spaces.js';
+import { describeBoundary } from '../supercell/boundary.js';
+import { buildSupercell, type Supercell } from '../supercell/supercell.js';
+import { parseNumberFlag, type FlagSpec, type ParsedArgs } from './args.js';
+import type { Command } from './command.js';
+import { BOUNDARY_HELP, fmt, FRAMEWORK_HELP, readSupercellArgs, SUPERCELL_FLAGS, table, type SupercellArgs } from './common.js';
+
+export const CLASSIFY_FLAGS: FlagSpec[] = [
+  { name: '--window', value: 'W', help: 'largest window (W×W cells) for local flexes', default: String(DEFAULT_WINDOW) },
+  { name: '--strip', value: 'S', help: 'largest strip width (cells) for line flexes', default: String(DEFAULT_STRIP) },
+];
+
+export const CLASS_HELP = [
+  'Classes (counts add up to the flexes; rigid motions are not removed first):',
+  '  local     supported inside a window of at most W×W cells (anywhere, corners and edges included)',
+  '  line      supported inside a strip at most S cells wide along (1,0), (0,1), (1,1) or (1,−1),',
+  '            running along at least 2/3 of the strip, and not local',
+  '  decaying  the rest, localised (SCDM), whose weight falls off exponentially from a side, a',
+  '            corner or a point with most of it close by; ξ is the amplitude decay length in cells',
+  '  bulk      everything else',
+];
+
+export interface ClassifyRun {
+  supercell: Supercell;
+  analysis: FlexAnalysis;
+  classification: Classification;
+}
+
+export function readClassifyFlags(args: ParsedArgs): { window: number; strip: number } {
+  const int = (name: string, dflt: number) => {
+    const t = args.flags.get(name) as string | undefined;
+    return t === undefined ? dflt : parseNumberFlag(t, name, (v) => Number.isInteger(v) && v >= 1 && v <= 50, 'a whole number of cells from 1 to 50');
+  };
+  return { window: int('--window', DEFAULT_WINDOW), strip: int('--strip', DEFAULT_STRIP) };
+}
+
+export function runClassification(a: SupercellArgs, opts: { window: number; strip: number }): ClassifyRun {
+  const supercell = buildSupercell(a.framework, a.cells, a.boundary);
+  const analysis = analyseSupercell(supercell, { tolerance: a.tolerance, solver: a.solver });
+  const classification = classifyFlexes(supercell, analysis, opts);
+  return { supercell, analysis, classification };
+}
+
+/** The plain-data description of a mode (no vector). */
+export function modeSummary(m: ClassifiedMode, index: number): Record<string, unknown> {
+  const { vector: _v, ...rest } = m;
+  return { mode: index, ...rest };
+}
+
+export function writeOutFile(path: string, text: string, flag = '--out'): void {
+  try {
+    writeFileSync(path, text);
+  } catch (e) {
+    const code = (e as NodeJS.ErrnoException).code;
+    const what = code === 'ENOENT' ? 'its folder does not exist' : code === 'EISDIR' ? 'it is a folder' : code === 'EACCES' ? 'permission denied' : `it cannot be written (${code ?? 'unknown error'})`;
+    throw new InputError(`The output file "${path}" cannot be written:`, [{ where: flag, what, fix: 'give a file path in an existing, writable folder' }]);
+  }
+}
+
+export function modeWhere(m: ClassifiedMode): string {
+  if (m.class === 'decaying' && m.anchor) {
+    const a = m.anchor;
+    const place = a.kind === 'point' ? `point (${fmt(a.at[0], 3)}, ${fmt(a.at[1], 3)})` : `${a.kind} ${a.name}`;
+    return `${place}, ξ = ${fmt(m.decayLength ?? null, 3)} cells (R² ${fmt(m.fitQuality ?? null, 3)})`;
+  }
+  if (m.class === 'line' && m.direction) return `direction (${m.direction[0]}, ${m.direction[1]}); ${m.region ?? ''}`;
+  return m.region ?? '';
+}
+
+function outputObject(a: SupercellArgs, r: ClassifyRun, withVectors: boolean): Record<string, unknown> {
+  const c = r.classification;
+  return {
+    framework: a.spec,
+    name: a.framework.name ?? null,
+    cells: a.cells,
+    boundary: a.bcText,
+    joints: r.analysis.joints,
+    bars: r.analysis.bars,
+    flexes: c.flexes,
+    trivialFlexes: c.trivialFlexes,
+    selfStresses: r.analysis.selfStresses,
+    counts: c.counts,
+    shortStripFlexes: c.shortStripFlexes ?? 0,
+    thresholds: c.thresholds,
+    solver: r.analysis.solver,
+    gap: r.analysis.gap,
+    warnings: c.warnings ?? [],
+    modes: c.modes.map((m, i) => (withVectors ? { ...modeSummary(m, i), vector: { re: Array.from(m.vector.re), im: Array.from(m.vector.im) } } : modeSummary(m, i))),
+    ...(withVectors ? { positions: Array.from(r.supercell.positions), vectorLayout: 'vector.re/im hold 2 entries per joint (x then y), joints in supercell order; positions likewise' } : {}),
+    caution: CAUTION,
+  };
+}
+
+const PER_CLASS_SHOWN = 5;
+
+export const classifyCommand: Command = {
+  name: 'classify',
+  summary: 'Split the flexes of an N1×N2 supercell into local, line, decaying and bulk ones, with a localised basis.',
+  usage: 'shimmy classify FRAMEWORK [--cells 8x8] [--bc SPEC] [--window 3] [--strip 2] [--tol 1e-9] [--solver auto] [--json] [--out FILE]',
+  flags: [
+    ...SUPERCELL_FLAGS,
+    ...CLASSIFY_FLAGS,
+    { name: '--json', help: 'print one JSON object (counts, thresholds, modes without vectors)' },
+    { name: '--out', value: 'FILE', help: 'also write the full JSON, vectors included, to FILE' },
+    { name: '--help', help: 'show this help' },
+  ],
+  maxPositional: 1,
+  details: [...CLASS_HELP, '', ...FRAMEWORK_HELP, '', ...BOUNDARY_HELP],
+  run(args, io) {
+    const a = readSupercellArgs(args, io, 'classify');
+    const opts = readClassifyFlags(args);
+    const outPath = args.flags.get('--out') as string | undefined;
+    const r = runClassification(a, opts);
+    const c = r.classification;
+    if (outPath !== undefined) writeOutFile(outPath, JSON.stringify(outputObject(a, r, true)) + '\n');
+    if (args.flags.has('--json')) {
+      io.out(JSON.stringify({ ...outputObject(a, r, false), ...(outPath !== undefined ? { out: outPath } : {}) }, null, 2) + '\n');
+      return 0;
+    }
+    const title = a.framework.name ? `${a.framework.name} (${a.spec})` : a.spec;
+    const lines: string[] = [];
+    lines.push(`shimmy classify: ${title}`, `  supercell ${a.cells[0]}×${a.cells[1]} cells, ${describeBoundary(a.boundary)}`, '');
+    lines.push(
+      table([
+        ['flexes', `${c.flexes} (${c.trivialFlexes} of them trivial: rigid motions the boundary allows, not removed)`],
+        ...FLEX_CLASSES.map((k) => [k, String(c.counts[k])] as [string, string]),
+        ['short strip pieces', `${c.shortStripFlexes ?? 0} (in no window and on under 2/3 of a strip; counted as decaying or bulk)`],
+        ['solver', `${r.analysis.solver} (${r.analysis.solverReason})`],
+      ]).trimEnd(),
+    );
+    lines.push('', 'Thresholds:');
+    lines.push(table(Object.entries(c.thresholds).map(([k, v]) => [k, String(v)])).trimEnd());
+    for (const w of c.warnings ?? []) lines.push('', `Warning: ${w}`);
+    const shown: [number, ClassifiedMode][] = [];
+    for (const k of FLEX_CLASSES) c.modes.forEach((m, i) => {
+      if (m.class === k && shown.filter(([, x]) => x.class === k).length < PER_CLASS_SHOWN) shown.push([i, m]);
+    });
+    if (shown.length) {
+      lines.push('', `Modes (${shown.length} of ${c.modes.length} shown, at most ${PER_CLASS_SHOWN} per class; --json lists all, --out FILE adds the vectors):`);
+      const rows = [['mode', 'class', 'support', 'extents (cells)', 'participation', 'where'], ...shown.map(([i, m]) => [String(i), m.class, `${m.support} joints`, `${fmt(m.extents[0], 3)} × ${fmt(m.extents[1], 3)}`, fmt(m.participation, 3), modeWhere(m)])];
+      const widths = rows[0].map((_, col) => Math.max(...rows.map((row) => row[col].length)));
+      for (const row of rows) lines.push('  ' + row.map((cell, col) => (col === row.length - 1 ? cell : cell.padEnd(widths[col]))).join('  ').trimEnd());
+    }
+    if (outPath !== undefined) lines.push('', `Wrote the full classification with vectors to ${outPath}.`);
+    lines.push('', CAUTION, '');
+    io.out(lines.join('\n'));
+    return 0;
+  },
+};

@@ -1,0 +1,147 @@
+/** `shimmy sweep`: classify the flexes at a series of sizes and fit their growth with N. */
+import { InputError } from '../errors.js';
+import { SWEEP_QUANTITIES, sweep, type SweepResult, type SweepRow } from '../flex/sweep.js';
+import { MAX_CELLS_PER_AXIS } from '../supercell/supercell.js';
+import { describeBoundary } from '../supercell/boundary.js';
+import type { Command } from './command.js';
+import { CLASS_HELP, CLASSIFY_FLAGS, readClassifyFlags } from './classify.js';
+import { BOUNDARY_HELP, fmt, FRAMEWORK_HELP, readSupercellArgs, SUPERCELL_FLAGS } from './common.js';
+
+const RANGE_HELP =
+  'write N, N1xN2, A..B[:STEP] (square sizes A×A up to B×B) or A1xA2..B1xB2[:STEP], or a comma list of these, e.g. --cells 4..16:4 or --cells 4x8..16x32';
+
+/**
+ * The sizes of `--cells`: a comma list of single sizes (N or N1xN2) and ranges.
+ *  - A..B[:s]            square sizes N×N for N = A, A+s, …, up to B (s defaults to 1);
+ *  - A1xA2..B1xB2[:s]    both sides scale together: N1 = A1, A1+s, … up to B1, and
+ *                        N2 = A2 + (N1 − A1)·(B2 − A2)/(B1 − A1), which must be whole
+ *                        (e.g. 4x8..16x32 gives N2 = 2·N1). When A1 = B1, N1 stays fixed
+ *                        and N2 runs A2, A2+s, … up to B2.
+ */
+export function parseSizeList(text: string, flag = '--cells'): [number, number][] {
+  const bad = (what: string): never => {
+    throw new InputError(`The sizes "${text}" cannot be used:`, [{ where: flag, what, fix: RANGE_HELP }]);
+  };
+  const size = (t: string): [number, number] => {
+    const m = /^\s*(\d+)\s*(?:[x×X]\s*(\d+))?\s*$/.exec(t);
+    if (!m) return bad(`"${t}" is not a size of whole cells`);
+    const a = Number(m[1]);
+    const b = Number(m[2] ?? m[1]);
+    if (a < 1 || b < 1 || a > MAX_CELLS_PER_AXIS || b > MAX_CELLS_PER_AXIS) return bad(`each side of "${t}" must be from 1 to ${MAX_CELLS_PER_AXIS}`);
+    return [a, b];
+  };
+  const out: [number, number][] = [];
+  if (text.trim() === '') bad('no size given');
+  for (const part of text.split(',')) {
+    const range = /^(.*)\.\.([^:]*)(?::\s*(\d+)\s*)?$/.exec(part.trim());
+    if (!range) {
+      out.push(size(part));
+      continue;
+    }
+    const [lo, hi] = [size(range[1]), size(range[2])];
+    const step = range[3] === undefined ? 1 : Number(range[3]);
+    if (!(step >= 1)) bad(`the step of "${part}" must be a whole number of at least 1`);
+    if (lo[0] === hi[0]) {
+      if (hi[1] < lo[1]) bad(`"${part}" runs backwards; write the smaller size first`);
+      for (let n2 = lo[1]; n2 <= hi[1]; n2 += step) out.push([lo[0], n2]);
+      continue;
+    }
+    if (hi[0] < lo[0]) bad(`"${part}" runs backwards; write the smaller size first`);
+    for (let n1 = lo[0]; n1 <= hi[0]; n1 += step) {
+      const n2 = lo[1] + ((n1 - lo[0]) * (hi[1] - lo[1])) / (hi[0] - lo[0]);
+      if (!Number.isInteger(n2)) bad(`in "${part}" the second side ${lo[1]} + (N1 − ${lo[0]})·${hi[1] - lo[1]}/${hi[0] - lo[0]} is not whole at N1 = ${n1}; choose ends and a step that keep it whole`);
+      if (n2 < 1) bad(`in "${part}" the second side falls below 1 at N1 = ${n1}`);
+      out.push([n1, n2]);
+    }
+  }
+  if (out.length > 1000) bad(`${out.length} sizes is too many for one sweep (at most 1000)`);
+  return out;
+}
+
+const COLUMNS: (keyof SweepRow)[] = ['N1', 'N2', 'joints', 'bars', 'flexes', 'trivial', 'selfStresses', 'local', 'line', 'decaying', 'bulk', 'seconds'];
+
+function cell(row: SweepRow, k: keyof SweepRow): string {
+  const v = row[k];
+  if (k === 'seconds') return (v as number).toFixed(2);
+  return String(v);
+}
+
+function fitLines(r: SweepResult): string[] {
+  const lines = [`Growth with the linear size N = ${r.linearSize} (least squares of ln count against ln N, sizes with count > 0):`];
+  for (const q of SWEEP_QUANTITIES) {
+    const f = r.fits[q];
+    lines.push(`  ${q.padEnd(9)} ${f.exponent === null ? `no fit (${f.points} usable size${f.points === 1 ? '' : 's'})` : `exponent ${fmt(f.exponent, 3)}, R² ${fmt(f.r2, 4)} over ${f.points} sizes`}`);
+  }
+  return lines;
+}
+
+export const sweepCommand: Command = {
+  name: 'sweep',
+  summary: 'Classify the flexes at a series of supercell sizes and fit how each class count grows with N.',
+  usage: 'shimmy sweep FRAMEWORK --cells A..B[:STEP] [--bc SPEC] [--window 3] [--strip 2] [--tol 1e-9] [--solver auto] [--csv | --json]',
+  flags: [
+    { name: '--cells', value: 'SIZES', help: 'sizes: A..B[:STEP] (squares), A1xA2..B1xB2[:STEP] (both sides together) or a comma list', default: '4..8' },
+    ...SUPERCELL_FLAGS.filter((f) => f.name !== '--cells'),
+    ...CLASSIFY_FLAGS,
+    { name: '--csv', help: 'print the rows as CSV (header first; the fits are in the table and --json only)' },
+    { name: '--json', help: 'print one JSON object: rows, fits and thresholds' },
+    { name: '--help', help: 'show this help' },
+  ],
+  maxPositional: 1,
+  details: [
+    'Sizes: A..B[:STEP] means N×N for N = A, A+STEP, … up to B (STEP defaults to 1). A1xA2..B1xB2[:STEP]',
+    'scales both sides together: N1 runs from A1 by STEP up to B1 and N2 = A2 + (N1 − A1)·(B2 − A2)/(B1 − A1)',
+    '(so 4x8..16x32 gives N1 = 4…16 with N2 = 2·N1); with A1 = B1 only N2 steps. Sizes may be listed with commas.',
+    'Columns: N1, N2, joints, bars, flexes, trivial (rigid motions among the flexes), selfStresses, the four',
+    'class counts and seconds (solve and classification). The fits use the side that varies as N',
+    '(N1 or N2), or √(N1·N2) when both do. Every size runs the full analysis, so the time grows',
+    'quickly with size for the dense solver.',
+    '',
+    ...CLASS_HELP,
+    '',
+    ...FRAMEWORK_HELP,
+    '',
+    ...BOUNDARY_HELP,
+  ],
+  run(args, io) {
+    const sizes = parseSizeList((args.flags.get('--cells') as string | undefined) ?? '4..8');
+    if (args.flags.has('--csv') && args.flags.has('--json')) {
+      throw new InputError('sweep prints one format:', [{ where: '--csv --json', what: 'both formats were asked for', fix: 'write either --csv or --json (or neither for a table)' }]);
+    }
+    const first = `${sizes[0][0]}x${sizes[0][1]}`;
+    const flags = new Map(args.flags);
+    flags.set('--cells', first); // the sizes are parsed above; this only satisfies the shared reader
+    const a = readSupercellArgs({ positional: args.positional, flags }, io, 'sweep');
+    const opts = readClassifyFlags(args);
+    const mode = args.flags.has('--csv') ? 'csv' : args.flags.has('--json') ? 'json' : 'table';
+    const widths = COLUMNS.map((k) => Math.max(k.length, 6));
+    if (mode === 'table') {
+      const title = a.framework.name ? `${a.framework.name} (${a.spec})` : a.spec;
+      io.out(`shimmy sweep: ${title}\n  ${describeBoundary(a.boundary)}; ${sizes.length} size${sizes.length === 1 ? '' : 's'}\n\n`);
+      io.out('  ' + COLUMNS.map((k, i) => k.padStart(widths[i])).join(' ') + '\n');
+    }
+    if (mode === 'csv') io.out(COLUMNS.join(',') + '\n');
+    const result = sweep(a.framework, {
+      sizes,
+      boundary: a.bcText,
+      tolerance: a.tolerance,
+      solver: a.solver,
+      window: opts.window,
+      strip: opts.strip,
+      onRow: (row) => {
+        if (mode === 'table') io.out('  ' + COLUMNS.map((k, i) => cell(row, k).padStart(widths[i])).join(' ') + '\n');
+        if (mode === 'csv') io.out(COLUMNS.map((k) => (k === 'seconds' ? String(row.seconds) : cell(row, k))).join(',') + '\n');
+      },
+    });
+    if (mode === 'json') {
+      io.out(JSON.stringify({ framework: a.spec, name: a.framework.name ?? null, ...result }, null, 2) + '\n');
+      return 0;
+    }
+    if (mode === 'table') {
+      const warned = result.rows.filter((r) => r.warnings.length);
+      io.out('\n' + fitLines(result).join('\n') + '\n');
+      for (const r of warned) io.out(`\nWarning at ${r.N1}×${r.N2}: ${r.warnings.join('; ')}\n`);
+    }
+    return 0;
+  },
+};

@@ -1,0 +1,1773 @@
+/**
+ * Where flexes live: a basis-independent split of the flex space K = ker R into four classes.
+ *
+ * Everything works with SUBSPACES of K, never with the basis a solver returned, so the counts
+ * do not change when that basis is rotated, when joints are relabelled, or when the unit
+ * cell's origin moves (as long as the windows and strips still hold the same supports).
+ * Cells are the supercell's cells (i, j); a region is a set of cells and its joints.
+ *
+ *  - local: flexes supported inside a window of at most w×w cells (default w = 3), at any
+ *    position: corners and edges included, wrapping across twisted axes. A flex supported on
+ *    a joint set S is exactly a kernel vector of R restricted to the columns of S and the
+ *    rows of every bar touching S (bars to outside joints constrain too: outside joints do
+ *    not move). The local span L is the sum of these restricted kernels over square windows
+ *    of 1×1 up to w×w cells at every position. Restricted problems count σ ≤ the global
+ *    absolute tolerance (relative × σ_max of the whole R) as zero, so their decisions agree
+ *    with the global count.
+ *  - line: flexes supported inside a strip at most s cells wide (default s = 2) along a
+ *    lattice direction (p, q) (default (1,0), (0,1), (1,1), (1,−1)) whose support runs along
+ *    at least 2/3 of the strip's length inside the supercell. For each strip S with ℓ cells
+ *    along it, the short pieces are ker_T for the sub-segments T of S shorter than 2/3·ℓ;
+ *    with M = L + Σ_S Σ_T ker_T (local plus short pieces), the line span is
+ *    (M + Σ_S ker_S) ⊖ M, i.e. ker_S modulo (L + short pieces), summed over strips. Strips
+ *    along twisted axes wrap into closed lines whose sub-segments are arcs.
+ *  - A window or strip holding every cell of the supercell is not used: in a supercell at
+ *    most w (or s) cells across every flex would otherwise be local (or a line).
+ *  - decaying and bulk split the rest, ker R ⊖ (L ⊕ lines) (short pieces belong to it).
+ *    First the nearest-side distance operator (cells to the closest non-wrapping side) is
+ *    compressed to the rest and diagonalised; eigenvectors whose mean distance exceeds the
+ *    head radius h (below) are "far", the others "near" (basis-independent). Each part is
+ *    then localised by SCDM, selected columns of the density matrix (A. Damle, L. Lin &
+ *    L. Ying, "Compressed representation of Kohn–Sham orbitals via selected columns of the
+ *    density matrix", J. Chem. Theory Comput. 11(4), 1463–1469, 2015), in its orthonormal
+ *    form Ψ·U·Vᴴ with Ψ(C,:)ᴴ = UΣVᴴ and C the pivots of a column-pivoted QR of Ψᴴ; it
+ *    depends on the subspace only. A localised vector is decaying when, for some anchor
+ *    (a corner, a side, or the interior point given by its heaviest cell), at least
+ *    HEAD_WEIGHT of its squared amplitude lies within h = max(1, ⌊E/4⌋) cells of the anchor
+ *    (E = the number of distance rings from that anchor) and a least-squares fit of log
+ *    amplitude (root mean square per joint of each ring, rings below FIT_FLOOR × the largest
+ *    left out) against distance, each ring weighted by its share of the squared amplitude,
+ *    has a negative slope with (weighted) R² ≥ MIN_R2. ξ = −1/slope, in
+ *    cells, is the amplitude decay length: squared amplitude ∝ exp(−2d/ξ). Corners are tried
+ *    first, then sides, then the point; among passing corners (or sides) the one with the
+ *    smallest mean distance is reported. Anything else is bulk.
+ * Rigid motions are NOT projected out first (that would destroy locality); they usually land
+ * in bulk, and `trivialFlexes` is reported beside the counts. Counts sum to the flexes.
+ *
+ * Distances are whole cells from cell indices: from a side, the number of cells between a
+ * joint's cell and that side; from a corner or a point, the larger of the two cell offsets
+ * (wrapping along twisted axes).
+ *
+ * Vectors: local and line modes are the restricted-kernel vectors as found, smallest regions
+ * first, each new direction made as sparse as possible by elementary operations within its
+ * region (unit norm, independent, compact; not mutually orthogonal). Decaying and bulk modes
+ * are the orthonormal SCDM vectors, orthogonal to every local mode (and to every line mode
+ * when there are no short strip pieces).
+ *
+ * The restricted problems are dense SVDs (src/linalg/dense.ts) of the restricted rigidity
+ * matrix for small regions, the banded sparse solver (src/flex/solve-sparse.ts) for large
+ * ones, or, when the flex space is small, the same kernel {x ∈ K : x = 0 outside S} from the
+ * global flex basis (candidates projected onto the restricted null space and kept by the
+ * rank rule, so every method decides alike). Short pieces are kept by the same rank rule.
+ * The one function that decides and runs the restricted solve is `restrictedKernel`. Span
+ * decisions (is a region's flex new?) count a residual ≤ SPAN_TOLERANCE as already known.
+ * Cost: about 3·N1·N2 window and 4·s·(N1 + N2) strip problems, each small.
+ */
+import { EigenvalueDecomposition, Matrix, SingularValueDecomposition } from 'ml-matrix';
+import { InputError } from '../errors.js';
+import type { CVec } from '../linalg/complex.js';
+import { DENSE_MEMORY_LIMIT, nullSpace, singularValues } from '../linalg/dense.js';
+import type { SparseMatrix } from '../linalg/sparse.js';
+import type { Supercell } from '../supercell/supercell.js';
+import type { Anchor, Classification, ClassifiedMode, ClassifyOptions, FlexClass } from './classes.js';
+import { sparseSpaces } from './solve-sparse.js';
+import { throwIfAborted } from './solver.js';
+import type { FlexAnalysis } from './spaces.js';
+
+// ---------------------------------------------------------------------------------------------
+// Thresholds (every one is reported in Classification.thresholds)
+
+export const DEFAULT_WINDOW = 3;
+export const DEFAULT_STRIP = 2;
+export const DEFAULT_DIRECTIONS: readonly [number, number][] = [
+  [1, 0],
+  [0, 1],
+  [1, 1],
+  [1, -1],
+];
+/** A strip flex is a line when its support runs along at least this fraction of the strip. */
+export const LINE_COVERAGE = 2 / 3;
+/**
+ * Two subspaces of unit vectors are told apart at this residual: a vector whose distance to a
+ * span is at most SPAN_TOLERANCE (relative to its norm) lies in that span.
+ */
+export const SPAN_TOLERANCE = 1e-5;
+/** Joints whose amplitude is at least this fraction of the largest amplitude form the support. */
+export const SUPPORT_AMPLITUDE = 1e-3;
+/** Decaying: at least this share of the squared amplitude lies within the head radius. */
+export const HEAD_WEIGHT = 0.8;
+/** Decaying: the fit of log amplitude against distance must reach this R². */
+export const MIN_R2 = 0.6;
+/** Rings whose amplitude is below this fraction of the largest ring amplitude are left out of the fit. */
+export const FIT_FLOOR = 1e-6;
+
+// ---------------------------------------------------------------------------------------------
+// Small complex linear algebra on plain arrays
+
+/** A set of vectors supported on the same degrees of freedom (column indices of R). */
+interface Block {
+  dofs: Int32Array;
+  vectors: { re: Float64Array; im: Float64Array }[];
+}
+
+interface HermitianEigen {
+  /** Ascending. */
+  values: number[];
+  vectors: { re: Float64Array; im: Float64Array }[];
+}
+
+/**
+ * Eigen-decomposition of a Hermitian k×k matrix H = A + iB given row-major. A complex H goes
+ * through the real symmetric embedding [[A, −B], [B, A]] whose eigenvalues are H's, each
+ * twice; the complex eigenvectors are picked from the embedded ones by Gram–Schmidt.
+ */
+export function hermitianEigen(re: Float64Array, im: Float64Array | null, k: number): HermitianEigen {
+  if (k === 0) return { values: [], vectors: [] };
+  if (im === null) {
+    const M = new Matrix(k, k);
+    for (let a = 0; a < k; a++) for (let b = 0; b < k; b++) M.set(a, b, 0.5 * (re[a * k + b] + re[b * k + a]));
+    const evd = new EigenvalueDecomposition(M, { assumeSymmetric: true });
+    const vals = evd.realEigenvalues;
+    const V = evd.eigenvectorMatrix;
+    const order = vals.map((_, i) => i).sort((a, b) => vals[a] - vals[b]);
+    return {
+      values: order.map((i) => vals[i]),
+      vectors: order.map((i) => ({ re: Float64Array.from(V.getColumn(i)), im: new Float64Array(k) })),
+    };
+  }
+  const E = new Matrix(2 * k, 2 * k);
+  for (let a = 0; a < k; a++)
+    for (let b = 0; b < k; b++) {
+      const r = 0.5 * (re[a * k + b] + re[b * k + a]);
+      const i = 0.5 * (im[a * k + b] - im[b * k + a]);
+      E.set(a, b, r);
+      E.set(a + k, b + k, r);
+      E.set(a, b + k, -i);
+      E.set(a + k, b, i);
+    }
+  const evd = new EigenvalueDecomposition(E, { assumeSymmetric: true });
+  const vals = evd.realEigenvalues;
+  const V = evd.eigenvectorMatrix;
+  const order = vals.map((_, i) => i).sort((a, b) => vals[a] - vals[b]);
+  const values: number[] = [];
+  const vectors: { re: Float64Array; im: Float64Array }[] = [];
+  for (const idx of order) {
+    if (vectors.length === k) break;
+    const col = V.getColumn(idx);
+    const v = { re: Float64Array.from(col.slice(0, k)), im: Float64Array.from(col.slice(k)) };
+    for (let pass = 0; pass < 2; pass++) for (const u of vectors) subtractProjection(v, u);
+    const nv = norm(v);
+    if (nv < 0.5) continue; // the partner (−y; x) of an eigenvector already taken
+    scaleInPlace(v, 1 / nv);
+    values.push(vals[idx]);
+    vectors.push(v);
+  }
+  return { values, vectors };
+}
+
+function dot(a: { re: Float64Array; im: Float64Array }, b: { re: Float64Array; im: Float64Array }): [number, number] {
+  let sr = 0;
+  let si = 0;
+  for (let i = 0; i < a.re.length; i++) {
+    sr += a.re[i] * b.re[i] + a.im[i] * b.im[i];
+    si += a.re[i] * b.im[i] - a.im[i] * b.re[i];
+  }
+  return [sr, si];
+}
+
+function norm(a: { re: Float64Array; im: Float64Array }): number {
+  let s = 0;
+  for (let i = 0; i < a.re.length; i++) s += a.re[i] * a.re[i] + a.im[i] * a.im[i];
+  return Math.sqrt(s);
+}
+
+function scaleInPlace(a: { re: Float64Array; im: Float64Array }, s: number): void {
+  for (let i = 0; i < a.re.length; i++) {
+    a.re[i] *= s;
+    a.im[i] *= s;
+  }
+}
+
+/** v −= ⟨u, v⟩ u for unit u. */
+function subtractProjection(v: { re: Float64Array; im: Float64Array }, u: { re: Float64Array; im: Float64Array }): void {
+  const [cr, ci] = dot(u, v);
+  for (let i = 0; i < v.re.length; i++) {
+    v.re[i] -= cr * u.re[i] - ci * u.im[i];
+    v.im[i] -= cr * u.im[i] + ci * u.re[i];
+  }
+}
+
+/** Σ_b y_b · vectors[b] (all on the same dofs). */
+function combine(vectors: { re: Float64Array; im: Float64Array }[], y: { re: Float64Array; im: Float64Array }): { re: Float64Array; im: Float64Array } {
+  const len = vectors.length ? vectors[0].re.length : 0;
+  const out = { re: new Float64Array(len), im: new Float64Array(len) };
+  vectors.forEach((v, b) => {
+    const yr = y.re[b];
+    const yi = y.im[b];
+    if (yr === 0 && yi === 0) return;
+    for (let i = 0; i < len; i++) {
+      out.re[i] += yr * v.re[i] - yi * v.im[i];
+      out.im[i] += yr * v.im[i] + yi * v.re[i];
+    }
+  });
+  return out;
+}
+
+/** Polar factor W = U Vᴴ of a complex r×r matrix M = U Σ Vᴴ given row-major (im null when real). */
+function polarFactor(re: Float64Array, im: Float64Array | null, r: number): { re: Float64Array; im: Float64Array } {
+  const f = im ? 2 : 1;
+  const E = new Matrix(f * r, f * r);
+  for (let a = 0; a < r; a++)
+    for (let b = 0; b < r; b++) {
+      E.set(a, b, re[a * r + b]);
+      if (im) {
+        E.set(a + r, b + r, re[a * r + b]);
+        E.set(a, b + r, -im[a * r + b]);
+        E.set(a + r, b, im[a * r + b]);
+      }
+    }
+  const svd = new SingularValueDecomposition(E, { computeLeftSingularVectors: true, computeRightSingularVectors: true });
+  const W = svd.leftSingularVectors.mmul(svd.rightSingularVectors.transpose());
+  const out = { re: new Float64Array(r * r), im: new Float64Array(r * r) };
+  for (let a = 0; a < r; a++)
+    for (let b = 0; b < r; b++) {
+      out.re[a * r + b] = W.get(a, b);
+      if (im) out.im[a * r + b] = W.get(a + r, b);
+    }
+  return out;
+}
+
+// ---------------------------------------------------------------------------------------------
+// Regions: windows and strips of cells
+
+/** Cell index c = j·N1 + i. */
+interface Region {
+  kind: 'window' | 'strip';
+  /** Cells of the region (distinct). */
+  cells: number[];
+  /** For strips: the along-strip coordinate of each cell (same order as `cells`). */
+  along?: number[];
+  direction?: [number, number];
+  width: number;
+  /** Strips: true when the strip closes on itself along a twisted axis. */
+  closed?: boolean;
+  /** Strips: the number of along-strip positions inside the supercell (the period when closed). */
+  length?: number;
+  label: string;
+}
+
+interface Axes {
+  N1: number;
+  N2: number;
+  /** True for a twisted (wrapping) axis. */
+  px: boolean;
+  py: boolean;
+}
+
+function axesOf(sc: Supercell): Axes {
+  return { N1: sc.cells[0], N2: sc.cells[1], px: sc.boundary.x.kind === 'twist', py: sc.boundary.y.kind === 'twist' };
+}
+
+function mod(a: number, n: number): number {
+  return ((a % n) + n) % n;
+}
+
+function gcd(a: number, b: number): number {
+  a = Math.abs(a);
+  b = Math.abs(b);
+  while (b) [a, b] = [b, a % b];
+  return a;
+}
+
+/** The supercell cell at unwrapped cell coordinates (i, j), or −1 when outside. */
+function cellAt(ax: Axes, i: number, j: number): number {
+  let ii = i;
+  let jj = j;
+  if (ax.px) ii = mod(i, ax.N1);
+  else if (i < 0 || i >= ax.N1) return -1;
+  if (ax.py) jj = mod(j, ax.N2);
+  else if (j < 0 || j >= ax.N2) return -1;
+  return jj * ax.N1 + ii;
+}
+
+/** Square windows of 1×1 up to w×w cells at every position (wrapping along twisted axes), deduplicated. */
+function windowsOf(ax: Axes, w: number): Region[] {
+  const out: Region[] = [];
+  const seen = new Set<string>();
+  for (let size = 1; size <= w; size++) {
+    const positions = (N: number, periodic: boolean): [number, number][] => {
+      const span = Math.min(size, N);
+      if (span === N) return [[0, N]];
+      const count = periodic ? N : N - span + 1;
+      return Array.from({ length: count }, (_, p) => [p, span] as [number, number]);
+    };
+    for (const [j0, sj] of positions(ax.N2, ax.py))
+      for (const [i0, si] of positions(ax.N1, ax.px)) {
+        const cells: number[] = [];
+        for (let dj = 0; dj < sj; dj++) for (let di = 0; di < si; di++) cells.push(cellAt(ax, i0 + di, j0 + dj));
+        const key = [...cells].sort((a, b) => a - b).join(',');
+        // a window holding every cell is the whole supercell, not a window
+        if (seen.has(key) || cells.length === ax.N1 * ax.N2) continue;
+        seen.add(key);
+        out.push({ kind: 'window', cells, width: size, label: `window ${si}×${sj} at cell (${i0}, ${j0})` });
+      }
+  }
+  return out;
+}
+
+function det(a: [number, number], b: [number, number]): number {
+  return a[0] * b[1] - a[1] * b[0];
+}
+
+/** A transverse step e with det(d, e) = 1 (d primitive). */
+function transverse(d: [number, number]): [number, number] {
+  // extended Euclid on (p, q): find (x, y) with p·y − q·x = 1
+  const [p, q] = d;
+  const ext = (a: number, b: number): [number, number, number] => {
+    if (b === 0) return [a, 1, 0];
+    const [g, x, y] = ext(b, a % b);
+    return [g, y, x - Math.trunc(a / b) * y];
+  };
+  const [g, s, t] = ext(p, -q); // p·s + (−q)·t = g = ±1
+  const e: [number, number] = [t / g, s / g];
+  if (det(d, e) !== 1) throw new Error(`no transverse step for direction (${p}, ${q})`);
+  return e;
+}
+
+/**
+ * Strips of width 1..s along direction d. Cells are written c = k·d + m·e (det(d, e) = 1):
+ * lines are m = const with along-coordinate k. Twisted axes identify (k, m) with
+ * (k + τ_k, m + τ_m) for τ = N·u (u the axis); lines close when some identification keeps m.
+ */
+function stripsOf(ax: Axes, d: [number, number], sMax: number): Region[] {
+  const e = transverse(d);
+  const taus: [number, number][] = [];
+  if (ax.px) taus.push([det([ax.N1, 0], e), det(d, [ax.N1, 0])]);
+  if (ax.py) taus.push([det([0, ax.N2], e), det(d, [0, ax.N2])]);
+  // transverse period g (m identified modulo g) and along period P (closed lines), if any
+  let g = 0;
+  for (const t of taus) g = gcd(g, t[1]);
+  let P = 0;
+  if (taus.length === 1 && taus[0][1] === 0) P = Math.abs(taus[0][0]);
+  if (taus.length === 2) {
+    const [t1, t2] = taus;
+    const h = gcd(t1[1], t2[1]);
+    if (h === 0) P = gcd(t1[0], t2[0]);
+    else P = Math.abs((t2[1] / h) * t1[0] - (t1[1] / h) * t2[0]);
+  }
+  const cellOf = (k: number, m: number): number => cellAt(ax, k * d[0] + m * e[0], k * d[1] + m * e[1]);
+  // range of m
+  let mLo: number;
+  let mHi: number;
+  if (g > 0) {
+    mLo = 0;
+    mHi = g - 1;
+  } else {
+    mLo = Infinity;
+    mHi = -Infinity;
+    for (let j = 0; j < ax.N2; j++)
+      for (let i = 0; i < ax.N1; i++) {
+        const m = det(d, [i, j]);
+        mLo = Math.min(mLo, m);
+        mHi = Math.max(mHi, m);
+      }
+  }
+  // k range of line m (open lines)
+  const kBound = 2 * (ax.N1 + ax.N2) + 4;
+  const lineCells = (m: number): { k: number; cell: number }[] => {
+    const out: { k: number; cell: number }[] = [];
+    if (P > 0) {
+      for (let k = 0; k < P; k++) {
+        const c = cellOf(k, m);
+        if (c >= 0) out.push({ k, cell: c });
+      }
+      return out;
+    }
+    for (let k = -kBound; k <= kBound; k++) {
+      const c = cellOf(k, m);
+      if (c >= 0) out.push({ k, cell: c });
+    }
+    return out;
+  };
+  const out: Region[] = [];
+  const seen = new Set<string>();
+  const span = mHi - mLo + 1;
+  for (let s = 1; s <= Math.min(sMax, span); s++) {
+    const starts = g > 0 ? (s === g ? [0] : Array.from({ length: g }, (_, t) => t)) : Array.from({ length: span - s + 1 }, (_, t) => mLo + t);
+    for (const m0 of starts) {
+      const cells: number[] = [];
+      const along: number[] = [];
+      const used = new Set<number>();
+      for (let m = m0; m < m0 + s; m++)
+        for (const { k, cell } of lineCells(m)) {
+          if (used.has(cell)) continue;
+          used.add(cell);
+          cells.push(cell);
+          along.push(k);
+        }
+      // a strip holding every cell is the whole supercell, not a strip
+      if (cells.length === 0 || cells.length === ax.N1 * ax.N2) continue;
+      const key = [...cells].sort((a, b) => a - b).join(',');
+      if (seen.has(key)) continue;
+      seen.add(key);
+      let length: number;
+      if (P > 0) length = P;
+      else length = Math.max(...along) - Math.min(...along) + 1;
+      out.push({
+        kind: 'strip',
+        cells,
+        along,
+        direction: [d[0], d[1]],
+        width: s,
+        closed: P > 0,
+        length,
+        label: `strip (${d[0]}, ${d[1]}) of width ${s} at offset ${m0}${P > 0 ? ' (closed)' : ''}`,
+      });
+    }
+  }
+  return out;
+}
+
+/** Sub-segments of a strip shorter than LINE_COVERAGE of its length (maximal ones, all positions). */
+function shortSegments(strip: Region): number[][] {
+  const L = strip.length!;
+  const lenT = Math.ceil(LINE_COVERAGE * L) - 1;
+  if (lenT < 1) return [];
+  const along = strip.along!;
+  const out: number[][] = [];
+  if (strip.closed) {
+    for (let k0 = 0; k0 < L; k0++) {
+      const idx: number[] = [];
+      along.forEach((k, t) => {
+        if (mod(k - k0, L) < lenT) idx.push(t);
+      });
+      out.push(idx);
+    }
+  } else {
+    const lo = Math.min(...along);
+    const hi = Math.max(...along);
+    for (let k0 = lo; k0 + lenT - 1 <= hi; k0++) {
+      const idx: number[] = [];
+      along.forEach((k, t) => {
+        if (k >= k0 && k < k0 + lenT) idx.push(t);
+      });
+      out.push(idx);
+    }
+  }
+  return out;
+}
+
+// ---------------------------------------------------------------------------------------------
+// The context shared by the steps
+
+type RestrictedMethod = 'restricted-svd' | 'restricted-sparse' | 'kernel-intersection';
+
+interface Ctx {
+  sc: Supercell;
+  R: SparseMatrix;
+  /** Columns of R. */
+  n: number;
+  /** R is complex (a twist other than 0 or ½). */
+  complex: boolean;
+  /** The flex basis is complex (only when R is: a complex basis of a real R is made real). */
+  basisComplex: () => boolean;
+  /** Absolute rank tolerance of the whole R (relative × σ_max). */
+  absTol: number;
+  spanTol: number;
+  /** Relative rank tolerance and memory limit of the analysis (for the sparse restricted solves). */
+  relative: number;
+  memoryLimit: number;
+  /** Number of flexes (for cost estimates, without computing the basis). */
+  analysisFlexes: number;
+  /** Rows of R touching each joint. */
+  rowsOfJoint: Int32Array[];
+  /** Joints of each cell. */
+  cellJoints: number[][];
+  flexBasis: () => CVec[];
+  method: 'auto' | RestrictedMethod;
+  used: Record<RestrictedMethod, number>;
+}
+
+function makeContext(sc: Supercell, analysis: FlexAnalysis, method: Ctx['method']): Ctx {
+  const R = analysis.matrix;
+  const J = sc.jointCount;
+  const counts = new Int32Array(J);
+  const rowJoints: number[][] = [];
+  for (let r = 0; r < R.rows; r++) {
+    const js = new Set<number>();
+    for (let k = R.rowPtr[r]; k < R.rowPtr[r + 1]; k++) js.add(R.colIdx[k] >> 1);
+    rowJoints.push([...js]);
+    for (const j of js) counts[j]++;
+  }
+  const rowsOfJoint = Array.from({ length: J }, (_, j) => new Int32Array(counts[j]));
+  const fill = new Int32Array(J);
+  rowJoints.forEach((js, r) => {
+    for (const j of js) rowsOfJoint[j][fill[j]++] = r;
+  });
+  const N1 = sc.cells[0];
+  const cellJoints: number[][] = Array.from({ length: sc.cells[0] * sc.cells[1] }, () => []);
+  for (let k = 0; k < J; k++) cellJoints[sc.jointCells[2 * k + 1] * N1 + sc.jointCells[2 * k]].push(k);
+  let basis: CVec[] | undefined;
+  const flexBasis = () => (basis ??= realIfPossible(analysis.flexBasis().vectors, R.im === null, analysis.flexes));
+  return {
+    sc,
+    R,
+    n: R.cols,
+    complex: R.im !== null,
+    basisComplex: () => R.im !== null,
+    absTol: analysis.tolerance.absolute,
+    analysisFlexes: analysis.flexes,
+    relative: analysis.tolerance.relative,
+    memoryLimit: DENSE_MEMORY_LIMIT,
+    spanTol: SPAN_TOLERANCE,
+    rowsOfJoint,
+    cellJoints,
+    flexBasis,
+    method,
+    used: { 'restricted-svd': 0, 'restricted-sparse': 0, 'kernel-intersection': 0 },
+  };
+}
+
+/**
+ * A real matrix has a real kernel: when a solver returns complex vectors for a real R, their
+ * real and imaginary parts span that kernel, and an orthonormal real basis of it is used.
+ */
+function realIfPossible(vectors: CVec[], realMatrix: boolean, dim: number): CVec[] {
+  if (!realMatrix || vectors.every((v) => v.im.every((x) => x === 0))) return vectors;
+  const parts: { re: Float64Array; im: Float64Array }[] = [];
+  for (const v of vectors) {
+    parts.push({ re: Float64Array.from(v.re), im: new Float64Array(v.re.length) });
+    parts.push({ re: Float64Array.from(v.im), im: new Float64Array(v.im.length) });
+  }
+  parts.sort((a, b) => norm(b) - norm(a));
+  const out: { re: Float64Array; im: Float64Array }[] = [];
+  for (const v of parts) {
+    if (out.length === dim) break;
+    const n0 = norm(v);
+    if (n0 === 0) continue;
+    for (let pass = 0; pass < 2; pass++) for (const u of out) subtractProjection(v, u);
+    const nv = norm(v);
+    if (nv <= 1e-6 * n0) continue;
+    scaleInPlace(v, 1 / nv);
+    out.push(v);
+  }
+  return out;
+}
+
+function jointsOfCells(ctx: Ctx, cells: number[]): number[] {
+  const out: number[] = [];
+  for (const c of cells) out.push(...ctx.cellJoints[c]);
+  return out.sort((a, b) => a - b);
+}
+
+/**
+ * The rows of R touching `joints`, restricted to those joints' columns (x, y per joint, in
+ * the order given). Entries at other joints are left out: those joints do not move.
+ */
+export function restrictedMatrix(R: SparseMatrix, rowsOfJoint: Int32Array[], joints: number[]): { matrix: SparseMatrix; dofs: Int32Array } {
+  const colOf = new Map<number, number>();
+  const dofs = new Int32Array(2 * joints.length);
+  joints.forEach((j, t) => {
+    colOf.set(2 * j, 2 * t);
+    colOf.set(2 * j + 1, 2 * t + 1);
+    dofs[2 * t] = 2 * j;
+    dofs[2 * t + 1] = 2 * j + 1;
+  });
+  const rowSet = new Set<number>();
+  for (const j of joints) for (const r of rowsOfJoint[j]) rowSet.add(r);
+  const rows = [...rowSet].sort((a, b) => a - b);
+  const rowPtr = new Int32Array(rows.length + 1);
+  const colIdx: number[] = [];
+  const re: number[] = [];
+  const im: number[] = [];
+  rows.forEach((r, t) => {
+    const entries: [number, number, number][] = [];
+    for (let k = R.rowPtr[r]; k < R.rowPtr[r + 1]; k++) {
+      const c = colOf.get(R.colIdx[k]);
+      if (c !== undefined) entries.push([c, R.re[k], R.im ? R.im[k] : 0]);
+    }
+    entries.sort((a, b) => a[0] - b[0]);
+    for (const [c, vr, vi] of entries) {
+      colIdx.push(c);
+      re.push(vr);
+      im.push(vi);
+    }
+    rowPtr[t + 1] = colIdx.length;
+  });
+  return {
+    matrix: { rows: rows.length, cols: dofs.length, rowPtr, colIdx: Int32Array.from(colIdx), re: Float64Array.from(re), im: R.im ? Float64Array.from(im) : null },
+    dofs,
+  };
+}
+
+/**
+ * The rank rule applied to candidate vectors supported on `dofs` (orthonormalised first): the
+ * directions x of their span with ‖R x‖ ≤ the global absolute tolerance, from the singular
+ * values of R·X (rows touching the dofs), computed directly. Returns orthonormal vectors.
+ */
+function certify(ctx: Ctx, dofs: Int32Array, raw: { re: Float64Array; im: Float64Array }[]): { re: Float64Array; im: Float64Array }[] {
+  const cand: { re: Float64Array; im: Float64Array }[] = [];
+  for (const x of raw) {
+    const v = { re: Float64Array.from(x.re), im: Float64Array.from(x.im) };
+    for (let pass = 0; pass < 2; pass++) for (const u of cand) subtractProjection(v, u);
+    const nv = norm(v);
+    if (nv <= 1e-3 * norm(x)) continue;
+    scaleInPlace(v, 1 / nv);
+    cand.push(v);
+  }
+  const k = cand.length;
+  if (k === 0) return [];
+  const R = ctx.R;
+  const where = new Map<number, number>();
+  dofs.forEach((d, t) => where.set(d, t));
+  const rowSet = new Set<number>();
+  for (let t = 0; t < dofs.length; t += 2) for (const r of ctx.rowsOfJoint[dofs[t] >> 1]) rowSet.add(r);
+  const rows = [...rowSet];
+  const cplx = R.im !== null || cand.some((v) => v.im.some((x) => x !== 0));
+  const f = cplx ? 2 : 1;
+  const Y = new Matrix(Math.max(f * rows.length, f * k), f * k);
+  rows.forEach((r, i) => {
+    for (let b = 0; b < k; b++) {
+      let sr = 0;
+      let si = 0;
+      for (let e = R.rowPtr[r]; e < R.rowPtr[r + 1]; e++) {
+        const t = where.get(R.colIdx[e]);
+        if (t === undefined) continue;
+        const ar = R.re[e];
+        const ai = R.im ? R.im[e] : 0;
+        sr += ar * cand[b].re[t] - ai * cand[b].im[t];
+        si += ar * cand[b].im[t] + ai * cand[b].re[t];
+      }
+      Y.set(i, b, sr);
+      if (cplx) {
+        // embedding of the complex column (re; im) and its partner (−im; re)
+        Y.set(i + rows.length, b, si);
+        Y.set(i, b + k, -si);
+        Y.set(i + rows.length, b + k, sr);
+      }
+    }
+  });
+  const svd = new SingularValueDecomposition(Y, { computeLeftSingularVectors: false, computeRightSingularVectors: true });
+  const sig = svd.diagonal;
+  const V = svd.rightSingularVectors;
+  const out: { re: Float64Array; im: Float64Array }[] = [];
+  for (let c = 0; c < f * k; c++) {
+    if (!(sig[c] <= ctx.absTol)) continue;
+    const col = V.getColumn(c);
+    const y = cplx ? { re: Float64Array.from(col.slice(0, k)), im: Float64Array.from(col.slice(k)) } : { re: Float64Array.from(col), im: new Float64Array(k) };
+    const v = combine(cand, y);
+    for (let pass = 0; pass < 2; pass++) for (const u of out) subtractProjection(v, u);
+    const nv = norm(v);
+    if (nv < 0.5) continue; // the embedded partner of a vector already taken
+    scaleInPlace(v, 1 / nv);
+    out.push(v);
+  }
+  return out;
+}
+
+/**
+ * THE RESTRICTED SOLVE. Orthonormal basis of the flexes supported on `joints`:
+ *  - 'restricted-svd': the null space of the restricted matrix (dense SVD, src/linalg/dense.ts),
+ *    σ ≤ the global absolute tolerance counting as zero;
+ *  - 'kernel-intersection': {x ∈ ker R : x = 0 outside the joints}, from the global flex basis Φ:
+ *    candidates Φy with ‖Φ_outside y‖ ≤ SPAN_TOLERANCE (the null space of Φ_outsideᴴΦ_outside =
+ *    I − Φ_SᴴΦ_S by pivoted Cholesky), cut to the joints and kept by the rank rule
+ *    (`certify`: ‖R x‖ ≤ the global absolute tolerance).
+ *  - 'restricted-sparse': the same null space by the banded sparse solver
+ *    (src/flex/solve-sparse.ts), for regions of SPARSE_MIN_COLUMNS columns or more.
+ * 'auto' takes the kernel intersection when an operation count says it is cheaper, else the
+ * sparse solver for large regions and the dense SVD for small ones.
+ */
+function restrictedKernel(ctx: Ctx, joints: number[]): Block {
+  const nCols = 2 * joints.length;
+  let method: RestrictedMethod;
+  if (ctx.method !== 'auto') method = ctx.method;
+  else {
+    const f = ctx.analysisFlexes;
+    const c = ctx.complex ? 8 : 1;
+    const rowsEstimate = nCols * 1.3;
+    const svdCost = c * (4 * rowsEstimate * nCols * nCols + 8 * nCols ** 3);
+    const gramCost = (ctx.complex ? 4 : 1) * (0.5 * nCols * f * f + f ** 3);
+    method = gramCost < svdCost ? 'kernel-intersection' : nCols >= SPARSE_MIN_COLUMNS ? 'restricted-sparse' : 'restricted-svd';
+  }
+  ctx.used[method]++;
+  if (method === 'restricted-sparse') {
+    const { matrix, dofs } = restrictedMatrix(ctx.R, ctx.rowsOfJoint, joints);
+    const vectors = sparseRestrictedKernel(matrix, ctx);
+    return { dofs, vectors };
+  }
+  if (method === 'restricted-svd') {
+    const { matrix, dofs } = restrictedMatrix(ctx.R, ctx.rowsOfJoint, joints);
+    const sigma = singularValues(matrix);
+    let rank = 0;
+    for (const s of sigma) if (s > ctx.absTol) rank++;
+    const dim = nCols - rank;
+    if (dim === 0) return { dofs, vectors: [] };
+    const basis = nullSpace(matrix, dim);
+    return { dofs, vectors: basis.vectors.map((v) => ({ re: v.re, im: v.im })) };
+  }
+  const phi = ctx.flexBasis();
+  const f = phi.length;
+  const dofs = new Int32Array(nCols);
+  joints.forEach((j, t) => {
+    dofs[2 * t] = 2 * j;
+    dofs[2 * t + 1] = 2 * j + 1;
+  });
+  if (f === 0) return { dofs, vectors: [] };
+  // Φ_S gathered column by column (contiguous), then H = I − Φ_SᴴΦ_S = Φ_outsideᴴΦ_outside
+  const Xre = phi.map((v) => Float64Array.from(dofs, (d) => v.re[d]));
+  const Xim = ctx.basisComplex() ? phi.map((v) => Float64Array.from(dofs, (d) => v.im[d])) : null;
+  const Hre = new Float64Array(f * f);
+  const Him = Xim ? new Float64Array(f * f) : null;
+  for (let a = 0; a < f; a++) {
+    const ar = Xre[a];
+    const ai = Xim?.[a];
+    for (let b = a; b < f; b++) {
+      const br = Xre[b];
+      let sr = 0;
+      let si = 0;
+      if (ai && Xim) {
+        const bi = Xim[b];
+        for (let t = 0; t < nCols; t++) {
+          sr += ar[t] * br[t] + ai[t] * bi[t];
+          si += ar[t] * bi[t] - ai[t] * br[t];
+        }
+      } else for (let t = 0; t < nCols; t++) sr += ar[t] * br[t];
+      Hre[a * f + b] = (a === b ? 1 : 0) - sr;
+      Hre[b * f + a] = (a === b ? 1 : 0) - sr;
+      if (Him) {
+        Him[a * f + b] = -si;
+        Him[b * f + a] = si;
+      }
+    }
+  }
+  const vectors: { re: Float64Array; im: Float64Array }[] = [];
+  for (const y of psdNullSpace(Hre, Him, f, ctx.spanTol ** 2)) {
+    const v = { re: new Float64Array(nCols), im: new Float64Array(nCols) };
+    for (let a = 0; a < f; a++) {
+      const yr = y.re[a];
+      const yi = y.im[a];
+      if (yr === 0 && yi === 0) continue;
+      const pr = Xre[a];
+      const pi = Xim ? Xim[a] : null;
+      for (let q = 0; q < nCols; q++) {
+        const xr = pr[q];
+        const xi = pi ? pi[q] : 0;
+        v.re[q] += xr * yr - xi * yi;
+        v.im[q] += xr * yi + xi * yr;
+      }
+    }
+    vectors.push(v);
+  }
+  // re-orthonormalise (the vectors are Φy cut to S, where Φy is below SPAN_TOLERANCE outside)
+  const ortho: { re: Float64Array; im: Float64Array }[] = [];
+  for (const v of vectors) {
+    for (let pass = 0; pass < 2; pass++) for (const u of ortho) subtractProjection(v, u);
+    const nv = norm(v);
+    if (nv < 0.5) continue;
+    scaleInPlace(v, 1 / nv);
+    ortho.push(v);
+  }
+  if (ortho.length === 0) return { dofs, vectors: [] };
+  // I − Φ_SᴴΦ_S cancels to about 1e-16, so the candidates are only good to ~1e-8 outside the
+  // joints: project each onto the null space of the restricted matrix, then apply the rank rule
+  const { matrix } = restrictedMatrix(ctx.R, ctx.rowsOfJoint, joints);
+  const polished = ortho.map((x) => projectOntoNullSpace(matrix, x, ctx.absTol));
+  const cert = certify(ctx, dofs, polished);
+  return { dofs, vectors: cert };
+}
+
+/** y = A x (complex). */
+function applyA(A: SparseMatrix, x: { re: Float64Array; im: Float64Array }): { re: Float64Array; im: Float64Array } {
+  const y = { re: new Float64Array(A.rows), im: new Float64Array(A.rows) };
+  for (let r = 0; r < A.rows; r++) {
+    let sr = 0;
+    let si = 0;
+    for (let e = A.rowPtr[r]; e < A.rowPtr[r + 1]; e++) {
+      const c = A.colIdx[e];
+      const ar = A.re[e];
+      const ai = A.im ? A.im[e] : 0;
+      sr += ar * x.re[c] - ai * x.im[c];
+      si += ar * x.im[c] + ai * x.re[c];
+    }
+    y.re[r] = sr;
+    y.im[r] = si;
+  }
+  return y;
+}
+
+/** y = Aᴴ x (complex). */
+function applyAH(A: SparseMatrix, x: { re: Float64Array; im: Float64Array }): { re: Float64Array; im: Float64Array } {
+  const y = { re: new Float64Array(A.cols), im: new Float64Array(A.cols) };
+  for (let r = 0; r < A.rows; r++) {
+    const xr = x.re[r];
+    const xi = x.im[r];
+    for (let e = A.rowPtr[r]; e < A.rowPtr[r + 1]; e++) {
+      const c = A.colIdx[e];
+      const ar = A.re[e];
+      const ai = A.im ? -A.im[e] : 0; // conj
+      y.re[c] += ar * xr - ai * xi;
+      y.im[c] += ar * xi + ai * xr;
+    }
+  }
+  return y;
+}
+
+/**
+ * x − δ with δ the least-squares solution of A δ = A x (CGLS from δ = 0): the projection of
+ * x onto ker A, to the accuracy the iteration reaches (it stops once ‖A(x − δ)‖ is a hundredth
+ * of `target`, stalls, or after 400 steps). Components along tiny but nonzero singular values
+ * converge slowly and stay, so the rank rule applied afterwards still rejects them.
+ */
+function projectOntoNullSpace(A: SparseMatrix, x0: { re: Float64Array; im: Float64Array }, target: number): { re: Float64Array; im: Float64Array } {
+  const b = applyA(A, x0);
+  const nrm2 = (v: { re: Float64Array; im: Float64Array }) => {
+    let t = 0;
+    for (let i = 0; i < v.re.length; i++) t += v.re[i] * v.re[i] + v.im[i] * v.im[i];
+    return t;
+  };
+  if (Math.sqrt(nrm2(b)) <= 0.01 * target) return x0;
+  const n = A.cols;
+  const delta = { re: new Float64Array(n), im: new Float64Array(n) };
+  const r = { re: Float64Array.from(b.re), im: Float64Array.from(b.im) };
+  let sv = applyAH(A, r);
+  const p = { re: Float64Array.from(sv.re), im: Float64Array.from(sv.im) };
+  let gamma = nrm2(sv);
+  let best = nrm2(r);
+  for (let it = 0; it < 400 && gamma > 0; it++) {
+    const q = applyA(A, p);
+    const qq = nrm2(q);
+    if (qq === 0) break;
+    const alpha = gamma / qq;
+    for (let i = 0; i < n; i++) {
+      delta.re[i] += alpha * p.re[i];
+      delta.im[i] += alpha * p.im[i];
+    }
+    for (let i = 0; i < r.re.length; i++) {
+      r.re[i] -= alpha * q.re[i];
+      r.im[i] -= alpha * q.im[i];
+    }
+    const rr = nrm2(r);
+    if (Math.sqrt(rr) <= 0.01 * target) break;
+    if (it % 50 === 49) {
+      if (rr > 0.25 * best) break; // stalled
+      best = rr;
+    }
+    sv = applyAH(A, r);
+    const gNew = nrm2(sv);
+    const beta = gNew / gamma;
+    gamma = gNew;
+    for (let i = 0; i < n; i++) {
+      p.re[i] = sv.re[i] + beta * p.re[i];
+      p.im[i] = sv.im[i] + beta * p.im[i];
+    }
+  }
+  const x = { re: new Float64Array(n), im: new Float64Array(n) };
+  for (let i = 0; i < n; i++) {
+    x.re[i] = x0.re[i] - delta.re[i];
+    x.im[i] = x0.im[i] - delta.im[i];
+  }
+  return x;
+}
+
+/** Regions with at least this many columns go to the banded sparse solver rather than a dense SVD. */
+export const SPARSE_MIN_COLUMNS = 160;
+
+/**
+ * ker of a restricted matrix by the banded sparse solver (src/flex/solve-sparse.ts). Its cut
+ * is relative to the restricted σ_max, which is at most the global one; if its smallest kept
+ * σ lies at or below the global absolute tolerance, it runs again with the cut moved there,
+ * so the decision is the global rule's.
+ */
+function sparseRestrictedKernel(matrix: SparseMatrix, ctx: Ctx): { re: Float64Array; im: Float64Array }[] {
+  const rel = ctx.relative;
+  let spaces = sparseSpaces(matrix, { relative: rel, memoryLimit: ctx.memoryLimit });
+  const kept = spaces.decision.gap.kept;
+  if (kept !== null && kept <= ctx.absTol && spaces.decision.sigmaMax > 0) {
+    const moved = Math.min(ctx.absTol / spaces.decision.sigmaMax, 1 - 1e-12);
+    spaces = sparseSpaces(matrix, { relative: moved, memoryLimit: ctx.memoryLimit });
+  }
+  if (spaces.decision.rank === matrix.cols) return [];
+  return spaces.flexBasis().vectors.map((v) => ({ re: v.re, im: v.im }));
+}
+
+/**
+ * Orthonormal basis of the (numerical) null space of a Hermitian positive semi-definite k×k
+ * matrix H (row-major): pivoted Cholesky H ≈ P L Lᴴ Pᵀ stops when every remaining pivot is
+ * at most `tol2`; the null vectors solve L11ᴴ y1 = −L21ᴴ y2 for unit y2 (rank-revealing for
+ * PSD matrices, and far cheaper than a full eigen-decomposition).
+ */
+export function psdNullSpace(Hre: Float64Array, Him: Float64Array | null, k: number, tol2: number): { re: Float64Array; im: Float64Array }[] {
+  const Are = Float64Array.from(Hre);
+  const Aim = Him ? Float64Array.from(Him) : new Float64Array(k * k);
+  const perm = Int32Array.from({ length: k }, (_, i) => i);
+  const swap = (arr: Float64Array, x: number, y: number) => {
+    const t = arr[x];
+    arr[x] = arr[y];
+    arr[y] = t;
+  };
+  let r = 0;
+  for (; r < k; r++) {
+    let p = r;
+    for (let i = r + 1; i < k; i++) if (Are[i * k + i] > Are[p * k + p]) p = i;
+    if (!(Are[p * k + p] > tol2)) break;
+    if (p !== r) {
+      for (let c = 0; c < k; c++) {
+        swap(Are, r * k + c, p * k + c);
+        swap(Aim, r * k + c, p * k + c);
+      }
+      for (let c = 0; c < k; c++) {
+        swap(Are, c * k + r, c * k + p);
+        swap(Aim, c * k + r, c * k + p);
+      }
+      const t = perm[r];
+      perm[r] = perm[p];
+      perm[p] = t;
+    }
+    const d = Math.sqrt(Are[r * k + r]);
+    Are[r * k + r] = d;
+    Aim[r * k + r] = 0;
+    for (let i = r + 1; i < k; i++) {
+      Are[i * k + r] /= d;
+      Aim[i * k + r] /= d;
+    }
+    for (let i = r + 1; i < k; i++) {
+      const lr = Are[i * k + r];
+      const li = Aim[i * k + r];
+      if (lr === 0 && li === 0) continue;
+      for (let j = r + 1; j < k; j++) {
+        const mr = Are[j * k + r];
+        const mi = -Aim[j * k + r];
+        Are[i * k + j] -= lr * mr - li * mi;
+        Aim[i * k + j] -= lr * mi + li * mr;
+      }
+    }
+  }
+  const out: { re: Float64Array; im: Float64Array }[] = [];
+  for (let j = r; j < k; j++) {
+    const yr = new Float64Array(k);
+    const yi = new Float64Array(k);
+    yr[j] = 1;
+    // L11ᴴ y1 = −L21ᴴ e_j:  rhs[c] = −conj(L[j][c])
+    for (let c = r - 1; c >= 0; c--) {
+      let sr = -Are[j * k + c];
+      let si = Aim[j * k + c];
+      for (let c2 = c + 1; c2 < r; c2++) {
+        // conj(L[c2][c]) · y1[c2]
+        const lr = Are[c2 * k + c];
+        const li = -Aim[c2 * k + c];
+        sr -= lr * yr[c2] - li * yi[c2];
+        si -= lr * yi[c2] + li * yr[c2];
+      }
+      const dd = Are[c * k + c];
+      yr[c] = sr / dd;
+      yi[c] = si / dd;
+    }
+    const z = { re: new Float64Array(k), im: new Float64Array(k) };
+    for (let i = 0; i < k; i++) {
+      z.re[perm[i]] = yr[i];
+      z.im[perm[i]] = yi[i];
+    }
+    for (let pass = 0; pass < 2; pass++) for (const u of out) subtractProjection(z, u);
+    const nz = norm(z);
+    if (nz === 0) continue;
+    scaleInPlace(z, 1 / nz);
+    out.push(z);
+  }
+  return out;
+}
+
+// ---------------------------------------------------------------------------------------------
+// A growing orthonormal span of full-length vectors
+
+class Span {
+  readonly q: { re: Float64Array; im: Float64Array }[] = [];
+  constructor(
+    readonly n: number,
+    readonly tol: number,
+  ) {}
+
+  /**
+   * Adds the directions of span(block) that are not yet in this span (residual above the
+   * tolerance). Returns the accepted directions as compact vectors on the block's dofs (unit
+   * norm), one per new dimension.
+   */
+  extend(block: Block): { re: Float64Array; im: Float64Array }[] {
+    const V = block.vectors;
+    const k = V.length;
+    if (k === 0) return [];
+    const d = this.q.length;
+    const dofs = block.dofs;
+    // C = Qᴴ V (d×k) over the block's dofs only
+    const Cre = new Float64Array(d * k);
+    const Cim = new Float64Array(d * k);
+    for (let a = 0; a < d; a++) {
+      const qa = this.q[a];
+      for (let b = 0; b < k; b++) {
+        const vb = V[b];
+        let sr = 0;
+        let si = 0;
+        for (let t = 0; t < dofs.length; t++) {
+          const qr = qa.re[dofs[t]];
+          const qi = qa.im[dofs[t]];
+          sr += qr * vb.re[t] + qi * vb.im[t];
+          si += qr * vb.im[t] - qi * vb.re[t];
+        }
+        Cre[a * k + b] = sr;
+        Cim[a * k + b] = si;
+      }
+    }
+    // residual Gram G = VᴴV − CᴴC
+    const Gre = new Float64Array(k * k);
+    const Gim = new Float64Array(k * k);
+    let anyIm = false;
+    for (let a = 0; a < k; a++)
+      for (let b = 0; b < k; b++) {
+        let [sr, si] = dot(V[a], V[b]);
+        for (let c = 0; c < d; c++) {
+          const xr = Cre[c * k + a];
+          const xi = Cim[c * k + a];
+          const yr = Cre[c * k + b];
+          const yi = Cim[c * k + b];
+          sr -= xr * yr + xi * yi;
+          si -= xr * yi - xi * yr;
+        }
+        Gre[a * k + b] = sr;
+        Gim[a * k + b] = si;
+        if (si !== 0) anyIm = true;
+      }
+    const eig = hermitianEigen(Gre, anyIm ? Gim : null, k);
+    const fresh: { re: Float64Array; im: Float64Array }[] = [];
+    const known: { re: Float64Array; im: Float64Array }[] = [];
+    for (let t = k - 1; t >= 0; t--) (eig.values[t] > this.tol * this.tol ? fresh : known).push(combine(V, eig.vectors[t]));
+    if (fresh.length === 0) return [];
+    sparsify(fresh, known);
+    const accepted: { re: Float64Array; im: Float64Array }[] = [];
+    for (const v of fresh) {
+      const nv = norm(v);
+      if (nv === 0) continue;
+      scaleInPlace(v, 1 / nv);
+      const full = { re: new Float64Array(this.n), im: new Float64Array(this.n) };
+      dofs.forEach((dd, i) => {
+        full.re[dd] = v.re[i];
+        full.im[dd] = v.im[i];
+      });
+      for (let pass = 0; pass < 2; pass++) for (const u of this.q) subtractProjection(full, u);
+      const nr = norm(full);
+      if (nr <= this.tol) continue;
+      scaleInPlace(full, 1 / nr);
+      this.q.push(full);
+      accepted.push(v);
+    }
+    return accepted;
+  }
+}
+
+/** Number of entries above 1e-10 × the largest modulus. */
+function nonzeros(v: { re: Float64Array; im: Float64Array }): number {
+  let top = 0;
+  for (let i = 0; i < v.re.length; i++) top = Math.max(top, v.re[i] * v.re[i] + v.im[i] * v.im[i]);
+  const cut = 1e-20 * top;
+  let c = 0;
+  for (let i = 0; i < v.re.length; i++) if (v.re[i] * v.re[i] + v.im[i] * v.im[i] > cut) c++;
+  return c;
+}
+
+/**
+ * Make the new vectors of a block as sparse as possible without changing what they span
+ * modulo the known part: greedy elementary operations w ← w − (w_p / b_p)·b with b a known
+ * vector or another new one, keeping the step that zeroes the most entries, while it helps.
+ * (A new line that shares a joint with a known corner flex becomes the bare line again.)
+ */
+function sparsify(fresh: { re: Float64Array; im: Float64Array }[], known: { re: Float64Array; im: Float64Array }[]): void {
+  if (fresh.length + known.length < 2) return;
+  const m = fresh[0].re.length;
+  for (let i = 0; i < fresh.length; i++) {
+    for (let round = 0; round < 4 * (fresh.length + known.length); round++) {
+      const w = fresh[i];
+      let bestNnz = nonzeros(w);
+      let best: { re: Float64Array; im: Float64Array } | null = null;
+      let wTop = 0;
+      for (let q = 0; q < m; q++) wTop = Math.max(wTop, Math.hypot(w.re[q], w.im[q]));
+      for (const b of [...known, ...fresh.filter((_, j) => j !== i)]) {
+        let bTop = 0;
+        for (let q = 0; q < m; q++) bTop = Math.max(bTop, Math.hypot(b.re[q], b.im[q]));
+        for (let p = 0; p < m; p++) {
+          const bm = Math.hypot(b.re[p], b.im[p]);
+          if (bm <= 1e-6 * bTop || Math.hypot(w.re[p], w.im[p]) <= 1e-10 * wTop) continue;
+          // c = w_p / b_p
+          const den = b.re[p] * b.re[p] + b.im[p] * b.im[p];
+          const cr = (w.re[p] * b.re[p] + w.im[p] * b.im[p]) / den;
+          const ci = (w.im[p] * b.re[p] - w.re[p] * b.im[p]) / den;
+          const cand = { re: new Float64Array(m), im: new Float64Array(m) };
+          for (let q = 0; q < m; q++) {
+            cand.re[q] = w.re[q] - (cr * b.re[q] - ci * b.im[q]);
+            cand.im[q] = w.im[q] - (cr * b.im[q] + ci * b.re[q]);
+          }
+          cand.re[p] = 0;
+          cand.im[p] = 0;
+          const nn = nonzeros(cand);
+          if (nn < bestNnz && norm(cand) > 1e-6 * norm(w)) {
+            bestNnz = nn;
+            best = cand;
+          }
+        }
+      }
+      if (!best) break;
+      fresh[i] = best;
+    }
+  }
+}
+
+// ---------------------------------------------------------------------------------------------
+// Metrics of one vector
+
+interface Geometry {
+  ax: Axes;
+  /** Fractional (cell) coordinates of each joint, 2 per joint. */
+  frac: Float64Array;
+  jointCell: Int32Array;
+  sc: Supercell;
+}
+
+function geometryOf(sc: Supercell): Geometry {
+  const [a1, a2] = sc.framework.lattice;
+  const detL = a1[0] * a2[1] - a1[1] * a2[0];
+  const J = sc.jointCount;
+  const frac = new Float64Array(2 * J);
+  const jointCell = new Int32Array(J);
+  for (let k = 0; k < J; k++) {
+    const x = sc.positions[2 * k];
+    const y = sc.positions[2 * k + 1];
+    frac[2 * k] = (x * a2[1] - y * a2[0]) / detL;
+    frac[2 * k + 1] = (a1[0] * y - a1[1] * x) / detL;
+    jointCell[k] = sc.jointCells[2 * k + 1] * sc.cells[0] + sc.jointCells[2 * k];
+  }
+  return { ax: axesOf(sc), frac, jointCell, sc };
+}
+
+function jointWeights(v: { re: Float64Array; im: Float64Array }, J: number): Float64Array {
+  const w = new Float64Array(J);
+  for (let k = 0; k < J; k++) w[k] = v.re[2 * k] ** 2 + v.re[2 * k + 1] ** 2 + v.im[2 * k] ** 2 + v.im[2 * k + 1] ** 2;
+  return w;
+}
+
+interface BasicMetrics {
+  support: number;
+  extents: [number, number];
+  participation: number;
+}
+
+function basicMetrics(geo: Geometry, w: Float64Array): BasicMetrics {
+  const J = w.length;
+  let total = 0;
+  let sq = 0;
+  let wmax = 0;
+  for (let k = 0; k < J; k++) {
+    total += w[k];
+    sq += w[k] * w[k];
+    wmax = Math.max(wmax, w[k]);
+  }
+  const cut = SUPPORT_AMPLITUDE ** 2 * wmax;
+  const pts: [number, number][] = [];
+  for (let k = 0; k < J; k++) if (w[k] >= cut && w[k] > 0) pts.push([geo.frac[2 * k], geo.frac[2 * k + 1]]);
+  let extents: [number, number] = [0, 0];
+  if (pts.length) {
+    const mx = pts.reduce((s, p) => s + p[0], 0) / pts.length;
+    const my = pts.reduce((s, p) => s + p[1], 0) / pts.length;
+    let sxx = 0;
+    let sxy = 0;
+    let syy = 0;
+    for (const [x, y] of pts) {
+      sxx += (x - mx) ** 2;
+      sxy += (x - mx) * (y - my);
+      syy += (y - my) ** 2;
+    }
+    const ang = 0.5 * Math.atan2(2 * sxy, sxx - syy);
+    const u: [number, number] = [Math.cos(ang), Math.sin(ang)];
+    const v: [number, number] = [-u[1], u[0]];
+    const range = (dir: [number, number]) => {
+      let lo = Infinity;
+      let hi = -Infinity;
+      for (const [x, y] of pts) {
+        const t = x * dir[0] + y * dir[1];
+        lo = Math.min(lo, t);
+        hi = Math.max(hi, t);
+      }
+      return hi - lo + 1;
+    };
+    const e1 = range(u);
+    const e2 = range(v);
+    extents = e1 >= e2 ? [e1, e2] : [e2, e1];
+  }
+  return { support: pts.length, extents, participation: total > 0 ? (total * total) / (J * sq) : 0 };
+}
+
+interface AnchorFit {
+  anchor: Anchor;
+  rings: number;
+  head: number;
+  headWeight: number;
+  xi: number;
+  r2: number;
+  meanDistance: number;
+  pass: boolean;
+}
+
+function cartesian(sc: Supercell, f1: number, f2: number): [number, number] {
+  const [a1, a2] = sc.framework.lattice;
+  return [f1 * a1[0] + f2 * a2[0] + 0, f1 * a1[1] + f2 * a2[1] + 0];
+}
+
+/** Weighted least-squares line through (x, y) with weights w; returns slope and weighted R². */
+function fitLine(xs: number[], ys: number[], ws: number[]): { slope: number; r2: number } {
+  const W = ws.reduce((a, b) => a + b, 0);
+  const mx = xs.reduce((a, x, t) => a + ws[t] * x, 0) / W;
+  const my = ys.reduce((a, y, t) => a + ws[t] * y, 0) / W;
+  let sxx = 0;
+  let sxy = 0;
+  let syy = 0;
+  for (let t = 0; t < xs.length; t++) {
+    sxx += ws[t] * (xs[t] - mx) ** 2;
+    sxy += ws[t] * (xs[t] - mx) * (ys[t] - my);
+    syy += ws[t] * (ys[t] - my) ** 2;
+  }
+  const slope = sxx > 0 ? sxy / sxx : 0;
+  const r2 = syy > 0 && sxx > 0 ? (sxy * sxy) / (sxx * syy) : 1;
+  return { slope, r2 };
+}
+
+function fitAnchor(geo: Geometry, w: Float64Array, anchor: Anchor, dist: (cell: number) => number): AnchorFit {
+  const J = w.length;
+  const ringW: number[] = [];
+  const ringN: number[] = [];
+  let total = 0;
+  let first = 0;
+  for (let k = 0; k < J; k++) {
+    const r = dist(geo.jointCell[k]);
+    while (ringW.length <= r) {
+      ringW.push(0);
+      ringN.push(0);
+    }
+    ringW[r] += w[k];
+    ringN[r]++;
+    total += w[k];
+    first += r * w[k];
+  }
+  const rings = ringW.length;
+  const head = Math.max(1, Math.floor(rings / 4));
+  let hw = 0;
+  for (let r = 0; r <= Math.min(head, rings - 1); r++) hw += ringW[r];
+  hw /= total || 1;
+  const amp = ringW.map((x, r) => (ringN[r] ? Math.sqrt(x / ringN[r]) : 0));
+  const amax = Math.max(...amp);
+  const xs: number[] = [];
+  const ys: number[] = [];
+  const ws: number[] = [];
+  amp.forEach((a, r) => {
+    if (ringN[r] && a > FIT_FLOOR * amax) {
+      xs.push(r);
+      ys.push(Math.log(a));
+      ws.push(ringW[r]);
+    }
+  });
+  let xi = Infinity;
+  let r2 = 0;
+  if (xs.length >= 2) {
+    const fit = fitLine(xs, ys, ws);
+    r2 = fit.r2;
+    xi = fit.slope < 0 ? -1 / fit.slope : Infinity;
+  }
+  const pass = rings >= 2 && hw >= HEAD_WEIGHT && Number.isFinite(xi) && r2 >= MIN_R2;
+  return { anchor, rings, head, headWeight: hw, xi, r2, meanDistance: first / (total || 1), pass };
+}
+
+/** Corner, side and point anchors the boundary offers, with their cell distances. */
+function anchorCandidates(geo: Geometry, w: Float64Array): { corners: AnchorFit[]; sides: AnchorFit[]; point: AnchorFit } {
+  const { ax, sc } = geo;
+  const { N1, N2 } = ax;
+  const ci = (c: number) => c % N1;
+  const cj = (c: number) => Math.floor(c / N1);
+  // the joint of largest weight (ties: the first)
+  let kmax = 0;
+  for (let k = 1; k < w.length; k++) if (w[k] > w[kmax]) kmax = k;
+  const f1 = geo.frac[2 * kmax];
+  const f2 = geo.frac[2 * kmax + 1];
+  const sides: AnchorFit[] = [];
+  const corners: AnchorFit[] = [];
+  const sideDefs: { name: string; dist: (c: number) => number; at: [number, number] }[] = [];
+  if (!ax.px) {
+    sideDefs.push({ name: 'left', dist: (c) => ci(c), at: cartesian(sc, 0, f2) });
+    sideDefs.push({ name: 'right', dist: (c) => N1 - 1 - ci(c), at: cartesian(sc, N1, f2) });
+  }
+  if (!ax.py) {
+    sideDefs.push({ name: 'bottom', dist: (c) => cj(c), at: cartesian(sc, f1, 0) });
+    sideDefs.push({ name: 'top', dist: (c) => N2 - 1 - cj(c), at: cartesian(sc, f1, N2) });
+  }
+  for (const s of sideDefs) sides.push(fitAnchor(geo, w, { kind: 'side', name: s.name, at: s.at }, s.dist));
+  if (!ax.px && !ax.py) {
+    for (const [v, h] of [
+      ['bottom', 'left'],
+      ['bottom', 'right'],
+      ['top', 'left'],
+      ['top', 'right'],
+    ] as const) {
+      const di = (c: number) => (h === 'left' ? ci(c) : N1 - 1 - ci(c));
+      const dj = (c: number) => (v === 'bottom' ? cj(c) : N2 - 1 - cj(c));
+      const at = cartesian(sc, h === 'left' ? 0 : N1, v === 'bottom' ? 0 : N2);
+      corners.push(fitAnchor(geo, w, { kind: 'corner', name: `${v}-${h}`, at }, (c) => Math.max(di(c), dj(c))));
+    }
+  }
+  // point: the cell of largest total weight
+  const cellW = new Float64Array(N1 * N2);
+  for (let k = 0; k < w.length; k++) cellW[geo.jointCell[k]] += w[k];
+  let cmax = 0;
+  for (let c = 1; c < cellW.length; c++) if (cellW[c] > cellW[cmax]) cmax = c;
+  const i0 = ci(cmax);
+  const j0 = cj(cmax);
+  const wrapDist = (a: number, b: number, N: number, periodic: boolean) => {
+    const d = Math.abs(a - b);
+    return periodic ? Math.min(d, N - d) : d;
+  };
+  let px = 0;
+  let py = 0;
+  let pw = 0;
+  for (let k = 0; k < w.length; k++)
+    if (geo.jointCell[k] === cmax) {
+      px += w[k] * sc.positions[2 * k];
+      py += w[k] * sc.positions[2 * k + 1];
+      pw += w[k];
+    }
+  const point = fitAnchor(
+    geo,
+    w,
+    { kind: 'point', name: 'interior', at: [px / (pw || 1), py / (pw || 1)] },
+    (c) => Math.max(wrapDist(ci(c), i0, N1, ax.px), wrapDist(cj(c), j0, N2, ax.py)),
+  );
+  return { corners, sides, point };
+}
+
+/** Decaying or bulk for one localised vector of the rest. */
+function decayOf(geo: Geometry, w: Float64Array): AnchorFit | null {
+  const { corners, sides, point } = anchorCandidates(geo, w);
+  const best = (fits: AnchorFit[]) => fits.filter((f) => f.pass).sort((a, b) => a.meanDistance - b.meanDistance)[0];
+  return best(corners) ?? best(sides) ?? (point.pass ? point : null);
+}
+
+// ---------------------------------------------------------------------------------------------
+// The classifier
+
+function checkOptions(o: ClassifyOptions): { window: number; strip: number } {
+  const window = o.window ?? DEFAULT_WINDOW;
+  const strip = o.strip ?? DEFAULT_STRIP;
+  const problems = [];
+  if (!Number.isInteger(window) || window < 1 || window > 50)
+    problems.push({ where: 'window', what: `the window size must be a whole number of cells from 1 to 50, got ${window}`, fix: 'use e.g. window 3 (--window 3)' });
+  if (!Number.isInteger(strip) || strip < 1 || strip > 50)
+    problems.push({ where: 'strip', what: `the strip width must be a whole number of cells from 1 to 50, got ${strip}`, fix: 'use e.g. strip 2 (--strip 2)' });
+  for (const d of o.directions ?? []) {
+    if (!Array.isArray(d) || d.length !== 2 || !d.every(Number.isInteger) || gcd(d[0], d[1]) !== 1)
+      problems.push({ where: 'directions', what: `(${String(d)}) is not a primitive lattice direction`, fix: 'give integer pairs (p, q) with gcd 1, e.g. [1, 0] or [1, -1]' });
+  }
+  if (problems.length) throw new InputError('The classification options cannot be used:', problems);
+  return { window, strip };
+}
+
+function expand(n: number, dofs: Int32Array, v: { re: Float64Array; im: Float64Array }): CVec {
+  const out = { re: new Float64Array(n), im: new Float64Array(n) };
+  dofs.forEach((d, i) => {
+    out.re[d] = v.re[i];
+    out.im[d] = v.im[i];
+  });
+  return out;
+}
+
+/**
+ * Split the flex space of `sc` (as analysed in `analysis`) into local, line, decaying and
+ * bulk flexes; see the file header for the definitions. Counts sum to analysis.flexes.
+ */
+export function classifyFlexes(sc: Supercell, analysis: FlexAnalysis, options: ClassifyOptions = {}): Classification {
+  const { window, strip } = checkOptions(options);
+  const directions = (options.directions ?? DEFAULT_DIRECTIONS).map((d) => [d[0], d[1]] as [number, number]);
+  const progress = options.onProgress;
+  const signal = options.signal;
+  const ctx = makeContext(sc, analysis, options.restrictedSolve ?? 'auto');
+  const geo = geometryOf(sc);
+  const ax = geo.ax;
+  const n = ctx.n;
+  const J = sc.jointCount;
+  const warnings: string[] = [];
+  const f = analysis.flexes;
+
+  const span = new Span(n, ctx.spanTol);
+  const modes: ClassifiedMode[] = [];
+  const timings: Record<string, number> = {};
+  let clock = performance.now();
+  const lap = (name: string) => {
+    const now = performance.now();
+    timings[name] = (now - clock) / 1000;
+    clock = now;
+  };
+  const windows = windowsOf(ax, window);
+  const strips = directions.flatMap((d) => stripsOf(ax, d, strip)).sort((a, b) => a.width - b.width);
+  const totalSteps = windows.length + 2 * strips.length + 1;
+  let step = 0;
+  const tick = (stage: string) => {
+    step++;
+    if (progress && (step % 16 === 0 || step === totalSteps)) progress({ fraction: Math.min(1, step / totalSteps), stage });
+    throwIfAborted(signal);
+  };
+
+  // 1. local: window kernels, smallest windows first
+  for (const win of windows) {
+    if (span.q.length < f) {
+      const block = restrictedKernel(ctx, jointsOfCells(ctx, win.cells));
+      for (const v of span.extend(block)) {
+        const full = expand(n, block.dofs, v);
+        const w = jointWeights(full, J);
+        modes.push({ class: 'local', vector: full, ...basicMetrics(geo, w), region: win.label });
+      }
+    }
+    tick('local windows');
+  }
+  const nLocal = span.q.length;
+  lap('windows');
+
+  // 2. strips: kernels and their short sub-segments; M = L + short pieces
+  const stripKernels: { region: Region; block: Block }[] = [];
+  for (const s of strips) {
+    if (span.q.length < f) {
+      const block = restrictedKernel(ctx, jointsOfCells(ctx, s.cells));
+      if (block.vectors.length) {
+        stripKernels.push({ region: s, block });
+        // sub-segment kernels inside ker_S: candidates small outside T (≤ SPAN_TOLERANCE),
+        // cut to T and kept by the rank rule, like every restricted kernel
+        const jointPos = new Map<number, number>();
+        block.dofs.forEach((d, t) => {
+          if (t % 2 === 0) jointPos.set(d >> 1, t >> 1);
+        });
+        const cellOfJoint = (j: number) => geo.jointCell[j];
+        for (const seg of shortSegments(s)) {
+          const segCells = new Set(seg.map((t) => s.cells[t]));
+          const outside: number[] = [];
+          for (const [j, t] of jointPos) if (!segCells.has(cellOfJoint(j))) outside.push(t);
+          const k = block.vectors.length;
+          const Hre = new Float64Array(k * k);
+          const Him = block.vectors.some((v) => v.im.some((x) => x !== 0)) ? new Float64Array(k * k) : null;
+          for (const t of outside)
+            for (const comp of [2 * t, 2 * t + 1])
+              for (let a = 0; a < k; a++) {
+                const ar = block.vectors[a].re[comp];
+                const ai = block.vectors[a].im[comp];
+                for (let b = 0; b < k; b++) {
+                  const br = block.vectors[b].re[comp];
+                  const bi = block.vectors[b].im[comp];
+                  Hre[a * k + b] += ar * br + ai * bi;
+                  if (Him) Him[a * k + b] += ar * bi - ai * br;
+                }
+              }
+          const eig = hermitianEigen(Hre, Him, k);
+          const short: { re: Float64Array; im: Float64Array }[] = [];
+          eig.values.forEach((lam, t) => {
+            if (lam > ctx.spanTol ** 2) return;
+            const v = combine(block.vectors, eig.vectors[t]);
+            for (const tt of outside) v.re[2 * tt] = v.re[2 * tt + 1] = v.im[2 * tt] = v.im[2 * tt + 1] = 0;
+            const nv = norm(v);
+            if (nv > 0.5) {
+              scaleInPlace(v, 1 / nv);
+              short.push(v);
+            }
+          });
+          const pieces = certify(ctx, block.dofs, short);
+          if (pieces.length) span.extend({ dofs: block.dofs, vectors: pieces });
+        }
+      }
+    }
+    tick('strips');
+  }
+  const nShort = span.q.length - nLocal;
+  lap('strips');
+  const shortEnd = span.q.length;
+
+  // 3. lines: strip kernels modulo M, narrowest strips first
+  for (const { region, block } of stripKernels) {
+    if (span.q.length < f) {
+      for (const v of span.extend(block)) {
+        const full = expand(n, block.dofs, v);
+        const w = jointWeights(full, J);
+        modes.push({ class: 'line', vector: full, ...basicMetrics(geo, w), direction: region.direction, region: region.label });
+      }
+    }
+    tick('lines');
+  }
+  lap('lines');
+  if (span.q.length > f) warnings.push(`the local, short and line spans have ${span.q.length} dimensions, more than the ${f} flexes: the rank tolerance is not consistent between the restricted problems and the whole matrix`);
+  // keep the counts summing to the flexes even then: drop the last line (then local) modes found
+  while (modes.length > f) modes.pop();
+
+  // 4. the rest: ker R ⊖ (L ⊕ lines)
+  const phi = f > 0 ? ctx.flexBasis() : [];
+  const taken = span.q.filter((_, t) => t < nLocal || t >= shortEnd).slice(0, f);
+  const restDim = Math.max(0, f - taken.length);
+  const rest: { re: Float64Array; im: Float64Array }[] = [];
+  let leakage = 0;
+  if (restDim > 0) {
+    const d = taken.length;
+    const Cre = new Float64Array(d * f);
+    const Cim = new Float64Array(d * f);
+    for (let a = 0; a < d; a++)
+      for (let b = 0; b < f; b++) {
+        const [sr, si] = dot(taken[a], phi[b]);
+        Cre[a * f + b] = sr;
+        Cim[a * f + b] = si;
+      }
+    const Gre = new Float64Array(f * f);
+    const Gim = ctx.basisComplex() ? new Float64Array(f * f) : null;
+    for (let a = 0; a < f; a++)
+      for (let b = 0; b < f; b++) {
+        let sr = a === b ? 1 : 0;
+        let si = 0;
+        for (let c = 0; c < d; c++) {
+          const xr = Cre[c * f + a];
+          const xi = Cim[c * f + a];
+          const yr = Cre[c * f + b];
+          const yi = Cim[c * f + b];
+          sr -= xr * yr + xi * yi;
+          si -= xr * yi - xi * yr;
+        }
+        Gre[a * f + b] = sr;
+        if (Gim) Gim[a * f + b] = si;
+      }
+    const eig = hermitianEigen(Gre, Gim, f);
+    // the d smallest eigenvalues should vanish (L ⊕ lines ⊂ ker R)
+    if (d > 0) leakage = Math.sqrt(Math.max(0, eig.values[Math.min(d, f) - 1]));
+    for (let t = f - 1; t >= f - restDim; t--) {
+      const y = eig.vectors[t];
+      const v = { re: new Float64Array(n), im: new Float64Array(n) };
+      for (let b = 0; b < f; b++) {
+        const yr = y.re[b];
+        const yi = y.im[b];
+        if (yr === 0 && yi === 0) continue;
+        const pb = phi[b];
+        for (let i = 0; i < n; i++) {
+          v.re[i] += pb.re[i] * yr - pb.im[i] * yi;
+          v.im[i] += pb.re[i] * yi + pb.im[i] * yr;
+        }
+      }
+      for (let pass = 0; pass < 2; pass++) for (const u of taken) subtractProjection(v, u);
+      for (const u of rest) subtractProjection(v, u);
+      const nv = norm(v);
+      scaleInPlace(v, 1 / nv);
+      rest.push(v);
+    }
+    if (leakage > 1e3 * ctx.spanTol) warnings.push(`the local and line flexes stick out of the flex space by ${leakage.toExponential(2)}: the rank tolerance is not consistent between the restricted problems and the whole matrix`);
+  }
+  throwIfAborted(signal);
+  lap('rest');
+
+  // 5. split off the extended part (boundary-distance operator), SCDM within each part, then
+  //    decaying or bulk vector by vector
+  const { near, far } = splitByBoundaryDistance(geo, rest);
+  const cplx = rest.length > 0 && ctx.basisComplex();
+  const localised = [...(near.length ? scdm(near, cplx) : []), ...(far.length ? scdm(far, cplx) : [])];
+  for (const v of localised) {
+    const w = jointWeights(v, J);
+    const fit = decayOf(geo, w);
+    const base = basicMetrics(geo, w);
+    if (fit) {
+      modes.push({ class: 'decaying', vector: v, ...base, anchor: fit.anchor, decayLength: fit.xi, fitQuality: fit.r2, headWeight: fit.headWeight });
+    } else modes.push({ class: 'bulk', vector: v, ...base });
+  }
+  tick('rest');
+  lap('localise');
+
+  const counts: Record<FlexClass, number> = { local: 0, line: 0, decaying: 0, bulk: 0 };
+  for (const m of modes) counts[m.class]++;
+  const order: Record<FlexClass, number> = { local: 0, line: 1, decaying: 2, bulk: 3 };
+  modes.sort((a, b) => order[a.class] - order[b.class]);
+  if (analysis.gap.ambiguous) warnings.push('the rank of the whole matrix is ambiguous at this tolerance (narrow singular-value gap), so the classes are too');
+
+  return {
+    flexes: f,
+    trivialFlexes: analysis.trivialFlexes,
+    counts,
+    thresholds: {
+      window,
+      strip,
+      directions: directions.map((d) => `(${d[0]},${d[1]})`).join(' '),
+      windowsTried: 'square, 1×1 up to window×window cells, every position',
+      lineCoverage: LINE_COVERAGE,
+      rankToleranceRelative: analysis.tolerance.relative,
+      rankToleranceAbsolute: analysis.tolerance.absolute,
+      spanTolerance: ctx.spanTol,
+      restrictedSolve: (Object.keys(ctx.used) as RestrictedMethod[]).filter((k) => ctx.used[k] > 0).map((k) => `${k} ×${ctx.used[k]}`).join(', ') || 'none',
+      localBasis: 'restricted-kernel vectors as found (compact, unit norm, independent, not mutually orthogonal)',
+      restSplit: 'eigenvectors of the nearest-side distance operator compressed to the rest: mean distance > head radius (far) or not (near)',
+      restLocalisation: 'SCDM, orthonormal form (Damle, Lin & Ying 2015), within near and within far separately',
+      supportAmplitude: SUPPORT_AMPLITUDE,
+      headWeight: HEAD_WEIGHT,
+      headRadius: 'max(1, floor(rings/4)) cells',
+      minR2: MIN_R2,
+      fit: 'least squares of ln(ring amplitude) against distance, rings weighted by their share of the squared amplitude',
+      fitFloor: FIT_FLOOR,
+      distance: 'whole cells: from a side, cells between; from a corner or point, the larger cell offset',
+    },
+    modes,
+    shortStripFlexes: nShort,
+    timings,
+    ...(warnings.length ? { warnings } : {}),
+  };
+}
+
+/** Distance in whole cells from each cell to the nearest side, or null when every axis wraps. */
+function sideDistance(ax: Axes): Int32Array | null {
+  if (ax.px && ax.py) return null;
+  const d = new Int32Array(ax.N1 * ax.N2);
+  for (let j = 0; j < ax.N2; j++)
+    for (let i = 0; i < ax.N1; i++) {
+      let m = Infinity;
+      if (!ax.px) m = Math.min(m, i, ax.N1 - 1 - i);
+      if (!ax.py) m = Math.min(m, j, ax.N2 - 1 - j);
+      d[j * ax.N1 + i] = m;
+    }
+  return d;
+}
+
+/**
+ * The spectral decomposition of the nearest-side distance operator D (diagonal, in cells)
+ * compressed to the rest, Ψᴴ D Ψ: eigenvectors whose mean distance exceeds the head radius
+ * h = max(1, ⌊E/4⌋) (E = number of distance rings) are `far` (candidates for bulk), the others
+ * `near`. Basis-independent; with no side at all everything is `near`.
+ */
+function splitByBoundaryDistance(geo: Geometry, psi: { re: Float64Array; im: Float64Array }[]): { near: typeof psi; far: typeof psi } {
+  const dist = sideDistance(geo.ax);
+  const r = psi.length;
+  if (!dist || r === 0) return { near: psi, far: [] };
+  const J = geo.jointCell.length;
+  const dJ = Float64Array.from({ length: J }, (_, k) => dist[geo.jointCell[k]]);
+  let rings = 0;
+  for (const x of dist) rings = Math.max(rings, x + 1);
+  const head = Math.max(1, Math.floor(rings / 4));
+  const Are = new Float64Array(r * r);
+  const Aim = new Float64Array(r * r);
+  let anyIm = false;
+  for (let a = 0; a < r; a++)
+    for (let b = a; b < r; b++) {
+      let sr = 0;
+      let si = 0;
+      const pa = psi[a];
+      const pb = psi[b];
+      for (let k = 0; k < J; k++) {
+        const dk = dJ[k];
+        if (dk === 0) continue;
+        for (const i of [2 * k, 2 * k + 1]) {
+          sr += dk * (pa.re[i] * pb.re[i] + pa.im[i] * pb.im[i]);
+          si += dk * (pa.re[i] * pb.im[i] - pa.im[i] * pb.re[i]);
+        }
+      }
+      Are[a * r + b] = Are[b * r + a] = sr;
+      Aim[a * r + b] = si;
+      Aim[b * r + a] = -si;
+      if (si !== 0) anyIm = true;
+    }
+  const eig = hermitianEigen(Are, anyIm ? Aim : null, r);
+  const near: typeof psi = [];
+  const far: typeof psi = [];
+  eig.values.forEach((mean, t) => {
+    const v = combine(psi, eig.vectors[t]);
+    scaleInPlace(v, 1 / norm(v));
+    (mean > head ? far : near).push(v);
+  });
+  return { near, far };
+}
+
+/**
+ * SCDM (Damle, Lin & Ying 2015): column-pivoted QR of Ψᴴ picks r degrees of freedom C; the
+ * orthonormal localised basis is Ψ·polar(Ψ(C,:)ᴴ).
+ */
+function scdm(psi: { re: Float64Array; im: Float64Array }[], complex: boolean): { re: Float64Array; im: Float64Array }[] {
+  const r = psi.length;
+  const n = psi[0].re.length;
+  // columns of Ψᴴ: c_j = conj(Ψ[j, :]), stored row-major n×r
+  const Xre = new Float64Array(n * r);
+  const Xim = new Float64Array(n * r);
+  const res = new Float64Array(n);
+  for (let a = 0; a < r; a++)
+    for (let j = 0; j < n; j++) {
+      Xre[j * r + a] = psi[a].re[j];
+      Xim[j * r + a] = -psi[a].im[j];
+    }
+  for (let j = 0; j < n; j++) {
+    let s = 0;
+    for (let a = 0; a < r; a++) s += Xre[j * r + a] ** 2 + Xim[j * r + a] ** 2;
+    res[j] = s;
+  }
+  const pivots: number[] = [];
+  const done = new Uint8Array(n);
+  const qre = new Float64Array(r);
+  const qim = new Float64Array(r);
+  for (let step = 0; step < r; step++) {
+    let p = -1;
+    let best = -1;
+    for (let j = 0; j < n; j++) if (!done[j] && res[j] > best * (1 + 1e-12)) {
+      best = res[j];
+      p = j;
+    }
+    pivots.push(p);
+    done[p] = 1;
+    // orthonormal direction from the current residual of column p
+    let nq = 0;
+    for (let a = 0; a < r; a++) nq += Xre[p * r + a] ** 2 + Xim[p * r + a] ** 2;
+    nq = Math.sqrt(nq);
+    if (nq === 0) continue;
+    for (let a = 0; a < r; a++) {
+      qre[a] = Xre[p * r + a] / nq;
+      qim[a] = Xim[p * r + a] / nq;
+    }
+    for (let j = 0; j < n; j++) {
+      if (done[j]) continue;
+      let sr = 0;
+      let si = 0;
+      for (let a = 0; a < r; a++) {
+        const xr = Xre[j * r + a];
+        const xi = Xim[j * r + a];
+        sr += qre[a] * xr + qim[a] * xi;
+        si += qre[a] * xi - qim[a] * xr;
+      }
+      let s = 0;
+      for (let a = 0; a < r; a++) {
+        Xre[j * r + a] -= sr * qre[a] - si * qim[a];
+        Xim[j * r + a] -= sr * qim[a] + si * qre[a];
+        s += Xre[j * r + a] ** 2 + Xim[j * r + a] ** 2;
+      }
+      res[j] = s;
+    }
+  }
+  // M = Ψ(C,:)ᴴ: M[a][b] = conj(ψ_a[c_b])
+  const Mre = new Float64Array(r * r);
+  const Mim = complex ? new Float64Array(r * r) : null;
+  for (let a = 0; a < r; a++)
+    for (let b = 0; b < r; b++) {
+      Mre[a * r + b] = psi[a].re[pivots[b]];
+      if (Mim) Mim[a * r + b] = -psi[a].im[pivots[b]];
+    }
+  const W = polarFactor(Mre, Mim, r);
+  const out: { re: Float64Array; im: Float64Array }[] = [];
+  for (let b = 0; b < r; b++) {
+    const v = { re: new Float64Array(n), im: new Float64Array(n) };
+    for (let a = 0; a < r; a++) {
+      const wr = W.re[a * r + b];
+      const wi = W.im[a * r + b];
+      if (wr === 0 && wi === 0) continue;
+      const pa = psi[a];
+      for (let i = 0; i < n; i++) {
+        v.re[i] += pa.re[i] * wr - pa.im[i] * wi;
+        v.im[i] += pa.re[i] * wi + pa.im[i] * wr;
+      }
+    }
+    const nv = norm(v);
+    scaleInPlace(v, 1 / nv);
+    out.push(v);
+  }
+  return out;
+}

@@ -1,0 +1,152 @@
+/**
+ * Finite-size sweeps: classify the flexes of one framework at a series of supercell sizes and
+ * fit how each class count grows with the linear size.
+ *
+ * The linear size N is the side that varies: N1 when every size has the same N2, N2 when
+ * every size has the same N1, and √(N1·N2) otherwise (when both sides scale together, a fixed
+ * aspect ratio, the exponent against √(N1·N2) equals the exponent against N1). The growth
+ * exponent of a count c is the slope of the least-squares line through (ln N, ln c) over the
+ * sizes where c > 0, with its R²; it needs at least two distinct sizes.
+ */
+import { InputError } from '../errors.js';
+import type { Framework } from '../framework/types.js';
+import { checkFramework } from '../framework/validate.js';
+import { parseBoundary, type Boundary } from '../supercell/boundary.js';
+import { buildSupercell, checkCells } from '../supercell/supercell.js';
+import { FLEX_CLASSES, type Classification, type FlexClass } from './classes.js';
+import { classifyFlexes } from './classify.js';
+import { throwIfAborted, type SolverChoice } from './solver.js';
+import { analyseSupercell } from './spaces.js';
+
+export interface SweepOptions {
+  sizes: [number, number][];
+  /** A Boundary or its text form (the `--bc` grammar). */
+  boundary: Boundary | string;
+  /** Relative rank tolerance (× σ_max); default 1e-9. */
+  tolerance?: number;
+  window?: number;
+  strip?: number;
+  solver?: SolverChoice;
+  memoryLimit?: number;
+  /** Called before each size (fraction of sizes done) and once at the end. */
+  onProgress?: (p: { fraction: number; stage: string; size?: [number, number] }) => void;
+  /** Called with each finished row, in order (lets a shell print rows as they come). */
+  onRow?: (row: SweepRow) => void;
+  signal?: AbortSignal;
+}
+
+export interface SweepRow {
+  N1: number;
+  N2: number;
+  joints: number;
+  bars: number;
+  flexes: number;
+  trivial: number;
+  selfStresses: number;
+  local: number;
+  line: number;
+  decaying: number;
+  bulk: number;
+  /** Wall-clock seconds for this size (solve and classification). */
+  seconds: number;
+  /** Warnings of the classification at this size (an ambiguous rank, ...). */
+  warnings: string[];
+}
+
+export type SweepQuantity = FlexClass | 'flexes';
+export const SWEEP_QUANTITIES: readonly SweepQuantity[] = ['flexes', ...FLEX_CLASSES];
+
+export interface GrowthFit {
+  /** Slope of ln(count) against ln(N), or null with fewer than two usable sizes. */
+  exponent: number | null;
+  /** R² of that fit (1 for exactly two sizes), or null. */
+  r2: number | null;
+  /** Number of sizes used (those with count > 0). */
+  points: number;
+}
+
+export interface SweepResult {
+  boundary: string;
+  rows: SweepRow[];
+  fits: Record<SweepQuantity, GrowthFit>;
+  /** Which linear size N the fits use: 'N1', 'N2' or '√(N1·N2)'. */
+  linearSize: 'N1' | 'N2' | '√(N1·N2)';
+  /** What N means and the classification thresholds of the last size. */
+  thresholds: Classification['thresholds'];
+}
+
+/** Least-squares slope of ln y against ln x with its R², over the points with y > 0. */
+export function growthFit(xs: number[], ys: number[]): GrowthFit {
+  const pts = xs.map((x, i) => [x, ys[i]] as const).filter(([x, y]) => y > 0 && x > 0);
+  const lx = pts.map(([x]) => Math.log(x));
+  const ly = pts.map(([, y]) => Math.log(y));
+  const distinct = new Set(lx).size;
+  if (distinct < 2) return { exponent: null, r2: null, points: pts.length };
+  const n = pts.length;
+  const mx = lx.reduce((a, b) => a + b, 0) / n;
+  const my = ly.reduce((a, b) => a + b, 0) / n;
+  let sxx = 0;
+  let sxy = 0;
+  let syy = 0;
+  for (let i = 0; i < n; i++) {
+    sxx += (lx[i] - mx) ** 2;
+    sxy += (lx[i] - mx) * (ly[i] - my);
+    syy += (ly[i] - my) ** 2;
+  }
+  const exponent = sxy / sxx;
+  const r2 = syy === 0 ? 1 : (sxy * sxy) / (sxx * syy);
+  return { exponent, r2, points: n };
+}
+
+/** The linear size of each row: the side that varies, or √(N1·N2) when both do. */
+export function linearSizes(rows: { N1: number; N2: number }[]): { sizes: number[]; rule: SweepResult['linearSize'] } {
+  const sameN2 = rows.every((r) => r.N2 === rows[0].N2);
+  const sameN1 = rows.every((r) => r.N1 === rows[0].N1);
+  if (sameN2 && !sameN1) return { sizes: rows.map((r) => r.N1), rule: 'N1' };
+  if (sameN1 && !sameN2) return { sizes: rows.map((r) => r.N2), rule: 'N2' };
+  return { sizes: rows.map((r) => Math.sqrt(r.N1 * r.N2)), rule: '√(N1·N2)' };
+}
+
+export function sweep(fw: Framework, options: SweepOptions): SweepResult {
+  const framework = checkFramework(fw);
+  const boundary = typeof options.boundary === 'string' ? parseBoundary(options.boundary) : options.boundary;
+  if (!Array.isArray(options.sizes) || options.sizes.length === 0) {
+    throw new InputError('The sweep cannot run:', [{ where: 'sizes', what: 'no supercell sizes were given', fix: 'give at least one size N1×N2, e.g. --cells 4..12' }]);
+  }
+  options.sizes.forEach((s, i) => checkCells(s, `sizes[${i}]`));
+  const rows: SweepRow[] = [];
+  let last: Classification | undefined;
+  options.sizes.forEach((size, i) => {
+    throwIfAborted(options.signal);
+    options.onProgress?.({ fraction: i / options.sizes.length, stage: `${size[0]}×${size[1]}`, size });
+    const t0 = performance.now();
+    const sc = buildSupercell(framework, size, boundary);
+    const analysis = analyseSupercell(sc, { tolerance: options.tolerance, solver: options.solver, memoryLimit: options.memoryLimit, signal: options.signal });
+    const c = classifyFlexes(sc, analysis, { window: options.window, strip: options.strip, signal: options.signal });
+    last = c;
+    const row: SweepRow = {
+      N1: size[0],
+      N2: size[1],
+      joints: analysis.joints,
+      bars: analysis.bars,
+      flexes: analysis.flexes,
+      trivial: analysis.trivialFlexes,
+      selfStresses: analysis.selfStresses,
+      ...c.counts,
+      seconds: (performance.now() - t0) / 1000,
+      warnings: c.warnings ?? [],
+    };
+    rows.push(row);
+    options.onRow?.(row);
+  });
+  options.onProgress?.({ fraction: 1, stage: 'done' });
+  const { sizes: N, rule } = linearSizes(rows);
+  const fits = Object.fromEntries(SWEEP_QUANTITIES.map((q) => [q, growthFit(N, rows.map((r) => r[q]))])) as Record<SweepQuantity, GrowthFit>;
+  return {
+    boundary: typeof options.boundary === 'string' ? options.boundary : JSON.stringify(options.boundary),
+    rows,
+    fits,
+    linearSize: rule,
+    thresholds: { ...(last?.thresholds ?? {}), linearSize: rule, exponent: 'least-squares slope of ln(count) against ln(N) over the sizes with count > 0' },
+  };
+}
