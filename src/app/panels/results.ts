@@ -1,0 +1,257 @@
+/** Results panel: run status and progress, counts, rank evidence, classes, and the lists of flexes and self-stresses. */
+import { CAUTION_SHORT } from '../../caution.js';
+import { FLEX_CLASSES, type FlexClass } from '../../flex/classes.js';
+import type { ModeData } from '../../worker/protocol.js';
+import type { App } from '../app.js';
+import { clear, fmt, h, section } from '../dom.js';
+
+export interface ResultsPanel {
+  el: HTMLElement;
+  refresh(): void;
+  refreshStatus(): void;
+  refreshStale(): void;
+  refreshSelection(): void;
+  focusSelection(): void;
+}
+
+const CLASS_TEXT: Record<FlexClass, { title: string; help: string }> = {
+  local: { title: 'Local', help: 'supported inside a small window of cells' },
+  line: { title: 'Line', help: 'supported along a narrow strip in a lattice direction' },
+  decaying: { title: 'Decaying', help: 'amplitude falls off away from a side, corner or point' },
+  bulk: { title: 'Bulk', help: 'spread through the supercell' },
+};
+
+export function modeSummary(m: ModeData): string {
+  const parts: string[] = [];
+  if (m.support !== undefined) parts.push(`support ${m.support} joints`);
+  if (m.extents) parts.push(`extent ${fmt(m.extents[0], 3)} × ${fmt(m.extents[1], 3)} cells`);
+  if (m.direction) parts.push(`direction (${m.direction[0]}, ${m.direction[1]})`);
+  if (m.decayLength !== undefined) parts.push(`ξ ${fmt(m.decayLength, 3)} cells`);
+  if (m.anchor) parts.push(`anchor ${m.anchor.kind === 'point' ? `point (${fmt(m.anchor.at[0], 3)}, ${fmt(m.anchor.at[1], 3)})` : `${m.anchor.kind} ${m.anchor.name}`}`);
+  parts.push(`participation ${fmt(m.participation, 3)}`);
+  if (m.im) parts.push('complex (travelling phase)');
+  return parts.join(' · ');
+}
+
+export function buildResultsPanel(app: App): ResultsPanel {
+  const status = h('div', { class: 'status', 'data-testid': 'status', 'aria-live': 'polite' });
+  const stale = h('div', { class: 'stale', hidden: true, 'data-testid': 'stale' }, 'Settings changed since this result. ', h('button', { type: 'button', class: 'link', onclick: () => app.run() }, 'Run to update'));
+  const title = h('p', { class: 'result-title', 'data-testid': 'result-title' });
+  const cell = (testid: string) => h('span', { class: 'count', 'data-testid': testid }, '—');
+  const c = {
+    flexes: cell('count-flexes'),
+    trivial: cell('count-trivial'),
+    nontrivial: cell('count-nontrivial'),
+    stresses: cell('count-self-stresses'),
+    mc: h('span', { 'data-testid': 'maxwell-calladine' }, '—'),
+    rank: h('span', null, '—'),
+    gap: h('span', { 'data-testid': 'gap' }, '—'),
+    size: h('span', null, '—'),
+    solver: h('span', null, '—'),
+  };
+  const gapWarning = h('p', { class: 'gap-warning', hidden: true, 'data-testid': 'gap-warning', role: 'status' });
+  const row = (label: string, value: HTMLElement, help?: string) => [h('dt', { title: help }, label), h('dd', null, value)];
+  const counts = h(
+    'dl',
+    { class: 'counts' },
+    row('flexes', c.flexes, 'dim ker R: infinitesimal motions, rigid ones included'),
+    row('  of which trivial', c.trivial, 'rigid motions the boundary allows that are flexes'),
+    row('  non-trivial', c.nontrivial),
+    row('self-stresses', c.stresses, 'dim ker Rᴴ: bar tensions in equilibrium without load'),
+    row('Maxwell–Calladine', c.mc, 'flexes − self-stresses = 2·joints − bars, an identity of the counts'),
+    row('rank', c.rank),
+    row('singular-value gap', c.gap, 'smallest kept σ / largest dropped σ; under 10⁴ the rank is ambiguous'),
+    row('supercell', c.size),
+    row('solver', c.solver),
+  );
+  const caution = h('p', { class: 'caution-line', 'data-testid': 'caution-short' }, CAUTION_SHORT, ' ', h('button', { type: 'button', class: 'link', onclick: () => app.openAbout() }, 'More'));
+  const classCells = Object.fromEntries(FLEX_CLASSES.map((k) => [k, h('span', { class: 'count', 'data-testid': `count-${k}` }, '—')])) as Record<FlexClass, HTMLElement>;
+  const classNote = h('p', { class: 'hint', 'data-testid': 'classes-note' });
+  const classes = h(
+    'div',
+    { class: 'classes' },
+    FLEX_CLASSES.map((k) => h('div', { class: `class-tile class-${k}`, title: CLASS_TEXT[k].help }, h('span', { class: 'class-name' }, CLASS_TEXT[k].title), classCells[k])),
+  );
+
+  const tabFlex = h('button', { type: 'button', role: 'tab', class: 'tab', 'data-testid': 'tab-flexes', 'aria-selected': 'true' }, 'Flexes');
+  const tabStress = h('button', { type: 'button', role: 'tab', class: 'tab', 'data-testid': 'tab-stresses', 'aria-selected': 'false' }, 'Self-stresses');
+  const list = h('div', { class: 'mode-list', role: 'listbox', 'aria-label': 'Basis flexes', 'data-testid': 'mode-list', tabindex: '-1' });
+  let listing: 'flex' | 'stress' = 'flex';
+  tabFlex.addEventListener('click', () => {
+    listing = 'flex';
+    renderList();
+    if (app.result?.modes.length) app.selectFlex(Math.min(app.state.view.flex, app.result.modes.length - 1));
+  });
+  tabStress.addEventListener('click', () => {
+    listing = 'stress';
+    renderList();
+    if (app.result?.stresses.length) app.selectStress(Math.min(app.state.view.stress, app.result.stresses.length - 1));
+  });
+
+  const renderList = () => {
+    clear(list);
+    const r = app.result;
+    tabFlex.setAttribute('aria-selected', String(listing === 'flex'));
+    tabStress.setAttribute('aria-selected', String(listing === 'stress'));
+    list.setAttribute('aria-label', listing === 'flex' ? 'Basis flexes' : 'Basis self-stresses');
+    if (!r) return;
+    tabFlex.textContent = `Flexes (${r.modes.length})`;
+    tabStress.textContent = `Self-stresses (${r.stresses.length})`;
+    if (listing === 'flex') {
+      if (!r.modes.length) list.append(h('p', { class: 'hint' }, 'No flexes: the supercell is infinitesimally rigid under this boundary rule.'));
+      let group: string | null = '';
+      r.modes.forEach((m, i) => {
+        const g = m.class ?? null;
+        if (g !== group) {
+          group = g;
+          list.append(h('div', { class: 'group-head', role: 'presentation' }, g ? `${CLASS_TEXT[g].title} — ${CLASS_TEXT[g].help}` : 'Solver basis (not classified)'));
+        }
+        list.append(
+          h(
+            'button',
+            { type: 'button', role: 'option', class: `mode ${m.class ? `class-${m.class}` : ''}`, 'data-index': i, 'data-testid': `flex-${i}`, 'aria-selected': 'false', onclick: () => app.selectFlex(i) },
+            h('span', { class: 'mode-index' }, `#${i}`),
+            h('span', { class: 'mode-class' }, m.class ?? 'basis'),
+            h('span', { class: 'mode-metrics' }, modeSummary(m)),
+          ),
+        );
+      });
+    } else {
+      if (!r.stresses.length) list.append(h('p', { class: 'hint' }, r.stressNote ? `Self-stress basis ${r.stressNote}.` : 'No self-stresses.'));
+      r.stresses.forEach((st, i) => {
+        let nz = 0;
+        let max = 0;
+        for (let k = 0; k < st.re.length; k++) {
+          const a = Math.hypot(st.re[k], st.im ? st.im[k] : 0);
+          max = Math.max(max, a);
+        }
+        for (let k = 0; k < st.re.length; k++) if (Math.hypot(st.re[k], st.im ? st.im[k] : 0) > 1e-3 * max) nz++;
+        list.append(
+          h(
+            'button',
+            { type: 'button', role: 'option', class: 'mode', 'data-index': i, 'data-testid': `stress-${i}`, 'aria-selected': 'false', onclick: () => app.selectStress(i) },
+            h('span', { class: 'mode-index' }, `#${i}`),
+            h('span', { class: 'mode-class' }, 'stress'),
+            h('span', { class: 'mode-metrics' }, `${nz} bars carry tension or compression${st.im ? ' · complex (shown after aligning its phase)' : ''}`),
+          ),
+        );
+      });
+    }
+    refreshSelection();
+  };
+
+  const refreshSelection = () => {
+    const v = app.state.view;
+    if ((v.show === 'stress') !== (listing === 'stress')) {
+      listing = v.show === 'stress' ? 'stress' : 'flex';
+      renderList();
+      return;
+    }
+    const sel = listing === 'flex' ? v.flex : v.stress;
+    for (const b of Array.from(list.querySelectorAll<HTMLElement>('[role=option]'))) b.setAttribute('aria-selected', String(Number(b.dataset.index) === sel));
+    scrollToSelection();
+  };
+  /** Scrolls the list (only the list) so that the selected row is visible. */
+  const scrollToSelection = () => {
+    const row = list.querySelector<HTMLElement>('[aria-selected=true]');
+    if (!row) return;
+    const top = row.offsetTop;
+    const head = 22; // the sticky group heading
+    if (top - head < list.scrollTop) list.scrollTop = Math.max(0, top - head);
+    else if (top + row.offsetHeight > list.scrollTop + list.clientHeight) list.scrollTop = top + row.offsetHeight - list.clientHeight;
+  };
+
+  // persistent progress elements (re-rendering them would move the Cancel button under the pointer)
+  const progLabel = h('span');
+  const progBar = h('progress', { max: 1, value: 0 });
+  const progBox = h('div', { class: 'progress', 'data-testid': 'progress' }, h('div', null, h('span', { class: 'spinner', 'aria-hidden': 'true' }), ' ', progLabel), progBar, h('button', { type: 'button', class: 'small', 'data-testid': 'cancel', onclick: () => app.cancelRun() }, 'Cancel'));
+  const quick = h('span', null, h('span', { class: 'spinner', 'aria-hidden': 'true' }), ' computing…');
+  const doneText = h('span');
+  let ticking = 0;
+  const refreshStatus = () => {
+    const st = app.status;
+    clearTimeout(ticking);
+    let show: HTMLElement | null = null;
+    if (st.kind === 'running') {
+      if (!st.showProgress) show = quick;
+      else {
+        show = progBox;
+        progLabel.textContent = `${st.stage} — ${((performance.now() - st.started) / 1000).toFixed(1)} s`;
+        progBar.value = st.fraction;
+        ticking = window.setTimeout(() => {
+          if (app.status === st) refreshStatus();
+        }, 250);
+      }
+    } else if (st.kind === 'done' && app.result) {
+      show = doneText;
+      doneText.textContent = `computed in ${(st.ms / 1000).toFixed(2)} s`;
+    }
+    if (show && status.firstChild !== show) status.replaceChildren(show);
+    else if (!show) status.replaceChildren();
+  };
+
+  const refreshStale = () => {
+    stale.hidden = !app.result || !app.isStale();
+  };
+
+  let version = 0;
+  const refresh = () => {
+    const r = app.result;
+    if (r) el.dataset.version = String(++version);
+    refreshStatus();
+    refreshStale();
+    if (!r) return;
+    const k = r.counts;
+    const s = app.resultState!;
+    title.textContent = `${r.geometry.cells[0]}×${r.geometry.cells[1]} cells · ${r.geometry.bc}`;
+    c.flexes.textContent = String(k.flexes);
+    c.trivial.textContent = String(k.trivialFlexes);
+    c.nontrivial.textContent = String(k.flexes - k.trivialFlexes);
+    c.stresses.textContent = String(k.selfStresses);
+    const mc = k.maxwellCalladine;
+    c.mc.textContent = `${k.flexes} − ${k.selfStresses} = ${mc.lhs}; 2·${k.joints} − ${k.bars} = ${mc.rhs} ${mc.ok ? '✓ holds' : '✗ FAILS'}`;
+    c.mc.className = mc.ok ? 'ok' : 'bad';
+    c.rank.textContent = `${k.rank} of ${k.dof} columns (${k.real ? 'real' : 'complex'} matrix), tol ${fmt(k.tolerance.relative)}·σ_max = ${fmt(k.tolerance.absolute)}`;
+    c.gap.textContent = `kept σ ${fmt(k.gap.kept)}, dropped σ ${fmt(k.gap.dropped)}, ratio ${k.gap.ratio === null ? 'unbounded' : fmt(k.gap.ratio, 3)}${k.gapNote ? ` (${k.gapNote})` : ''}`;
+    c.gap.className = k.gap.ambiguous ? 'bad' : '';
+    gapWarning.hidden = !k.gap.ambiguous;
+    gapWarning.textContent = k.gap.ambiguous ? `⚠ Ambiguous rank: the gap ratio ${fmt(k.gap.ratio, 3)} is under 10⁴, so every count depends on the tolerance (${s.tolerance}). Try another tolerance and compare.` : '';
+    c.size.textContent = `${k.joints} joints, ${k.bars} bars${k.groundedBars ? ` (${k.groundedBars} grounded)` : ''}${k.droppedBars ? `, ${k.droppedBars} dropped at free sides` : ''}`;
+    c.solver.textContent = `${k.solver} (${k.solverReason})`;
+    const cls = r.classification;
+    for (const key of FLEX_CLASSES) classCells[key].textContent = cls ? String(cls.counts[key]) : '—';
+    classNote.textContent = cls
+      ? `Windows up to ${s.window}×${s.window} cells, strips up to ${s.strip} cells wide.${cls.shortStripFlexes ? ` ${cls.shortStripFlexes} short strip pieces are counted as decaying or bulk.` : ''} Rigid motions are not projected out: they usually count as bulk.`
+      : r.classificationNote ?? 'Not classified.';
+    renderList();
+  };
+
+  const el = section(
+    'Results',
+    status,
+    stale,
+    title,
+    counts,
+    gapWarning,
+    caution,
+    h('h3', null, 'Where the flexes live'),
+    classes,
+    classNote,
+    h('div', { class: 'tabs', role: 'tablist' }, tabFlex, tabStress),
+    list,
+    h('p', { class: 'hint' }, 'Select a flex to animate it; ← / → step through the list, space plays or pauses.'),
+  );
+  el.setAttribute('data-testid', 'results');
+  el.dataset.version = '0';
+  return {
+    el,
+    refresh,
+    refreshStatus,
+    refreshStale,
+    refreshSelection,
+    focusSelection() {
+      // after keyboard navigation, bring the row into sight even if the column must scroll
+      list.querySelector<HTMLElement>('[aria-selected=true]')?.scrollIntoView({ block: 'nearest' });
+    },
+  };
+}

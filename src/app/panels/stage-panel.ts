@@ -1,0 +1,166 @@
+/** The stage panel: animation controls, the pixi canvas host, the colour legend. */
+import { describeBoundary, parseBoundary } from '../../supercell/boundary.js';
+import type { App } from '../app.js';
+import { checkbox, h, select, sliderField } from '../dom.js';
+import { AMPLITUDE_GRADIENT, STRESS_GRADIENT } from '../stage/colours.js';
+import type { ArrowMode } from '../stage/scene.js';
+import type { Stage } from '../stage/stage.js';
+import { LIMITS } from '../state.js';
+import { modeSummary } from './results.js';
+
+export interface StagePanel {
+  el: HTMLElement;
+  host: HTMLElement;
+  attach(stage: Stage): void;
+  refresh(): void;
+  refreshLegend(): void;
+  showPhase(turns: number): void;
+  /** Text shown on the empty stage (before the first result). */
+  setEmpty(text: string): void;
+}
+
+export function buildStagePanel(app: App): StagePanel {
+  const v = () => app.state.view;
+  let stage: Stage | null = null;
+  const play = h('button', { type: 'button', class: 'primary small', 'data-testid': 'play', 'aria-pressed': 'true', onclick: () => app.togglePlay() }, 'Pause');
+  const back = h('button', { type: 'button', class: 'small', 'data-testid': 'step-back', title: 'Step back 1/32 period', 'aria-label': 'Step back', onclick: () => app.stepPhase(-1) }, '◀');
+  const fwd = h('button', { type: 'button', class: 'small', 'data-testid': 'step', title: 'Step forward 1/32 period', 'aria-label': 'Step forward', onclick: () => app.stepPhase(1) }, '▶');
+  const phase = h('span', { class: 'phase mono', 'data-testid': 'phase', 'aria-live': 'off' }, 'φ/2π = 0.000');
+  const amp = sliderField({
+    label: 'amplitude',
+    min: 0,
+    max: LIMITS.amplitude.max,
+    step: 0.01,
+    value: v().amplitude,
+    unit: 'bar lengths',
+    compact: true,
+    help: 'Largest joint displacement drawn, in median bar lengths (a first-order motion: large amplitudes stretch bars).',
+    testid: 'amplitude',
+    onChange: (x) => {
+      v().amplitude = x;
+      app.viewChanged();
+    },
+  });
+  const speed = sliderField({
+    label: 'speed',
+    min: LIMITS.speed.min,
+    max: LIMITS.speed.max,
+    step: 0.05,
+    value: v().speed,
+    unit: 'periods/s',
+    compact: true,
+    help: 'Animation periods per second.',
+    testid: 'speed',
+    onChange: (x) => {
+      v().speed = x;
+      app.viewChanged();
+    },
+  });
+  const arrows = select<ArrowMode>(
+    'arrows',
+    [
+      { value: 'none', label: 'no arrows' },
+      { value: 'velocity', label: 'velocity' },
+      { value: 'displacement', label: 'displacement' },
+    ],
+    v().arrows,
+    (x) => {
+      v().arrows = x;
+      app.viewChanged();
+    },
+    'arrows',
+  );
+  const colour = checkbox('colour joints by amplitude', v().colour, (x) => {
+    v().colour = x;
+    app.viewChanged();
+  }, 'colour-joints');
+  const rest = checkbox('show rest shape', v().rest, (x) => {
+    v().rest = x;
+    app.viewChanged();
+  }, 'show-rest');
+  const fit = h('button', { type: 'button', class: 'small', 'data-testid': 'fit', onclick: () => stage?.fit() }, 'Fit');
+  const zin = h('button', { type: 'button', class: 'small', 'aria-label': 'Zoom in', onclick: () => stage?.zoomBy(1.25) }, '+');
+  const zout = h('button', { type: 'button', class: 'small', 'aria-label': 'Zoom out', onclick: () => stage?.zoomBy(0.8) }, '−');
+
+  const host = h('div', { class: 'stage-host', tabindex: '0', 'data-testid': 'stage', 'aria-label': 'Stage: drag to pan, wheel or + and − to zoom, 0 or double-click to fit' });
+  host.addEventListener('keydown', (e) => {
+    if (e.key === '+' || e.key === '=') stage?.zoomBy(1.25);
+    else if (e.key === '-') stage?.zoomBy(0.8);
+    else if (e.key === '0') stage?.fit();
+  });
+  const legend = h('div', { class: 'legend', 'data-testid': 'legend', hidden: true });
+  const info = h('div', { class: 'stage-info', 'data-testid': 'stage-info' });
+  const empty = h('div', { class: 'stage-empty' }, 'Computing the demo…');
+  const frame = h('div', { class: 'stage-frame' }, host, empty);
+
+  const toolbar = h(
+    'div',
+    { class: 'toolbar', role: 'toolbar', 'aria-label': 'Animation and view' },
+    h('div', { class: 'tool-row' }, h('div', { class: 'tool-group' }, back, play, fwd, phase), h('div', { class: 'tool-group grow' }, amp.el), h('div', { class: 'tool-group' }, zout, fit, zin)),
+    h('div', { class: 'tool-row' }, h('div', { class: 'tool-group grow' }, speed.el), h('div', { class: 'tool-group' }, arrows.el), h('div', { class: 'tool-group checks' }, colour.el, rest.el)),
+  );
+
+  const gradient = (stops: readonly string[]) => `linear-gradient(to right, ${stops.join(', ')})`;
+  const refreshLegend = () => {
+    const r = app.result;
+    empty.hidden = !!r;
+    if (!r) return;
+    const vs = v();
+    const showStress = vs.show === 'stress' && r.stresses[vs.stress];
+    const mode = !showStress ? r.modes[vs.flex] : undefined;
+    legend.replaceChildren();
+    if (showStress) {
+      legend.hidden = false;
+      legend.append(h('div', { class: 'legend-title' }, 'bar tension of the self-stress'), h('div', { class: 'legend-bar', style: `background:${gradient(STRESS_GRADIENT)}` }), h('div', { class: 'legend-ends' }, h('span', null, 'compression'), h('span', null, 'tension')), h('div', { class: 'legend-note' }, 'the overall sign of a basis self-stress is arbitrary'));
+    } else if (mode && vs.colour) {
+      legend.hidden = false;
+      legend.append(h('div', { class: 'legend-title' }, 'joint amplitude |u| / max |u|'), h('div', { class: 'legend-bar', style: `background:${gradient(AMPLITUDE_GRADIENT)}` }), h('div', { class: 'legend-ends' }, h('span', null, '0'), h('span', null, '0.5'), h('span', null, '1')));
+    } else legend.hidden = true;
+    let bc = r.geometry.bc;
+    try {
+      bc = describeBoundary(parseBoundary(r.geometry.bc));
+    } catch {
+      // keep the text
+    }
+    const what = showStress
+      ? `self-stress #${vs.stress} of ${r.stresses.length}`
+      : mode
+        ? `flex #${vs.flex} of ${r.modes.length}${mode.class ? ` · ${mode.class}` : ''} · ${modeSummary(mode)}`
+        : r.modes.length === 0
+          ? 'no flexes to animate'
+          : '';
+    info.replaceChildren(h('div', null, `${r.geometry.cells[0]}×${r.geometry.cells[1]} cells · ${bc}`));
+    if (what) info.append(h('div', null, what));
+  };
+
+  const refresh = () => {
+    const vs = v();
+    play.textContent = vs.playing ? 'Pause' : 'Play';
+    play.setAttribute('aria-pressed', String(vs.playing));
+    amp.set(vs.amplitude);
+    speed.set(vs.speed);
+    arrows.input.value = vs.arrows;
+    colour.input.checked = vs.colour;
+    rest.input.checked = vs.rest;
+    showPhase(vs.phase);
+    refreshLegend();
+  };
+  const showPhase = (t: number) => {
+    phase.textContent = `φ/2π = ${t.toFixed(3)}`;
+  };
+
+  const el = h('section', { class: 'panel stage-panel', 'aria-label': 'Stage' }, toolbar, frame, h('div', { class: 'stage-foot' }, info, legend));
+  return {
+    el,
+    host,
+    attach(s: Stage) {
+      stage = s;
+    },
+    refresh,
+    refreshLegend,
+    showPhase,
+    setEmpty(text: string) {
+      empty.textContent = text;
+    },
+  };
+}

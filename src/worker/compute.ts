@@ -1,0 +1,209 @@
+/**
+ * What the worker computes, as plain async functions (no messaging), so they can be tested
+ * outside a browser. Runs the same core as the CLI: `count` from src/analysis.ts, then the
+ * bases, the classifier and the optional spectrum tools.
+ */
+import { count } from '../analysis.js';
+import { InputError, TooLargeError } from '../errors.js';
+import { FLEX_CLASSES, type FlexClass } from '../flex/classes.js';
+import { classifyFlexes } from '../flex/classify.js';
+import { CancelledError, throwIfAborted } from '../flex/solver.js';
+import { countsOf } from '../flex/spaces.js';
+import type { CVec } from '../linalg/complex.js';
+import { phaseMap } from '../spectrum/phasemap.js';
+import { sweep } from '../flex/sweep.js';
+import { geometryOf } from './geometry.js';
+import type { AnalyseJob, AnalyseResult, ModeData, PhaseMapData, PhaseMapJob, StressData, SweepData, SweepJob, WorkerError, WorkerFeatures } from './protocol.js';
+
+export interface Hooks {
+  onProgress?: (fraction: number, stage: string) => void;
+  signal?: AbortSignal;
+  /** Awaited between stages (the worker yields there so that a cancel message can arrive). */
+  checkpoint?: () => Promise<void>;
+}
+
+export function features(): WorkerFeatures {
+  return { classify: true, phaseMap: true, sweep: true };
+}
+
+/** Participation ratio (Σ|u_k|²)² / (J·Σ|u_k|⁴) over joints k. */
+export function participation(re: Float64Array, im: Float64Array | null): number {
+  const J = re.length / 2;
+  let s2 = 0;
+  let s4 = 0;
+  for (let k = 0; k < J; k++) {
+    let a = re[2 * k] ** 2 + re[2 * k + 1] ** 2;
+    if (im) a += im[2 * k] ** 2 + im[2 * k + 1] ** 2;
+    s2 += a;
+    s4 += a * a;
+  }
+  return s4 > 0 ? (s2 * s2) / (J * s4) : 0;
+}
+
+function split(v: CVec, real: boolean): { re: Float64Array; im: Float64Array | null } {
+  const re = Float64Array.from(v.re);
+  if (real) return { re, im: null };
+  let any = false;
+  for (let i = 0; i < v.im.length && !any; i++) any = v.im[i] !== 0;
+  return { re, im: any ? Float64Array.from(v.im) : null };
+}
+
+export async function analyse(job: AnalyseJob, hooks: Hooks = {}): Promise<AnalyseResult> {
+  const timings: Record<string, number> = {};
+  const progress = (f: number, stage: string) => hooks.onProgress?.(f, stage);
+  const step = async () => {
+    if (hooks.checkpoint) await hooks.checkpoint();
+    throwIfAborted(hooks.signal);
+  };
+  let t = performance.now();
+  const lap = (name: string) => {
+    const now = performance.now();
+    timings[name] = now - t;
+    t = now;
+  };
+
+  progress(0, 'building the supercell and its rigidity matrix');
+  await step();
+  const { supercell, analysis } = count({
+    framework: job.framework,
+    cells: job.cells,
+    boundary: job.bc,
+    tolerance: job.tolerance,
+    solver: job.solver,
+    signal: hooks.signal,
+    onProgress: (p) => progress(0.05 + 0.35 * p.fraction, `rank: ${p.stage}`),
+  });
+  lap('rank');
+  const counts = countsOf(analysis);
+  const geometry = geometryOf(supercell);
+
+  progress(0.4, 'flex basis');
+  await step();
+  const basis = analysis.flexBasis();
+  lap('flex basis');
+
+  let stresses: StressData[] = [];
+  let stressNote: string | undefined;
+  if (job.stresses && analysis.selfStresses > 0) {
+    progress(0.55, 'self-stress basis');
+    await step();
+    try {
+      stresses = analysis.selfStressBasis().vectors.map((v) => split(v, analysis.real));
+    } catch (e) {
+      if (!(e instanceof TooLargeError)) throw e;
+      stressNote = e.message;
+    }
+    lap('self-stress basis');
+  } else if (!job.stresses) {
+    stressNote = 'not computed (switched off)';
+  }
+
+  let modes: ModeData[];
+  let modeSource: AnalyseResult['modeSource'] = 'basis';
+  let classification: AnalyseResult['classification'] = null;
+  let classificationNote: string | undefined;
+  if (job.classify && analysis.flexes > 0) {
+    progress(0.65, 'classifying the flexes');
+    await step();
+    const c = classifyFlexes(supercell, analysis, {
+      window: job.window,
+      strip: job.strip,
+      signal: hooks.signal,
+      onProgress: (p) => progress(0.65 + 0.35 * p.fraction, `classes: ${p.stage}`),
+    });
+    lap('classify');
+    const order: Record<FlexClass, number> = { local: 0, line: 1, decaying: 2, bulk: 3 };
+    modes = c.modes
+      .map((m, i) => ({ m, i }))
+      .sort((a, b) => order[a.m.class] - order[b.m.class] || a.i - b.i)
+      .map(({ m }) => {
+        const { re, im } = split(m.vector, analysis.real);
+        const out: ModeData = { class: m.class, re, im, participation: m.participation, support: m.support, extents: [m.extents[0], m.extents[1]] };
+        if (m.direction) out.direction = [m.direction[0], m.direction[1]];
+        if (m.anchor) out.anchor = { kind: m.anchor.kind, name: m.anchor.name, at: [m.anchor.at[0], m.anchor.at[1]] };
+        if (m.decayLength !== undefined) out.decayLength = m.decayLength;
+        if (m.region !== undefined) out.region = m.region;
+        if (m.fitQuality !== undefined) out.fitQuality = m.fitQuality;
+        if (m.headWeight !== undefined) out.headWeight = m.headWeight;
+        return out;
+      });
+    modeSource = 'classified';
+    const counts = Object.fromEntries(FLEX_CLASSES.map((k) => [k, c.counts[k] ?? 0])) as Record<FlexClass, number>;
+    classification = { counts, thresholds: { ...c.thresholds } };
+    if (c.shortStripFlexes !== undefined) classification.shortStripFlexes = c.shortStripFlexes;
+    if (c.warnings?.length) classification.warnings = [...c.warnings];
+  } else {
+    modes = basis.vectors.map((v) => {
+      const { re, im } = split(v, analysis.real);
+      return { class: null, re, im, participation: participation(re, im) };
+    });
+    if (analysis.flexes === 0) {
+      classification = { counts: { local: 0, line: 0, decaying: 0, bulk: 0 }, thresholds: { window: job.window, strip: job.strip } };
+      modeSource = 'classified';
+    } else {
+      classificationNote = 'classification switched off: the list shows the orthonormal basis of the solver';
+    }
+  }
+  progress(1, 'done');
+  return { counts, geometry, modes, modeSource, classification, ...(classificationNote ? { classificationNote } : {}), stresses, ...(stressNote ? { stressNote } : {}), timings };
+}
+
+export async function runPhaseMap(job: PhaseMapJob, hooks: Hooks = {}): Promise<PhaseMapData> {
+  await hooks.checkpoint?.();
+  const pm = phaseMap(job.framework, {
+    grid: job.grid,
+    tolerance: job.tolerance,
+    signal: hooks.signal,
+    onProgress: (p) => hooks.onProgress?.(p.fraction, p.stage),
+  });
+  const k = pm.detection ? pm.detection.index - 1 : 0;
+  const field = pm.smallest[Math.min(k, pm.smallest.length - 1)] ?? new Float64Array(pm.grid * pm.grid);
+  return {
+    grid: pm.grid,
+    dof: pm.dof,
+    bars: pm.bars,
+    tolerance: { ...pm.tolerance },
+    sigmaMax: pm.sigmaMax,
+    sigma1: Float64Array.from(field),
+    kernel: Int32Array.from(pm.kernel),
+    genericKernel: pm.genericKernel,
+    lines: pm.zeroSet.lines.map((l) => ({ p: l.p, q: l.q, c: l.c, support: l.support, kernel: l.kernel })),
+    isolated: pm.zeroSet.isolated.map((z) => ({ theta: [z.theta[0], z.theta[1]], kernel: z.kernel })),
+    points: pm.zeroSet.points.length,
+  };
+}
+
+export async function runSweep(job: SweepJob, hooks: Hooks = {}): Promise<SweepData> {
+  await hooks.checkpoint?.();
+  const r = sweep(job.framework, {
+    sizes: job.sizes,
+    boundary: job.bc,
+    tolerance: job.tolerance,
+    solver: job.solver,
+    window: job.window,
+    strip: job.strip,
+    signal: hooks.signal,
+    onProgress: (p) => hooks.onProgress?.(p.fraction, p.stage),
+  });
+  return JSON.parse(JSON.stringify(r)) as SweepData;
+}
+
+export class UnavailableError extends Error {
+  constructor(message: string) {
+    super(message);
+    this.name = 'UnavailableError';
+  }
+}
+
+/** Any thrown value as a message the app can show. */
+export function toWorkerError(e: unknown): WorkerError {
+  if (e instanceof InputError) return { kind: 'input', message: e.message, problems: e.problems.map((p) => ({ ...p })) };
+  if (e instanceof TooLargeError) return { kind: 'too-large', message: e.message, bytesNeeded: e.bytesNeeded, bytesAllowed: e.bytesAllowed };
+  if (e instanceof CancelledError) return { kind: 'cancelled', message: e.message };
+  if (e instanceof UnavailableError) return { kind: 'unavailable', message: e.message };
+  if (e instanceof RangeError && /Invalid array length|Array buffer allocation failed/i.test(e.message)) {
+    return { kind: 'too-large', message: `The browser could not allocate memory for this problem (${e.message}). Fix: use fewer cells.` };
+  }
+  const message = e instanceof Error ? `${e.name}: ${e.message}` : String(e);
+  return { kind: 'internal', message: `An unexpected error stopped the computation: ${message}` };
+}

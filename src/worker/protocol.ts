@@ -1,0 +1,192 @@
+/**
+ * The message protocol between the app (main thread) and the compute worker.
+ *
+ * Every request carries a run id chosen by the app; every response names the id it answers.
+ * A run ends with exactly one `result` or `error` message. `progress` messages may come in
+ * between. A `cancel` request asks the worker to stop the named run at its next checkpoint;
+ * the app terminates and respawns the worker when a run does not stop in time (the dense SVD
+ * cannot be interrupted half-way).
+ *
+ * Numeric arrays travel as typed arrays (transferred, not copied).
+ */
+import type { Anchor, FlexClass } from '../flex/classes.js';
+import type { FlexCounts } from '../flex/spaces.js';
+import type { Framework, Vec2 } from '../framework/types.js';
+import type { Problem } from '../errors.js';
+import type { SolverChoice } from '../flex/solver.js';
+import type { SweepResult } from '../flex/sweep.js';
+
+/** One supercell analysis: what `shimmy count` does, plus bases and classes for display. */
+export interface AnalyseJob {
+  framework: Framework;
+  cells: [number, number];
+  /** Boundary rule in the `--bc` grammar. */
+  bc: string;
+  /** Relative rank tolerance (× σ_max). */
+  tolerance: number;
+  /** Which solver (as the CLI's --solver); 'auto' picks by size and structure. */
+  solver: SolverChoice;
+  /** Largest window (cells) for local flexes. */
+  window: number;
+  /** Largest strip width (cells) for line flexes. */
+  strip: number;
+  /** Compute the self-stress basis too. */
+  stresses: boolean;
+  /** Split the flexes into classes (local / line / decaying / bulk). */
+  classify: boolean;
+}
+
+export interface PhaseMapJob {
+  framework: Framework;
+  grid: number;
+  tolerance: number;
+}
+
+export interface SweepJob {
+  framework: Framework;
+  sizes: [number, number][];
+  bc: string;
+  tolerance: number;
+  solver: SolverChoice;
+  window: number;
+  strip: number;
+}
+
+export type WorkerRequest =
+  | { type: 'analyse'; id: number; job: AnalyseJob }
+  | { type: 'phasemap'; id: number; job: PhaseMapJob }
+  | { type: 'sweep'; id: number; job: SweepJob }
+  | { type: 'cancel'; id: number };
+
+/** The supercell as drawn: joints and the rows of the rigidity matrix (kept and grounded bars). */
+export interface GeometryData {
+  lattice: [Vec2, Vec2];
+  cells: [number, number];
+  sites: number;
+  jointCount: number;
+  /** 2 per joint. */
+  positions: Float64Array;
+  /** Cell (i, j) of each joint, 2 per joint. */
+  jointCells: Int32Array;
+  /** Bar ends: joint index, or −1 for a fixed (grounded) end. */
+  barA: Int32Array;
+  barB: Int32Array;
+  /** Unwrapped bar vectors, 2 per bar. */
+  barVector: Float64Array;
+  /** Phase factor of the `to` end, (re, im) per bar. */
+  barPhase: Float64Array;
+  /** Wrap counts along twisted axes, 2 per bar. */
+  barWraps: Int32Array;
+  /** Canonical boundary text. */
+  bc: string;
+  real: boolean;
+  dropped: number;
+  grounded: number;
+}
+
+/** One basis flex as shown in the list. */
+export interface ModeData {
+  /** The class, or null when the flexes were not classified. */
+  class: FlexClass | null;
+  /** Joint velocities, 2 per joint (x, y); im is null for a real vector. */
+  re: Float64Array;
+  im: Float64Array | null;
+  support?: number;
+  extents?: [number, number];
+  direction?: [number, number];
+  anchor?: Anchor;
+  decayLength?: number;
+  participation: number;
+  region?: string;
+  fitQuality?: number;
+  headWeight?: number;
+}
+
+/** One basis self-stress: a tension per row (bar), im null when real. */
+export interface StressData {
+  re: Float64Array;
+  im: Float64Array | null;
+}
+
+export interface ClassificationData {
+  counts: Record<FlexClass, number>;
+  thresholds: Record<string, number | string>;
+  shortStripFlexes?: number;
+  warnings?: string[];
+}
+
+export interface AnalyseResult {
+  counts: FlexCounts;
+  geometry: GeometryData;
+  /** Display order: grouped by class (local, line, decaying, bulk), else basis order. */
+  modes: ModeData[];
+  /** Where the modes come from. */
+  modeSource: 'classified' | 'basis';
+  classification: ClassificationData | null;
+  /** Why there is no classification, when there is none. */
+  classificationNote?: string;
+  stresses: StressData[];
+  /** Why the self-stress basis is missing, when it is. */
+  stressNote?: string;
+  /** Milliseconds spent per stage. */
+  timings: Record<string, number>;
+}
+
+/** The phase-map result as sent to the app (a plain copy of src/spectrum/phasemap.ts's PhaseMap). */
+export interface PhaseMapData {
+  grid: number;
+  dof: number;
+  bars: number;
+  tolerance: { relative: number; absolute: number };
+  sigmaMax: number;
+  /** σ_1 at each grid point, index i2·grid + i1. */
+  sigma1: Float64Array;
+  kernel: Int32Array;
+  genericKernel: number;
+  lines: { p: number; q: number; c: number; support: number; kernel: number }[];
+  isolated: { theta: [number, number]; kernel: number }[];
+  points: number;
+}
+
+/** A size sweep result (src/flex/sweep.ts's SweepResult is plain data already). */
+export type SweepData = SweepResult;
+
+export interface WorkerFeatures {
+  classify: boolean;
+  phaseMap: boolean;
+  sweep: boolean;
+}
+
+export type WorkerErrorKind = 'input' | 'too-large' | 'cancelled' | 'unavailable' | 'internal';
+
+export interface WorkerError {
+  kind: WorkerErrorKind;
+  message: string;
+  problems?: Problem[];
+  bytesNeeded?: number;
+  bytesAllowed?: number;
+}
+
+export type WorkerResponse =
+  | { type: 'ready'; features: WorkerFeatures }
+  | { type: 'progress'; id: number; fraction: number; stage: string }
+  | { type: 'result'; id: number; result: AnalyseResult }
+  | { type: 'phasemap-result'; id: number; result: PhaseMapData }
+  | { type: 'sweep-result'; id: number; result: SweepData }
+  | { type: 'error'; id: number; error: WorkerError };
+
+/** Typed arrays to transfer with a result. */
+export function transferablesOf(r: AnalyseResult): ArrayBuffer[] {
+  const g = r.geometry;
+  const out: ArrayBufferLike[] = [g.positions.buffer, g.jointCells.buffer, g.barA.buffer, g.barB.buffer, g.barVector.buffer, g.barPhase.buffer, g.barWraps.buffer];
+  for (const m of r.modes) {
+    out.push(m.re.buffer);
+    if (m.im) out.push(m.im.buffer);
+  }
+  for (const s of r.stresses) {
+    out.push(s.re.buffer);
+    if (s.im) out.push(s.im.buffer);
+  }
+  // Only whole, distinct buffers can be transferred.
+  return [...new Set(out)].filter((b): b is ArrayBuffer => b instanceof ArrayBuffer);
+}

@@ -1,0 +1,10 @@
+/** Vite serves and builds the browser app (index.html → src/app/main.ts, worker in src/worker). */
+import { defineConfig } from 'vite';
+
+export default defineConfig({
+  server: { host: '127.0.0.1', port: 5173, strictPort: false },
+  preview: { host: '127.0.0.1', port: 4173, strictPort: false },
+  worker: { format: 'es' },
+  build: { target: 'es2022', outDir: 'dist', chunkSizeWarningLimit: 2000 },
+  optimizeDeps: { include: ['pixi.js', 'd3-scale', 'gif.js', 'ml-matrix'] },
+});
