@@ -65,7 +65,7 @@
  */
 import { EigenvalueDecomposition, Matrix, SingularValueDecomposition } from 'ml-matrix';
 import { InputError } from '../errors.js';
-import type { CVec } from '../linalg/complex.js';
+import { cdot as dot, cnorm as norm, type CVec } from '../linalg/complex.js';
 import { DENSE_MEMORY_LIMIT, nullSpace, singularValues } from '../linalg/dense.js';
 import type { SparseMatrix } from '../linalg/sparse.js';
 import type { Supercell } from '../supercell/supercell.js';
@@ -165,21 +165,6 @@ export function hermitianEigen(re: Float64Array, im: Float64Array | null, k: num
   return { values, vectors };
 }
 
-function dot(a: { re: Float64Array; im: Float64Array }, b: { re: Float64Array; im: Float64Array }): [number, number] {
-  let sr = 0;
-  let si = 0;
-  for (let i = 0; i < a.re.length; i++) {
-    sr += a.re[i] * b.re[i] + a.im[i] * b.im[i];
-    si += a.re[i] * b.im[i] - a.im[i] * b.re[i];
-  }
-  return [sr, si];
-}
-
-function norm(a: { re: Float64Array; im: Float64Array }): number {
-  let s = 0;
-  for (let i = 0; i < a.re.length; i++) s += a.re[i] * a.re[i] + a.im[i] * a.im[i];
-  return Math.sqrt(s);
-}
 
 function scaleInPlace(a: { re: Float64Array; im: Float64Array }, s: number): void {
   for (let i = 0; i < a.re.length; i++) {

@@ -177,6 +177,34 @@ function norm2(re: Float64Array, im: Float64Array | null): number {
   return Math.sqrt(s);
 }
 
+/**
+ * x ← x − Σ_p q_p (q_pᴴ x) over the columns q_p (real parts qRe[p], imaginary parts qIm[p]),
+ * for p < count; x is real when xi is null (then the q are real too).
+ */
+function projectOut(xr: Float64Array, xi: Float64Array | null, qRe: Float64Array[], qIm: Float64Array[] | null, count: number): void {
+  const n = xr.length;
+  for (let p = 0; p < count; p++) {
+    const qr = qRe[p];
+    if (!xi) {
+      let c = 0;
+      for (let i = 0; i < n; i++) c += qr[i] * xr[i];
+      if (c !== 0) for (let i = 0; i < n; i++) xr[i] -= c * qr[i];
+    } else {
+      const qi = qIm![p];
+      let cr = 0;
+      let ci = 0;
+      for (let i = 0; i < n; i++) {
+        cr += qr[i] * xr[i] + qi[i] * xi[i];
+        ci += qr[i] * xi[i] - qi[i] * xr[i];
+      }
+      for (let i = 0; i < n; i++) {
+        xr[i] -= cr * qr[i] - ci * qi[i];
+        xi[i] -= cr * qi[i] + ci * qr[i];
+      }
+    }
+  }
+}
+
 /** Orthonormalise the columns in place (modified Gram–Schmidt, two passes); dependent columns are replaced by random ones. */
 function orthonormalise(b: Block, rand: () => number): void {
   const q = b.re.length;
@@ -190,28 +218,7 @@ function orthonormalise(b: Block, rand: () => number): void {
         const s = 1 / n0;
         for (let i = 0; i < n; i++) xr[i] *= s;
         if (xi) for (let i = 0; i < n; i++) xi[i] *= s;
-        for (let pass = 0; pass < 2; pass++) {
-          for (let p = 0; p < j; p++) {
-            const qr = b.re[p];
-            if (!xi) {
-              let c = 0;
-              for (let i = 0; i < n; i++) c += qr[i] * xr[i];
-              if (c !== 0) for (let i = 0; i < n; i++) xr[i] -= c * qr[i];
-            } else {
-              const qi = b.im![p];
-              let cr = 0;
-              let ci = 0;
-              for (let i = 0; i < n; i++) {
-                cr += qr[i] * xr[i] + qi[i] * xi[i];
-                ci += qr[i] * xi[i] - qi[i] * xr[i];
-              }
-              for (let i = 0; i < n; i++) {
-                xr[i] -= cr * qr[i] - ci * qi[i];
-                xi[i] -= cr * qi[i] + ci * qr[i];
-              }
-            }
-          }
-        }
+        for (let pass = 0; pass < 2; pass++) projectOut(xr, xi, b.re, b.im, j);
         const n1 = norm2(xr, xi);
         if (n1 > 1e-10 || attempt >= 5) {
           const s1 = 1 / n1;
@@ -881,28 +888,7 @@ function orthonormalDrop(cand: Block, locked: Block): Block {
     if (!(n0 > 0) || !Number.isFinite(n0)) continue;
     for (let i = 0; i < n; i++) xr[i] /= n0;
     if (xi) for (let i = 0; i < n; i++) xi[i] /= n0;
-    for (let pass = 0; pass < 2; pass++) {
-      for (let p = 0; p < basisRe.length; p++) {
-        const qr = basisRe[p];
-        if (!xi) {
-          let c = 0;
-          for (let i = 0; i < n; i++) c += qr[i] * xr[i];
-          if (c !== 0) for (let i = 0; i < n; i++) xr[i] -= c * qr[i];
-        } else {
-          const qi = basisIm![p];
-          let cr = 0;
-          let ci = 0;
-          for (let i = 0; i < n; i++) {
-            cr += qr[i] * xr[i] + qi[i] * xi[i];
-            ci += qr[i] * xi[i] - qi[i] * xr[i];
-          }
-          for (let i = 0; i < n; i++) {
-            xr[i] -= cr * qr[i] - ci * qi[i];
-            xi[i] -= cr * qi[i] + ci * qr[i];
-          }
-        }
-      }
-    }
+    for (let pass = 0; pass < 2; pass++) projectOut(xr, xi, basisRe, basisIm, basisRe.length);
     const n1 = norm2(xr, xi);
     if (!(n1 > 1e-10)) continue;
     for (let i = 0; i < n; i++) xr[i] /= n1;
