@@ -5,6 +5,8 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { main, readTextFile } from '../src/cli/main.js';
+import { progressLine } from '../src/cli/progress.js';
+import { DENSE_MEMORY_LIMIT, denseMemoryBytes } from '../src/linalg/dense.js';
 
 async function run(argv: string[]) {
   let out = '';
@@ -108,6 +110,14 @@ describe('help and errors', () => {
     const r = await run(['count', 'gallery:kagome', '--cells', '200x200', '--bc', 'twist:0.1,0.2', '--solver', 'dense']);
     expect(r.code).toBe(3);
     expect(r.err).toMatch(/about [\d.]+ GB/);
+    // the nearest size named must itself fit: dense memory grows like (N1·N2)²
+    const m = /about (\d+)x(\d+) would fit/.exec(r.err);
+    expect(m).not.toBeNull();
+    // periodic kagome: 6 bars and 6 columns per cell
+    const cells = Number(m![1]) * Number(m![2]);
+    expect(denseMemoryBytes(6 * cells, 6 * cells, true, false)).toBeLessThanOrEqual(DENSE_MEMORY_LIMIT);
+    const bigger = (Number(m![1]) + 2) * (Number(m![2]) + 2);
+    expect(denseMemoryBytes(6 * bigger, 6 * bigger, true, false)).toBeGreaterThan(DENSE_MEMORY_LIMIT);
     expect(r.err).not.toMatch(/\n\s+at /);
   });
 });
@@ -122,4 +132,25 @@ describe('the installed command', () => {
     expect(bad.stderr).toContain('--bc');
     expect(bad.stderr).not.toMatch(/\n\s+at /);
   }, 30000);
+});
+
+describe('progress line', () => {
+  it('stays quiet for short runs, then prints the stage and percentage on stderr', () => {
+    let err = '';
+    const io = { out: () => undefined, err: (t: string) => (err += t), readText: readTextFile };
+    const quiet = progressLine(io, 'count');
+    quiet.report({ fraction: 0.5, stage: 'dense SVD' });
+    quiet.done();
+    expect(err).toBe('');
+    const loud = progressLine(io, 'count', 0, 0);
+    loud.report({ fraction: 0.42, stage: 'factorising' });
+    loud.done();
+    expect(err).toMatch(/^shimmy count: factorising 42% \(\d+\.\d s\)\n$/);
+    let tty = '';
+    const t = progressLine({ ...io, err: (x: string) => (tty += x), errIsTTY: true }, 'sweep', 0, 0);
+    t.report({ fraction: 1, stage: '8×8' });
+    t.done();
+    expect(tty.startsWith('\r')).toBe(true);
+    expect(tty.endsWith('\n')).toBe(true);
+  });
 });

@@ -8,6 +8,7 @@ import { analyseSupercell, type FlexAnalysis } from '../flex/spaces.js';
 import { describeBoundary } from '../supercell/boundary.js';
 import { buildSupercell, type Supercell } from '../supercell/supercell.js';
 import { parseNumberFlag, type FlagSpec, type ParsedArgs } from './args.js';
+import { progressLine, type ProgressLine } from './progress.js';
 import type { Command } from './command.js';
 import { BOUNDARY_HELP, fmt, FRAMEWORK_HELP, readSupercellArgs, SUPERCELL_FLAGS, table, type SupercellArgs } from './common.js';
 
@@ -40,10 +41,12 @@ export function readClassifyFlags(args: ParsedArgs): { window: number; strip: nu
   return { window: int('--window', DEFAULT_WINDOW), strip: int('--strip', DEFAULT_STRIP) };
 }
 
-export function runClassification(a: SupercellArgs, opts: { window: number; strip: number }): ClassifyRun {
+export function runClassification(a: SupercellArgs, opts: { window: number; strip: number }, progress?: ProgressLine): ClassifyRun {
   const supercell = buildSupercell(a.framework, a.cells, a.boundary);
-  const analysis = analyseSupercell(supercell, { tolerance: a.tolerance, solver: a.solver });
-  const classification = classifyFlexes(supercell, analysis, opts);
+  const onProgress = progress?.report;
+  const analysis = analyseSupercell(supercell, { tolerance: a.tolerance, solver: a.solver, onProgress });
+  const classification = classifyFlexes(supercell, analysis, { ...opts, onProgress });
+  progress?.done();
   return { supercell, analysis, classification };
 }
 
@@ -116,7 +119,7 @@ export const classifyCommand: Command = {
     const a = readSupercellArgs(args, io, 'classify');
     const opts = readClassifyFlags(args);
     const outPath = args.flags.get('--out') as string | undefined;
-    const r = runClassification(a, opts);
+    const r = runClassification(a, opts, progressLine(io, 'classify'));
     const c = r.classification;
     if (outPath !== undefined) writeOutFile(outPath, JSON.stringify(outputObject(a, r, true)) + '\n');
     if (args.flags.has('--json')) {

@@ -5,6 +5,8 @@ export interface CliIO {
   out(text: string): void;
   err(text: string): void;
   readText(path: string): string;
+  /** Whether stderr is a terminal (progress lines then overwrite themselves). */
+  errIsTTY?: boolean;
 }
 
 export interface Command {

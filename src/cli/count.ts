@@ -5,6 +5,7 @@ import { countsOf } from '../flex/spaces.js';
 import { AMBIGUOUS_RATIO } from '../linalg/rank.js';
 import { describeBoundary } from '../supercell/boundary.js';
 import type { Command } from './command.js';
+import { progressLine } from './progress.js';
 import { BOUNDARY_HELP, fmt, FRAMEWORK_HELP, readSupercellArgs, SUPERCELL_FLAGS, table } from './common.js';
 
 export const countCommand: Command = {
@@ -16,7 +17,9 @@ export const countCommand: Command = {
   details: [...FRAMEWORK_HELP, '', ...BOUNDARY_HELP],
   run(args, io) {
     const a = readSupercellArgs(args, io, 'count');
-    const { analysis } = count({ framework: a.framework, cells: a.cells, boundary: a.boundary, tolerance: a.tolerance, solver: a.solver });
+    const progress = progressLine(io, 'count');
+    const { analysis } = count({ framework: a.framework, cells: a.cells, boundary: a.boundary, tolerance: a.tolerance, solver: a.solver, onProgress: progress.report });
+    progress.done();
     const c = countsOf(analysis);
     const ambiguous = c.gap.ambiguous;
     if (args.flags.has('--json')) {

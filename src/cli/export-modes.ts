@@ -7,6 +7,7 @@
 import { InputError } from '../errors.js';
 import { CAUTION } from '../caution.js';
 import type { Command } from './command.js';
+import { progressLine } from './progress.js';
 import { CLASS_HELP, CLASSIFY_FLAGS, modeSummary, readClassifyFlags, runClassification, writeOutFile, type ClassifyRun } from './classify.js';
 import { BOUNDARY_HELP, FRAMEWORK_HELP, readSupercellArgs, SUPERCELL_FLAGS, type SupercellArgs } from './common.js';
 
@@ -127,7 +128,7 @@ export const exportModesCommand: Command = {
     }
     const a = readSupercellArgs(args, io, 'export-modes');
     const opts = readClassifyFlags(args);
-    const r = runClassification(a, opts);
+    const r = runClassification(a, opts, progressLine(io, 'export-modes'));
     const text = json ? JSON.stringify(modesJson(a, r)) + '\n' : modesCsv(r);
     const outPath = args.flags.get('--out') as string | undefined;
     if (outPath !== undefined) {

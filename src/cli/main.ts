@@ -49,6 +49,7 @@ export const nodeIO: CliIO = {
   out: (t) => process.stdout.write(t),
   err: (t) => process.stderr.write(t),
   readText: readTextFile,
+  errIsTTY: Boolean(process.stderr.isTTY),
 };
 
 export async function main(argv: string[], io: CliIO = nodeIO): Promise<number> {

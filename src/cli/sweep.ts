@@ -3,6 +3,7 @@ import { InputError } from '../errors.js';
 import { SWEEP_QUANTITIES, sweep, type SweepResult, type SweepRow } from '../flex/sweep.js';
 import { MAX_CELLS_PER_AXIS } from '../supercell/supercell.js';
 import { describeBoundary } from '../supercell/boundary.js';
+import { progressLine } from './progress.js';
 import type { Command } from './command.js';
 import { CLASS_HELP, CLASSIFY_FLAGS, readClassifyFlags } from './classify.js';
 import { BOUNDARY_HELP, fmt, FRAMEWORK_HELP, readSupercellArgs, SUPERCELL_FLAGS } from './common.js';
@@ -121,6 +122,7 @@ export const sweepCommand: Command = {
       io.out('  ' + COLUMNS.map((k, i) => k.padStart(widths[i])).join(' ') + '\n');
     }
     if (mode === 'csv') io.out(COLUMNS.join(',') + '\n');
+    const progress = progressLine(io, 'sweep');
     const result = sweep(a.framework, {
       sizes,
       boundary: a.bcText,
@@ -128,11 +130,13 @@ export const sweepCommand: Command = {
       solver: a.solver,
       window: opts.window,
       strip: opts.strip,
+      onProgress: progress.report,
       onRow: (row) => {
         if (mode === 'table') io.out('  ' + COLUMNS.map((k, i) => cell(row, k).padStart(widths[i])).join(' ') + '\n');
         if (mode === 'csv') io.out(COLUMNS.map((k) => (k === 'seconds' ? String(row.seconds) : cell(row, k))).join(',') + '\n');
       },
     });
+    progress.done();
     if (mode === 'json') {
       io.out(JSON.stringify({ framework: a.spec, name: a.framework.name ?? null, ...result }, null, 2) + '\n');
       return 0;

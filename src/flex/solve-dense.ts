@@ -1,14 +1,26 @@
 /** The dense reference solver: ml-matrix SVD of the whole rigidity matrix. */
-import { checkDenseFits, nullSpace, singularValues, type NullBasis } from '../linalg/dense.js';
+import { checkDenseFits, denseMemoryBytes, nullSpace, singularValues, type NullBasis } from '../linalg/dense.js';
+import type { Supercell } from '../supercell/supercell.js';
 import { decideRank } from '../linalg/rank.js';
 import { conjugateTranspose } from '../linalg/sparse.js';
 import { throwIfAborted, type SpaceSolver } from './solver.js';
 
-export const denseSolver: SpaceSolver = (_sc, R, options) => {
+/**
+ * "about N1'×N2' cells would fit": dense memory grows like (N1·N2)², so both sides shrink by
+ * (allowed / needed)^¼; the faster solvers are named too.
+ */
+function sizeAdvice(sc: Supercell, need: number, limit: number): string {
+  const f = Math.pow(limit / need, 0.25);
+  const [a, b] = sc.cells.map((N) => Math.max(1, Math.floor(N * f)));
+  return `use fewer cells (about ${a}x${b} would fit), or --solver auto, which picks the sparse or Bloch solver for large supercells`;
+}
+
+export const denseSolver: SpaceSolver = (sc, R, options) => {
   const m = R.rows;
   const n = R.cols;
   const complex = R.im !== null;
-  checkDenseFits(m, n, complex, false, options.memoryLimit);
+  const need = denseMemoryBytes(m, n, complex, false);
+  checkDenseFits(m, n, complex, false, options.memoryLimit, sizeAdvice(sc, need, options.memoryLimit));
   throwIfAborted(options.signal);
   options.onProgress?.({ fraction: 0, stage: 'dense SVD' });
   const decision = decideRank(singularValues(R), m, n, options.relative);
@@ -20,14 +32,14 @@ export const denseSolver: SpaceSolver = (_sc, R, options) => {
     decision,
     flexBasis() {
       if (!flexCache) {
-        checkDenseFits(m, n, complex, true, options.memoryLimit);
+        checkDenseFits(m, n, complex, true, options.memoryLimit, sizeAdvice(sc, denseMemoryBytes(m, n, complex, true), options.memoryLimit));
         flexCache = nullSpace(R, n - decision.rank);
       }
       return flexCache;
     },
     selfStressBasis() {
       if (!stressCache) {
-        checkDenseFits(n, m, complex, true, options.memoryLimit);
+        checkDenseFits(n, m, complex, true, options.memoryLimit, sizeAdvice(sc, denseMemoryBytes(n, m, complex, true), options.memoryLimit));
         stressCache = nullSpace(conjugateTranspose(R), m - decision.rank);
       }
       return stressCache;

@@ -27,12 +27,12 @@ export function denseMemoryBytes(m: number, n: number, complex: boolean, vectors
   return 8 * doubles;
 }
 
-export function checkDenseFits(m: number, n: number, complex: boolean, vectors: boolean, limit = DENSE_MEMORY_LIMIT): void {
+export function checkDenseFits(m: number, n: number, complex: boolean, vectors: boolean, limit = DENSE_MEMORY_LIMIT, advice = 'use fewer cells'): void {
   const need = denseMemoryBytes(m, n, complex, vectors);
   if (need > limit) {
     throw new TooLargeError(
       `The dense solver would need about ${formatBytes(need)} for this ${m}×${n} ${complex ? 'complex ' : ''}rigidity matrix, ` +
-        `over the ${formatBytes(limit)} it may use. Fix: use fewer cells.`,
+        `over the ${formatBytes(limit)} it may use. Fix: ${advice}.`,
       need,
       limit,
     );
