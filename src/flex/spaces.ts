@@ -62,15 +62,41 @@ export interface FlexAnalysis extends FlexCounts {
   selfStressBasis(): NullBasis;
 }
 
-/** Number of independent columns of R·T for orthonormal rigid fields T, at the given absolute tolerance. */
+/**
+ * Number of independent columns of R·T for orthonormal rigid fields T, at the given absolute
+ * tolerance. The tall m×t product is reduced by Householder QR to its t×t triangle (same
+ * singular values, to rounding), whose SVD is tiny.
+ */
 function rigidRank(R: SparseMatrix, motions: RigidMotion[], absTol: number): number {
-  if (motions.length === 0 || R.rows === 0) return 0;
-  const RT = new Matrix(Math.max(R.rows, motions.length), motions.length);
-  motions.forEach((m, c) => {
-    const y = sparseMatVec(R, m.field, null);
-    for (let r = 0; r < R.rows; r++) RT.set(r, c, y.re[r]);
-  });
-  const s = new SingularValueDecomposition(RT, { computeLeftSingularVectors: false, computeRightSingularVectors: false }).diagonal;
+  const t = motions.length;
+  if (t === 0 || R.rows === 0) return 0;
+  const cols = motions.map((m) => sparseMatVec(R, m.field, null).re);
+  const m = R.rows;
+  const tri = new Matrix(t, t);
+  for (let k = 0; k < t; k++) {
+    // Householder reflection zeroing column k below row k
+    const x = cols[k];
+    let norm = 0;
+    for (let i = k; i < m; i++) norm += x[i] * x[i];
+    norm = Math.sqrt(norm);
+    const alpha = x[k] > 0 ? -norm : norm;
+    const v = new Float64Array(m - k);
+    for (let i = k; i < m; i++) v[i - k] = x[i];
+    v[0] -= alpha;
+    let vv = 0;
+    for (let i = 0; i < v.length; i++) vv += v[i] * v[i];
+    for (let j = k; j < t; j++) {
+      const y = cols[j];
+      if (vv > 0) {
+        let d = 0;
+        for (let i = k; i < m; i++) d += v[i - k] * y[i];
+        const f = (2 * d) / vv;
+        for (let i = k; i < m; i++) y[i] -= f * v[i - k];
+      }
+      tri.set(k, j, y[k]);
+    }
+  }
+  const s = new SingularValueDecomposition(tri, { computeLeftSingularVectors: false, computeRightSingularVectors: false }).diagonal;
   return s.filter((v) => v > absTol).length;
 }
 

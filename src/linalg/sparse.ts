@@ -14,10 +14,10 @@ export interface SparseMatrix {
 
 /** Accumulates entries row by row; entries landing on the same (row, col) are summed. */
 export class SparseBuilder {
-  private rowOf = new Int32Array(64);
-  private colOf = new Int32Array(64);
-  private reOf = new Float64Array(64);
-  private imOf = new Float64Array(64);
+  private rowOf = new Int32Array(16);
+  private colOf = new Int32Array(16);
+  private reOf = new Float64Array(16);
+  private imOf = new Float64Array(16);
   private count = 0;
   private rowCount = 0;
   constructor(readonly cols: number) {}
@@ -92,6 +92,7 @@ export class SparseBuilder {
       }
       rowPtr[r + 1] = out;
     }
+    if (out === n) return { rows, cols: this.cols, rowPtr, colIdx, re, im };
     return { rows, cols: this.cols, rowPtr, colIdx: colIdx.slice(0, out), re: re.slice(0, out), im: im ? im.slice(0, out) : null };
   }
 }

@@ -160,12 +160,19 @@ export function buildSupercell(fw: Framework, cells: [number, number], boundary:
   return { framework: fw, cells: [N1, N2], boundary, sites: S, jointCount, positions, jointCells, jointSites, bars, dropped, grounded, real: boundaryIsReal(boundary) };
 }
 
+const QUARTER_TURNS: readonly (readonly [number, number])[] = [
+  [1, 0],
+  [0, 1],
+  [-1, 0],
+  [0, -1],
+];
+
 /** exp(2πi t), exact for t a multiple of ¼ (so real boundaries stay exactly real). */
 function phaseOf(t: number, ang: number): [number, number] {
   const q = t * 4;
   if (Number.isInteger(q)) {
-    const r = ((q % 4) + 4) % 4;
-    return ([[1, 0], [0, 1], [-1, 0], [0, -1]] as [number, number][])[r];
+    const r = QUARTER_TURNS[((q % 4) + 4) % 4];
+    return [r[0], r[1]];
   }
   return [Math.cos(ang), Math.sin(ang)];
 }
