@@ -1,87 +1,25 @@
 /**
  * `shimmy export-modes`: every classified basis vector as per-joint velocities (real and
- * imaginary parts), with joint positions and cells, for use in other tools. Numbers are
- * printed as JavaScript's shortest round-trip decimal form, so parsing them gives back the
+ * imaginary parts), with joint positions and cells, for use in other tools. Writes the mode-data
+ * format of src/io/modes.ts (the same JSON as the app's export), whose numbers read back as the
  * exact doubles.
  */
 import { InputError } from '../errors.js';
-import { CAUTION } from '../caution.js';
+import { countsOf } from '../flex/spaces.js';
+import { MODE_CSV_COLUMNS, modeDataOfRun, modesToCsv, modesToJson, type ModeData } from '../io/modes.js';
 import type { Command } from './command.js';
 import { progressLine } from './progress.js';
-import { CLASS_HELP, CLASSIFY_FLAGS, modeSummary, readClassifyFlags, runClassification, writeOutFile, type ClassifyRun } from './classify.js';
+import { CLASS_HELP, CLASSIFY_FLAGS, readClassifyFlags, runClassification, writeOutFile, type ClassifyRun } from './classify.js';
 import { BOUNDARY_HELP, FRAMEWORK_HELP, readSupercellArgs, SUPERCELL_FLAGS, type SupercellArgs } from './common.js';
 
-export const CSV_COLUMNS = ['mode', 'class', 'joint', 'cell_i', 'cell_j', 'site', 'x', 'y', 'ux_re', 'ux_im', 'uy_re', 'uy_im'] as const;
+/** The CSV columns (the shared mode-data format's). */
+export const CSV_COLUMNS = MODE_CSV_COLUMNS;
 
-/** Shortest decimal that parses back to the same double (−0 written as 0). */
-function num(x: number): string {
-  return Object.is(x, -0) ? '0' : String(x);
-}
+export const SELF_STRESS_NOTE = 'not computed by shimmy export-modes (it writes the flexes)';
 
-function csvField(s: string): string {
-  return /[",\n\r]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
-}
-
-export function modesCsv(r: ClassifyRun): string {
-  const sc = r.supercell;
-  const out: string[] = [CSV_COLUMNS.join(',')];
-  const siteIds = sc.framework.joints.map((j) => csvField(j.id));
-  r.classification.modes.forEach((m, mode) => {
-    const v = m.vector;
-    for (let k = 0; k < sc.jointCount; k++) {
-      out.push(
-        [
-          String(mode),
-          m.class,
-          String(k),
-          String(sc.jointCells[2 * k]),
-          String(sc.jointCells[2 * k + 1]),
-          siteIds[sc.jointSites[k]],
-          num(sc.positions[2 * k]),
-          num(sc.positions[2 * k + 1]),
-          num(v.re[2 * k]),
-          num(v.im[2 * k]),
-          num(v.re[2 * k + 1]),
-          num(v.im[2 * k + 1]),
-        ].join(','),
-      );
-    }
-  });
-  return out.join('\n') + '\n';
-}
-
-export function modesJson(a: SupercellArgs, r: ClassifyRun): Record<string, unknown> {
-  const sc = r.supercell;
-  const c = r.classification;
-  const J = sc.jointCount;
-  const pick = (v: Float64Array, off: number) => Array.from({ length: J }, (_, k) => v[2 * k + off]);
-  return {
-    framework: a.spec,
-    name: a.framework.name ?? null,
-    cells: a.cells,
-    boundary: a.bcText,
-    flexes: c.flexes,
-    trivialFlexes: c.trivialFlexes,
-    counts: c.counts,
-    thresholds: c.thresholds,
-    warnings: c.warnings ?? [],
-    joints: Array.from({ length: J }, (_, k) => ({
-      joint: k,
-      cell_i: sc.jointCells[2 * k],
-      cell_j: sc.jointCells[2 * k + 1],
-      site: sc.framework.joints[sc.jointSites[k]].id,
-      x: sc.positions[2 * k],
-      y: sc.positions[2 * k + 1],
-    })),
-    modes: c.modes.map((m, i) => ({
-      ...modeSummary(m, i),
-      ux_re: pick(m.vector.re, 0),
-      ux_im: pick(m.vector.im, 0),
-      uy_re: pick(m.vector.re, 1),
-      uy_im: pick(m.vector.im, 1),
-    })),
-    caution: CAUTION,
-  };
+/** The mode-data document of one export-modes run (src/io/modes.ts). */
+export function exportData(a: SupercellArgs, r: ClassifyRun): ModeData {
+  return modeDataOfRun({ spec: a.spec, supercell: r.supercell, counts: countsOf(r.analysis), classification: r.classification, selfStressNote: SELF_STRESS_NOTE });
 }
 
 export const exportModesCommand: Command = {
@@ -91,7 +29,7 @@ export const exportModesCommand: Command = {
   flags: [
     ...SUPERCELL_FLAGS,
     ...CLASSIFY_FLAGS,
-    { name: '--json', help: 'one JSON object: joints (positions, cells, sites) and modes (class, metrics, velocity arrays)' },
+    { name: '--json', help: 'one JSON object (format "shimmy mode data"): counts, joints (positions, cells, sites), bars, and flexes (class, metrics, velocities)' },
     { name: '--csv', help: 'one CSV row per mode and joint, columns below' },
     { name: '--out', value: 'FILE', help: 'write to FILE instead of standard output' },
     { name: '--help', help: 'show this help' },
@@ -108,9 +46,12 @@ export const exportModesCommand: Command = {
     '  ux_re, ux_im  real and imaginary parts of the x velocity',
     '  uy_re, uy_im  real and imaginary parts of the y velocity',
     'Each mode vector has unit 2-norm; imaginary parts are 0 when the boundary is real (twists 0 or ½).',
-    'Numbers use the shortest decimal that reads back as the same double, so files round-trip exactly.',
-    'The JSON holds the same numbers as arrays per mode (ux_re, ux_im, uy_re, uy_im over joints) plus each',
-    "mode's metrics (support, extents, direction, anchor, decayLength, participation).",
+    'Numbers use the shortest decimal that reads back as the same double (−0 as -0), so files round-trip exactly.',
+    'The JSON ("shimmy mode data", version 2, the same format as the app\'s Mode data export) holds the framework',
+    '(spec, name, unit cell), cells, boundary, tolerance, counts, classification (counts, thresholds), joints,',
+    'bars (rigidity-matrix rows), and flexes: per mode its class and metrics (participation, support, extents,',
+    'direction, anchor, decayLength, region, fitQuality, headWeight) and velocity.re / velocity.im with 2 entries',
+    'per joint (x then y; im null when real), plus the caution text.',
     '',
     ...CLASS_HELP,
     '',
@@ -129,7 +70,8 @@ export const exportModesCommand: Command = {
     const a = readSupercellArgs(args, io, 'export-modes');
     const opts = readClassifyFlags(args);
     const r = runClassification(a, opts, progressLine(io, 'export-modes'));
-    const text = json ? JSON.stringify(modesJson(a, r)) + '\n' : modesCsv(r);
+    const data = exportData(a, r);
+    const text = json ? modesToJson(data) : modesToCsv(data);
     const outPath = args.flags.get('--out') as string | undefined;
     if (outPath !== undefined) {
       writeOutFile(outPath, text);

@@ -1,65 +1,37 @@
-/** Data exports: the mode data (JSON) and the counts (CSV). */
-import { CAUTION } from '../../caution.js';
+/** Data exports: the mode data (JSON, the shared format of src/io/modes.ts) and the counts (CSV). */
+import { modeData, modesToJson, type ModeData } from '../../io/modes.js';
 import type { AnalyseResult } from '../../worker/protocol.js';
 import { frameworkOf, frameworkSpec, type AppState } from '../state.js';
 
-export const MODES_FORMAT = 'shimmy mode data';
-
-const arr = (a: ArrayLike<number>) => Array.from(a);
-
-function pairs(a: ArrayLike<number>): [number, number][] {
-  const out: [number, number][] = [];
-  for (let i = 0; i < a.length; i += 2) out.push([a[i], a[i + 1]]);
-  return out;
-}
-
-export function modesJson(r: AnalyseResult, s: AppState): string {
+/** The mode-data document of an app result (the state it was computed for). */
+export function modeDataOfResult(r: AnalyseResult, s: AppState): ModeData {
   const g = r.geometry;
-  const out = {
-    format: MODES_FORMAT,
-    version: 1,
-    caution: CAUTION,
+  const bars = Array.from(g.barA, (a, i) => ({
+    a,
+    b: g.barB[i],
+    vector: [g.barVector[2 * i], g.barVector[2 * i + 1]],
+    phase: [g.barPhase[2 * i], g.barPhase[2 * i + 1]],
+    wraps: [g.barWraps[2 * i], g.barWraps[2 * i + 1]],
+  }));
+  return modeData({
+    spec: s.framework.kind === 'gallery' ? frameworkSpec(s.framework) : s.framework.fileName,
     framework: frameworkOf(s.framework),
-    spec: s.framework.kind === 'gallery' ? frameworkSpec(s.framework) : null,
-    cells: g.cells,
-    bc: g.bc,
-    tolerance: s.tolerance,
-    window: s.window,
-    strip: s.strip,
+    layout: g,
+    bars,
+    boundary: g.bc,
     counts: r.counts,
     classification: r.classification,
-    ...(r.classificationNote ? { classificationNote: r.classificationNote } : {}),
-    conventions: {
-      joints: 'joint k of site s in cell (i, j) is k = (j·N1 + i)·S + s; positions are Cartesian',
-      velocity: 'flex velocities: re and im of (u_x, u_y) per joint, 2 entries per joint; the motion is p + ε·Re(e^{iφ} u)',
-      bars: 'a bar end of −1 is fixed ground; vector is the unwrapped bar vector; phase multiplies the to-end velocity',
-      tension: 'self-stresses: one tension per bar row, positive = tension (the overall sign of a basis vector is arbitrary)',
-    },
-    joints: pairs(g.positions),
-    jointCells: pairs(g.jointCells),
-    bars: arr(g.barA).map((a, i) => ({
-      from: a,
-      to: g.barB[i],
-      vector: [g.barVector[2 * i], g.barVector[2 * i + 1]],
-      phase: [g.barPhase[2 * i], g.barPhase[2 * i + 1]],
-      wraps: [g.barWraps[2 * i], g.barWraps[2 * i + 1]],
-    })),
-    flexes: r.modes.map((m, index) => ({
-      index,
-      class: m.class,
-      participation: m.participation,
-      ...(m.support !== undefined ? { support: m.support } : {}),
-      ...(m.extents ? { extents: m.extents } : {}),
-      ...(m.direction ? { direction: m.direction } : {}),
-      ...(m.anchor ? { anchor: m.anchor } : {}),
-      ...(m.decayLength !== undefined ? { decayLength: m.decayLength } : {}),
-      ...(m.region ? { region: m.region } : {}),
-      velocity: { re: arr(m.re), im: m.im ? arr(m.im) : null },
-    })),
-    selfStresses: r.stresses.map((st, index) => ({ index, tension: { re: arr(st.re), im: st.im ? arr(st.im) : null } })),
-    ...(r.stressNote ? { selfStressNote: r.stressNote } : {}),
-  };
-  return JSON.stringify(out, null, 1) + '\n';
+    ...(r.classificationNote !== undefined ? { classificationNote: r.classificationNote } : {}),
+    modes: r.modes,
+    // A note means the basis was not computed (switched off or too large).
+    selfStresses: r.stressNote !== undefined ? null : r.stresses,
+    ...(r.stressNote !== undefined ? { selfStressNote: r.stressNote } : {}),
+  });
+}
+
+/** The "Mode data (JSON)" file. */
+export function modesJson(r: AnalyseResult, s: AppState): string {
+  return modesToJson(modeDataOfResult(r, s));
 }
 
 /** RFC 4180 field quoting. */
