@@ -72,7 +72,7 @@ const GROWTH_LIMIT = 1e4;
 export interface SparseSolveOptions extends SolveOptions {
   /** τ = (inertiaShift·σ_max)² for the inertia count; default 1e-3. */
   inertiaShift?: number;
-  /** δ = (choleskyShift·σ_max)² for the shift-invert factorisation; default 1e-6. */
+  /** δ = (choleskyShift·σ_max)² for the shift-invert factorisation; default 1e-4. */
   choleskyShift?: number;
   /** Guard vectors beyond the expected null space; default 8 (at least 4). */
   guardVectors?: number;

@@ -51,3 +51,69 @@ export function decideRank(sigma: ArrayLike<number>, rows: number, cols: number,
     gap: { kept, dropped, ratio, ambiguous: ratio !== null && ratio < AMBIGUOUS_RATIO },
   };
 }
+
+/**
+ * One block's share of a rank decision, when a matrix is unitarily equivalent to a block
+ * diagonal one and every block is cut at the same absolute tolerance: its singular values are
+ * the union of the blocks'.
+ */
+export interface RankPart {
+  /** Singular values of the block above the cut. */
+  rank: number;
+  /** Smallest of them, or null when none is kept (or it is unknown). */
+  kept: number | null;
+  /**
+   * Largest singular value of the block at or below the cut; 0 when only the structural zeros
+   * of a non-square block are dropped; null when nothing is dropped.
+   */
+  dropped: number | null;
+}
+
+/**
+ * The part of a block whose min(rows, cols) singular values are known (any order), at the
+ * absolute cut σ > absolute, with the conventions of decideRank.
+ */
+export function rankPartOf(sigma: ArrayLike<number>, rows: number, cols: number, absolute: number): RankPart {
+  let rank = 0;
+  let kept: number | null = null;
+  let dropped: number | null = null;
+  for (let i = 0; i < sigma.length; i++) {
+    const v = sigma[i];
+    if (v > absolute) {
+      rank++;
+      if (kept === null || v < kept) kept = v;
+    } else if (dropped === null || v > dropped) dropped = v;
+  }
+  if (dropped === null && rank < Math.max(rows, cols)) dropped = 0;
+  return { rank, kept, dropped };
+}
+
+/**
+ * The decision for a rows×cols matrix whose singular values are the union of its blocks' (plus
+ * structural zeros), every block cut at relative · sigmaMax with sigmaMax the largest over all
+ * blocks: rank = Σ block ranks, kept = the smallest kept value of any block, dropped = the
+ * largest dropped value of any block (0 when only structural zeros are dropped, null when
+ * nothing is), ratio and ambiguity as in decideRank. It equals decideRank on the union.
+ */
+export function combineRankParts(parts: readonly RankPart[], rows: number, cols: number, relative: number, sigmaMax: number): RankDecision {
+  if (!(relative >= 0 && relative < 1)) throw new RangeError(`relative tolerance must lie in [0, 1), got ${relative}`);
+  if (!(sigmaMax >= 0 && Number.isFinite(sigmaMax))) throw new RangeError(`sigmaMax must be a finite number ≥ 0, got ${sigmaMax}`);
+  let rank = 0;
+  let kept: number | null = null;
+  let dropped: number | null = null;
+  for (const p of parts) {
+    rank += p.rank;
+    if (p.kept !== null && (kept === null || p.kept < kept)) kept = p.kept;
+    if (p.dropped !== null && (dropped === null || p.dropped > dropped)) dropped = p.dropped;
+  }
+  if (rank > Math.min(rows, cols)) throw new RangeError(`the block ranks add up to ${rank}, more than min(rows, cols) = ${Math.min(rows, cols)}`);
+  if (rank === 0) kept = null;
+  if (dropped === null && rank < Math.max(rows, cols)) dropped = 0;
+  const ratio = kept !== null && dropped !== null && dropped > 0 ? kept / dropped : null;
+  return {
+    rank,
+    tolerance: { relative, absolute: relative * sigmaMax },
+    sigmaMax,
+    gap: { kept, dropped, ratio, ambiguous: ratio !== null && ratio < AMBIGUOUS_RATIO },
+  };
+}
