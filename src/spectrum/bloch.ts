@@ -38,7 +38,7 @@ import type { CVec } from '../linalg/complex.js';
 import { checkDenseFits, nullSpace, singularValues, type NullBasis } from '../linalg/dense.js';
 import { combineRankParts, rankPartOf, type RankPart } from '../linalg/rank.js';
 import { conjugateTranspose, type SparseMatrix } from '../linalg/sparse.js';
-import { reduceTurns, type AxisRule, type Boundary } from '../supercell/boundary.js';
+import { boundaryIsReal, reduceTurns, type AxisRule, type Boundary } from '../supercell/boundary.js';
 import { rigidityMatrix } from '../supercell/rigidity.js';
 import { buildSupercell, jointIndex, type Supercell } from '../supercell/supercell.js';
 import { jacobiSingularValues, jacobiSvd } from './jacobi.js';
@@ -369,6 +369,30 @@ function thetaOf(r: AxisRule): number {
 }
 
 /**
+ * The same one-cell supercell under another twist of both axes: identical joints and bars,
+ * with each bar's phase exp(2πi(θ1 w1 + θ2 w2)) recomputed from its wrap counts (exact ±1, ±i
+ * at quarter turns, as buildSupercell writes them).
+ */
+function rephased(t: Supercell, boundary: Boundary): Supercell {
+  const t1 = boundary.x.kind === 'twist' ? reduceTurns(boundary.x.theta) : 0;
+  const t2 = boundary.y.kind === 'twist' ? reduceTurns(boundary.y.theta) : 0;
+  const bars = t.bars.map((bar) => {
+    const turns = t1 * bar.wraps[0] + t2 * bar.wraps[1];
+    const q = turns * 4;
+    let phase: [number, number];
+    if (Number.isInteger(q)) {
+      const r = ((q % 4) + 4) % 4;
+      phase = r === 0 ? [1, 0] : r === 1 ? [0, 1] : r === 2 ? [-1, 0] : [0, -1];
+    } else {
+      const ang = 2 * Math.PI * turns;
+      phase = [Math.cos(ang), Math.sin(ang)];
+    }
+    return { ...bar, phase };
+  });
+  return { ...t, boundary, bars, real: boundaryIsReal(boundary) };
+}
+
+/**
  * The phases and blocks of a supercell with at least one twisted axis. Throws InputError
  * (naming --solver) when no axis is twisted.
  */
@@ -392,6 +416,8 @@ export function blochPlan(sc: Supercell): BlochPlan {
   const th: [number, number] = [thetaOf(b.x), thetaOf(b.y)];
   const realBoundary = sc.real;
   const blocks: BlochBlock[] = [];
+  // One-cell blocks differ only in their phases: build the first, re-phase it for the rest.
+  let template: Supercell | undefined;
   const index = (m1: number, m2: number) => m2 * phases[0] + m1;
   for (let m2 = 0; m2 < phases[1]; m2++) {
     for (let m1 = 0; m1 < phases[0]; m1++) {
@@ -411,7 +437,8 @@ export function blochPlan(sc: Supercell): BlochPlan {
         x: tx ? { kind: 'twist', theta: phase[0] } : b.x,
         y: ty ? { kind: 'twist', theta: phase[1] } : b.y,
       };
-      const supercell = buildSupercell(sc.framework, blockCells, boundary);
+      const supercell = template ? rephased(template, boundary) : buildSupercell(sc.framework, blockCells, boundary);
+      if (kind === 'both' && !template) template = supercell;
       blocks.push({ m: [m1, m2], phase, supercell, matrix: rigidityMatrix(supercell), conjugate });
     }
   }
