@@ -11,6 +11,7 @@ import { formatBoundary, parseBoundary } from '../supercell/boundary.js';
 import { MAX_CELLS_PER_AXIS } from '../supercell/supercell.js';
 import { SOLVER_CHOICES, type SolverChoice } from '../flex/solver.js';
 import type { ArrowMode } from './stage/scene.js';
+import type { AnalyseJob } from '../worker/protocol.js';
 
 export type FrameworkSource =
   | { kind: 'gallery'; name: string; params: Record<string, number> }
@@ -48,18 +49,9 @@ export interface GifState {
   period: number;
 }
 
-export interface AppState {
+/** Everything a run needs (the worker's job, with the framework as the user gave it) plus the view. */
+export interface AppState extends Omit<AnalyseJob, 'framework'> {
   framework: FrameworkSource;
-  cells: [number, number];
-  /** Boundary rule, canonical `--bc` text. */
-  bc: string;
-  tolerance: number;
-  /** Which solver (the CLI's --solver); 'auto' picks by size and structure. */
-  solver: SolverChoice;
-  window: number;
-  strip: number;
-  stresses: boolean;
-  classify: boolean;
   view: ViewState;
   gif: GifState;
 }

@@ -9,7 +9,7 @@
  *
  * Numeric arrays travel as typed arrays (transferred, not copied).
  */
-import type { Anchor, FlexClass } from '../flex/classes.js';
+import type { ClassifiedMode, FlexClass } from '../flex/classes.js';
 import type { FlexCounts } from '../flex/spaces.js';
 import type { Framework, Vec2 } from '../framework/types.js';
 import type { Problem } from '../errors.js';
@@ -84,22 +84,17 @@ export interface GeometryData {
   grounded: number;
 }
 
-/** One basis flex as shown in the list. */
-export interface ModeData {
+/**
+ * One basis flex as shown in the list: a ClassifiedMode's metrics (all optional when the flexes
+ * were not classified) with its vector as transferable arrays.
+ */
+export interface ModeData extends Partial<Omit<ClassifiedMode, 'class' | 'vector' | 'participation'>> {
   /** The class, or null when the flexes were not classified. */
   class: FlexClass | null;
   /** Joint velocities, 2 per joint (x, y); im is null for a real vector. */
   re: Float64Array;
   im: Float64Array | null;
-  support?: number;
-  extents?: [number, number];
-  direction?: [number, number];
-  anchor?: Anchor;
-  decayLength?: number;
   participation: number;
-  region?: string;
-  fitQuality?: number;
-  headWeight?: number;
 }
 
 /** One basis self-stress: a tension per row (bar), im null when real. */
