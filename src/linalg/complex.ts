@@ -81,22 +81,3 @@ export function complexOrthonormalSpan(vectors: CVec[], dropBelow = 1e-8, limit 
   }
   return basis;
 }
-
-const QUARTER_TURNS: readonly (readonly [number, number])[] = [
-  [1, 0],
-  [0, 1],
-  [-1, 0],
-  [0, -1],
-];
-
-/** exp(2πi t) for t in turns, exact at multiples of ¼ (so real phases stay exactly real). */
-export function cis(t: number): [number, number] {
-  const r = t - Math.floor(t);
-  const q = 4 * r;
-  if (Number.isInteger(q)) {
-    const z = QUARTER_TURNS[q % 4];
-    return [z[0], z[1]];
-  }
-  const a = 2 * Math.PI * r;
-  return [Math.cos(a), Math.sin(a)];
-}

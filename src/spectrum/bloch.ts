@@ -34,7 +34,7 @@
 import { InputError } from '../errors.js';
 import { sparseSpaces } from '../flex/solve-sparse.js';
 import { throwIfAborted, type Progress, type SolveOptions, type SolvedSpaces, type SpaceSolver } from '../flex/solver.js';
-import { cis, type CVec } from '../linalg/complex.js';
+import type { CVec } from '../linalg/complex.js';
 import { checkDenseFits, nullSpace, singularValues, type NullBasis } from '../linalg/dense.js';
 import { combineRankParts, rankPartOf, type RankPart } from '../linalg/rank.js';
 import { conjugateTranspose, type SparseMatrix } from '../linalg/sparse.js';
@@ -345,6 +345,14 @@ function twisted(r: AxisRule): boolean {
   return r.kind === 'twist';
 }
 
+/** exp(2πi t), exact for t a multiple of ¼. */
+function cis(t: number): [number, number] {
+  const r = t - Math.floor(t);
+  const q = 4 * r;
+  if (Number.isInteger(q)) return ([[1, 0], [0, 1], [-1, 0], [0, -1]] as [number, number][])[q % 4];
+  const a = 2 * Math.PI * r;
+  return [Math.cos(a), Math.sin(a)];
+}
 
 /**
  * φ·c along one axis in turns, reduced without losing digits for large c:
@@ -369,7 +377,17 @@ function rephased(t: Supercell, boundary: Boundary): Supercell {
   const t1 = boundary.x.kind === 'twist' ? reduceTurns(boundary.x.theta) : 0;
   const t2 = boundary.y.kind === 'twist' ? reduceTurns(boundary.y.theta) : 0;
   const bars = t.bars.map((bar) => {
-    return { ...bar, phase: cis(t1 * bar.wraps[0] + t2 * bar.wraps[1]) };
+    const turns = t1 * bar.wraps[0] + t2 * bar.wraps[1];
+    const q = turns * 4;
+    let phase: [number, number];
+    if (Number.isInteger(q)) {
+      const r = ((q % 4) + 4) % 4;
+      phase = r === 0 ? [1, 0] : r === 1 ? [0, 1] : r === 2 ? [-1, 0] : [0, -1];
+    } else {
+      const ang = 2 * Math.PI * turns;
+      phase = [Math.cos(ang), Math.sin(ang)];
+    }
+    return { ...bar, phase };
   });
   return { ...t, boundary, bars, real: boundaryIsReal(boundary) };
 }
