@@ -27,6 +27,9 @@ export const CLASS_HELP = [
   '  bulk      everything else',
 ];
 
+/** The help text every classifying command ends with: classes, frameworks, boundary rules. */
+export const CLASSIFY_DETAILS = [...CLASS_HELP, '', ...FRAMEWORK_HELP, '', ...BOUNDARY_HELP];
+
 export interface ClassifyRun {
   supercell: Supercell;
   analysis: FlexAnalysis;
@@ -114,7 +117,7 @@ export const classifyCommand: Command = {
     { name: '--help', help: 'show this help' },
   ],
   maxPositional: 1,
-  details: [...CLASS_HELP, '', ...FRAMEWORK_HELP, '', ...BOUNDARY_HELP],
+  details: CLASSIFY_DETAILS,
   run(args, io) {
     const a = readSupercellArgs(args, io, 'classify');
     const opts = readClassifyFlags(args);

@@ -9,8 +9,8 @@ import { countsOf } from '../flex/spaces.js';
 import { MODE_CSV_COLUMNS, modeDataOfRun, modesToCsv, modesToJson, type ModeData } from '../io/modes.js';
 import type { Command } from './command.js';
 import { progressLine } from './progress.js';
-import { CLASS_HELP, CLASSIFY_FLAGS, readClassifyFlags, runClassification, writeOutFile, type ClassifyRun } from './classify.js';
-import { BOUNDARY_HELP, FRAMEWORK_HELP, readSupercellArgs, SUPERCELL_FLAGS, type SupercellArgs } from './common.js';
+import { CLASSIFY_DETAILS, CLASSIFY_FLAGS, readClassifyFlags, runClassification, writeOutFile, type ClassifyRun } from './classify.js';
+import { readSupercellArgs, SUPERCELL_FLAGS, type SupercellArgs } from './common.js';
 
 /** The CSV columns (the shared mode-data format's). */
 export const CSV_COLUMNS = MODE_CSV_COLUMNS;
@@ -53,11 +53,7 @@ export const exportModesCommand: Command = {
     'direction, anchor, decayLength, region, fitQuality, headWeight) and velocity.re / velocity.im with 2 entries',
     'per joint (x then y; im null when real), plus the caution text.',
     '',
-    ...CLASS_HELP,
-    '',
-    ...FRAMEWORK_HELP,
-    '',
-    ...BOUNDARY_HELP,
+    ...CLASSIFY_DETAILS,
   ],
   run(args, io) {
     const json = args.flags.has('--json');

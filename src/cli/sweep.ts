@@ -5,8 +5,8 @@ import { MAX_CELLS_PER_AXIS } from '../supercell/supercell.js';
 import { describeBoundary } from '../supercell/boundary.js';
 import { progressLine } from './progress.js';
 import type { Command } from './command.js';
-import { CLASS_HELP, CLASSIFY_FLAGS, readClassifyFlags } from './classify.js';
-import { BOUNDARY_HELP, fmt, FRAMEWORK_HELP, readSupercellArgs, SUPERCELL_FLAGS } from './common.js';
+import { CLASSIFY_DETAILS, CLASSIFY_FLAGS, readClassifyFlags } from './classify.js';
+import { fmt, readSupercellArgs, SUPERCELL_FLAGS } from './common.js';
 
 const RANGE_HELP =
   'write N, N1xN2, A..B[:STEP] (square sizes A×A up to B×B) or A1xA2..B1xB2[:STEP], or a comma list of these, e.g. --cells 4..16:4 or --cells 4x8..16x32';
@@ -98,11 +98,7 @@ export const sweepCommand: Command = {
     '(N1 or N2), or √(N1·N2) when both do. Every size runs the full analysis, so the time grows',
     'quickly with size for the dense solver.',
     '',
-    ...CLASS_HELP,
-    '',
-    ...FRAMEWORK_HELP,
-    '',
-    ...BOUNDARY_HELP,
+    ...CLASSIFY_DETAILS,
   ],
   run(args, io) {
     const sizes = parseSizeList((args.flags.get('--cells') as string | undefined) ?? '4..8');
