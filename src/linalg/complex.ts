@@ -81,3 +81,12 @@ export function complexOrthonormalSpan(vectors: CVec[], dropBelow = 1e-8, limit 
   }
   return basis;
 }
+
+/** exp(2πi t) for t in turns, exact at multiples of ¼ (so real phases give exactly real blocks). */
+export function cis(t: number): [number, number] {
+  const r = t - Math.floor(t);
+  const q = 4 * r;
+  if (Number.isInteger(q)) return ([[1, 0], [0, 1], [-1, 0], [0, -1]] as [number, number][])[q % 4];
+  const a = 2 * Math.PI * r;
+  return [Math.cos(a), Math.sin(a)];
+}

@@ -34,7 +34,7 @@
 import { InputError } from '../errors.js';
 import { sparseSpaces } from '../flex/solve-sparse.js';
 import { throwIfAborted, type Progress, type SolveOptions, type SolvedSpaces, type SpaceSolver } from '../flex/solver.js';
-import type { CVec } from '../linalg/complex.js';
+import { cis, type CVec } from '../linalg/complex.js';
 import { checkDenseFits, nullSpace, singularValues, type NullBasis } from '../linalg/dense.js';
 import { combineRankParts, rankPartOf, type RankPart } from '../linalg/rank.js';
 import { conjugateTranspose, type SparseMatrix } from '../linalg/sparse.js';
@@ -345,14 +345,6 @@ function twisted(r: AxisRule): boolean {
   return r.kind === 'twist';
 }
 
-/** exp(2πi t), exact for t a multiple of ¼. */
-function cis(t: number): [number, number] {
-  const r = t - Math.floor(t);
-  const q = 4 * r;
-  if (Number.isInteger(q)) return ([[1, 0], [0, 1], [-1, 0], [0, -1]] as [number, number][])[q % 4];
-  const a = 2 * Math.PI * r;
-  return [Math.cos(a), Math.sin(a)];
-}
 
 /**
  * φ·c along one axis in turns, reduced without losing digits for large c:

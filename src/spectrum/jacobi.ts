@@ -23,29 +23,36 @@ const FLOOR = 1e-15;
 const MAX_SWEEPS = 80;
 
 /**
- * The min(m, n) singular values of the complex m×n matrix A, in DESCENDING order.
- * `re` and `im` hold A column by column: entry (r, c) at index c·m + r.
- * The input arrays are not modified.
+ * The working copy the sweeps rotate: k = min(m, n) columns of length L — A itself when tall,
+ * Aᴴ when wide (column r of Aᴴ is the conjugate of row r of A).
  */
-export function jacobiSingularValues(re: Float64Array, im: Float64Array, m: number, n: number): Float64Array {
-  if (m === 0 || n === 0) return new Float64Array(0);
-  // Work on k columns of length L, with k = min(m, n): A itself when tall, Aᴴ when wide.
+function workingColumns(re: Float64Array, im: Float64Array, m: number, n: number) {
   const tall = m >= n;
   const k = tall ? n : m;
   const L = tall ? m : n;
   const wr = new Float64Array(k * L);
   const wi = new Float64Array(k * L);
   if (tall) {
-    wr.set(re);
-    wi.set(im);
+    wr.set(re.subarray(0, m * n));
+    wi.set(im.subarray(0, m * n));
   } else {
-    // column r of Aᴴ is the conjugate of row r of A
     for (let c = 0; c < n; c++)
       for (let r = 0; r < m; r++) {
         wr[r * L + c] = re[c * m + r];
         wi[r * L + c] = -im[c * m + r];
       }
   }
+  return { tall, k, L, wr, wi };
+}
+
+/**
+ * The min(m, n) singular values of the complex m×n matrix A, in DESCENDING order.
+ * `re` and `im` hold A column by column: entry (r, c) at index c·m + r.
+ * The input arrays are not modified.
+ */
+export function jacobiSingularValues(re: Float64Array, im: Float64Array, m: number, n: number): Float64Array {
+  if (m === 0 || n === 0) return new Float64Array(0);
+  const { tall, k, L, wr, wi } = workingColumns(re, im, m, n);
   let fro2 = 0;
   for (let i = 0; i < wr.length; i++) fro2 += wr[i] * wr[i] + wi[i] * wi[i];
   rotateToOrthogonal(wr, wi, k, L, Math.sqrt(fro2));
@@ -122,21 +129,7 @@ export interface SmallSvd {
  * on the side that is divided by σ.
  */
 export function jacobiSvd(re: Float64Array, im: Float64Array, m: number, n: number): SmallSvd {
-  const tall = m >= n;
-  const k = tall ? n : m;
-  const L = tall ? m : n;
-  const wr = new Float64Array(k * L);
-  const wi = new Float64Array(k * L);
-  if (tall) {
-    wr.set(re.subarray(0, m * n));
-    wi.set(im.subarray(0, m * n));
-  } else {
-    for (let c = 0; c < n; c++)
-      for (let r = 0; r < m; r++) {
-        wr[r * L + c] = re[c * m + r];
-        wi[r * L + c] = -im[c * m + r];
-      }
-  }
+  const { tall, k, L, wr, wi } = workingColumns(re, im, m, n);
   // accumulated rotations: k×k, starting from the identity
   const qr = new Float64Array(k * k);
   const qi = new Float64Array(k * k);

@@ -37,6 +37,7 @@
  *     points (merged within 1e-5). A curved zero set would show up as many isolated points.
  * Arrays are indexed i2·grid + i1 (θ1 varies fastest).
  */
+import { cis } from '../linalg/complex.js';
 import { InputError } from '../errors.js';
 import { throwIfAborted, type Progress } from '../flex/solver.js';
 import type { Framework } from '../framework/types.js';
@@ -129,14 +130,6 @@ export interface PhaseMap {
 // ---------------------------------------------------------------------------------------------
 // Fast evaluation of the symbol's singular values
 
-/** exp(2πi t), exact for t a multiple of ¼ (so real phases give an exactly real Φ). */
-function cis(t: number): [number, number] {
-  const r = t - Math.floor(t);
-  const q = 4 * r;
-  if (Number.isInteger(q)) return ([[1, 0], [0, 1], [-1, 0], [0, -1]] as [number, number][])[q % 4];
-  const a = 2 * Math.PI * r;
-  return [Math.cos(a), Math.sin(a)];
-}
 
 /** Assembles Φ(θ) densely (the same rows as symbolMatrix in symbol.ts) and returns its singular values. */
 export class SymbolEvaluator {
