@@ -273,7 +273,7 @@ function main(): void {
         const sc = buildSupercell(buildGallery(lat.spec), [N, N], parseBoundary(bc));
         const dof = 2 * sc.jointCount;
         const R = rigidityMatrix(sc);
-        const autoPick = chooseSolver(sc, R, 'auto').name;
+        const autoPick = chooseSolver(sc, 'auto').name;
         // the Bloch solver needs a twisted axis; every registered solver runs otherwise
         const runList: string[] = ['dense', 'sparse', 'bloch'].filter((s) => solversHere.includes(s as never) && !(bc === 'free' && s === 'bloch'));
         if (!runList.includes(autoPick)) runList.push('auto');
@@ -365,7 +365,7 @@ function main(): void {
   if (!COMMANDS.some((c) => c.name === 'classify')) console.log('  open kagome 64×64 classified ≤ 30 s: pending (no classify command yet)');
   else {
     const sc = buildSupercell(buildGallery('gallery:kagome'), [64, 64], parseBoundary('free'));
-    const pick = chooseSolver(sc, rigidityMatrix(sc), 'auto').name;
+    const pick = chooseSolver(sc, 'auto').name;
     const variants = pick !== 'sparse' && solversHere.includes('sparse') ? ['auto', 'sparse'] : ['auto'];
     for (const solver of variants) {
       const res = timeCommand(['classify', 'gallery:kagome', '--cells', '64x64', '--bc', 'free', '--json', '--solver', solver], Math.max(3 * opts.budget, 120));

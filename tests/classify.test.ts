@@ -440,7 +440,7 @@ describe('invariance of the counts (basis, labels, origin)', () => {
 describe('the classified modes', () => {
   it('form a basis of the flex space: unit flexes, independent, local and line vectors inside their region', () => {
     const { analysis, c } = base();
-    const R = analysis.matrix;
+    const R = analysis.matrix();
     const f = c.flexes;
     expect(c.modes.length).toBe(f);
     for (const m of c.modes) {

@@ -15,6 +15,8 @@ import { SparseBuilder } from '../src/linalg/sparse.js';
 import { jacobiSingularValues } from '../src/spectrum/jacobi.js';
 import { phaseMap, SymbolEvaluator, type PhaseMap, type ZeroLine } from '../src/spectrum/phasemap.js';
 import { symbolKernel, symbolMatrix } from '../src/spectrum/symbol.js';
+import { rigidityMatrix } from '../src/supercell/rigidity.js';
+import { buildSupercell } from '../src/supercell/supercell.js';
 import { gcd, randomFramework, rng } from './helpers.js';
 
 type Cx = { re: Float64Array; im: Float64Array; m: number; n: number };
@@ -100,7 +102,9 @@ describe('one-sided Jacobi singular values', () => {
     for (let t = 0; t < k; t++) expect(Math.abs(s[t] - sigma[t])).toBeLessThan(3e-15 * 3);
   });
 
-  it('the symbol evaluator gives the singular values of symbolMatrix at any phase', () => {
+  it('the symbol evaluator gives the singular values of the one-cell twisted supercell at any phase', () => {
+    // Φ(θ) is the rigidity matrix of the 1×1 supercell twisted by θ on both axes; that matrix is
+    // assembled by independent code (supercell.ts + rigidity.ts) and solved by ml-matrix's SVD.
     const r = rng(2);
     for (const spec of ['gallery:kagome', 'gallery:honeycomb', 'gallery:rotating-squares-tilted', 'gallery:square']) {
       const fw = buildGallery(spec);
@@ -108,10 +112,23 @@ describe('one-sided Jacobi singular values', () => {
       for (let t = 0; t < 5; t++) {
         const theta: [number, number] = [r(), r()];
         const s = ev.sigma(theta[0], theta[1]);
-        const ref = singularValues(symbolMatrix(fw, theta)); // descending, min(m, n) values
+        const cell = buildSupercell(fw, [1, 1], { x: { kind: 'twist', theta: theta[0] }, y: { kind: 'twist', theta: theta[1] } });
+        const ref = singularValues(rigidityMatrix(cell)); // descending, min(m, n) values
         expect(s.length).toBe(2 * fw.joints.length);
         for (let k = 0; k < ref.length; k++) expect(Math.abs(s[s.length - 1 - k] - ref[k])).toBeLessThan(1e-13 * ref[0]);
         for (let k = 0; k < s.length - ref.length; k++) expect(s[k]).toBe(0);
+        // the sparse form of the same assembly holds the same entries
+        const sp = symbolMatrix(fw, theta);
+        const dense = rigidityMatrix(cell);
+        for (let row = 0; row < dense.rows; row++)
+          for (let col = 0; col < dense.cols; col++) {
+            const at = (A: typeof sp, im: boolean) => {
+              for (let k = A.rowPtr[row]; k < A.rowPtr[row + 1]; k++) if (A.colIdx[k] === col) return im ? (A.im ? A.im[k] : 0) : A.re[k];
+              return 0;
+            };
+            expect(Math.abs(at(sp, false) - at(dense, false))).toBeLessThan(1e-14);
+            expect(Math.abs(at(sp, true) - at(dense, true))).toBeLessThan(1e-14);
+          }
       }
     }
   });

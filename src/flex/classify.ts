@@ -474,7 +474,7 @@ interface Ctx {
 }
 
 function makeContext(sc: Supercell, analysis: FlexAnalysis, method: Ctx['method']): Ctx {
-  const R = analysis.matrix;
+  const R = analysis.matrix();
   const J = sc.jointCount;
   const counts = new Int32Array(J);
   const rowJoints: number[][] = [];

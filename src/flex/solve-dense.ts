@@ -1,5 +1,6 @@
 /** The dense reference solver: ml-matrix SVD of the whole rigidity matrix. */
 import { checkDenseFits, denseMemoryBytes, nullSpace, singularValues, type NullBasis } from '../linalg/dense.js';
+import { rigidityMatrix } from '../supercell/rigidity.js';
 import type { Supercell } from '../supercell/supercell.js';
 import { decideRank } from '../linalg/rank.js';
 import { conjugateTranspose } from '../linalg/sparse.js';
@@ -15,7 +16,8 @@ function sizeAdvice(sc: Supercell, need: number, limit: number): string {
   return `use fewer cells (about ${a}x${b} would fit), or --solver auto, which picks the sparse or Bloch solver for large supercells`;
 }
 
-export const denseSolver: SpaceSolver = (sc, R, options) => {
+export const denseSolver: SpaceSolver = (sc, given, options) => {
+  const R = given ?? rigidityMatrix(sc);
   const m = R.rows;
   const n = R.cols;
   const complex = R.im !== null;

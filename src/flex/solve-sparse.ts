@@ -63,6 +63,7 @@ import { formatBytes, type NullBasis } from '../linalg/dense.js';
 import { AMBIGUOUS_RATIO, type RankDecision } from '../linalg/rank.js';
 import { conjugateTranspose, type SparseMatrix } from '../linalg/sparse.js';
 import type { Supercell } from '../supercell/supercell.js';
+import { rigidityMatrix } from '../supercell/rigidity.js';
 import { throwIfAborted, type Progress, type SolvedSpaces, type SolveOptions, type SpaceSolver } from './solver.js';
 
 const EPS = 2.220446049250313e-16;
@@ -1392,4 +1393,4 @@ function adviceFor(sc: Supercell): (need: number, allowed: number) => string {
   };
 }
 
-export const sparseSolver: SpaceSolver = (sc, R, options) => sparseSpaces(R, { ...options, sizeAdvice: adviceFor(sc) });
+export const sparseSolver: SpaceSolver = (sc, R, options) => sparseSpaces(R ?? rigidityMatrix(sc), { ...options, sizeAdvice: adviceFor(sc) });

@@ -40,7 +40,11 @@ export interface SolvedSpaces {
   selfStressBasis(): NullBasis;
 }
 
-export type SpaceSolver = (sc: Supercell, R: SparseMatrix, options: SolveOptions) => SolvedSpaces;
+/**
+ * A solver of one supercell. `R` is its rigidity matrix when the caller has it, or null: a
+ * solver that needs it builds it (rigidityMatrix(sc)); the Bloch solver never needs it.
+ */
+export type SpaceSolver = (sc: Supercell, R: SparseMatrix | null, options: SolveOptions) => SolvedSpaces;
 
 /** Thrown when a run is cancelled through its AbortSignal. */
 export class CancelledError extends Error {

@@ -3,7 +3,6 @@
  * one place that knows them all.
  */
 import { InputError } from '../errors.js';
-import type { SparseMatrix } from '../linalg/sparse.js';
 import type { Supercell } from '../supercell/supercell.js';
 import { blochSolver } from '../spectrum/bloch.js';
 import { denseSolver } from './solve-dense.js';
@@ -23,13 +22,14 @@ export function availableSolvers(): SolverName[] {
   return Object.keys(SOLVERS) as SolverName[];
 }
 
-export function chooseSolver(sc: Supercell, R: SparseMatrix, choice: SolverChoice): { solve: SpaceSolver; name: SolverName; reason: string } {
+export function chooseSolver(sc: Supercell, choice: SolverChoice): { solve: SpaceSolver; name: SolverName; reason: string } {
   if (choice === 'auto') {
     const twisted = [sc.boundary.x, sc.boundary.y].filter((r) => r.kind === 'twist').length;
     if (twisted === 2) return { solve: blochSolver, name: 'bloch', reason: 'auto: both axes twisted, one unit-cell block per Bloch phase' };
     if (twisted === 1) return { solve: blochSolver, name: 'bloch', reason: 'auto: one twisted axis, one strip problem per Bloch phase' };
-    if (R.cols >= SPARSE_MIN_DOF) return { solve: sparseSolver, name: 'sparse', reason: `auto: open boundaries and ${R.cols} ≥ ${SPARSE_MIN_DOF} columns, banded factorisation` };
-    return { solve: denseSolver, name: 'dense', reason: `auto: open boundaries and only ${R.cols} columns, dense reference path` };
+    const cols = 2 * sc.jointCount;
+    if (cols >= SPARSE_MIN_DOF) return { solve: sparseSolver, name: 'sparse', reason: `auto: open boundaries and ${cols} ≥ ${SPARSE_MIN_DOF} columns, banded factorisation` };
+    return { solve: denseSolver, name: 'dense', reason: `auto: open boundaries and only ${cols} columns, dense reference path` };
   }
   const solve = SOLVERS[choice];
   if (!solve) {

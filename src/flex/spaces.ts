@@ -11,8 +11,8 @@
 import { Matrix, SingularValueDecomposition } from 'ml-matrix';
 import { DENSE_MEMORY_LIMIT, type NullBasis } from '../linalg/dense.js';
 import { DEFAULT_RELATIVE_TOLERANCE, type Gap } from '../linalg/rank.js';
-import { sparseMatVec, type SparseMatrix } from '../linalg/sparse.js';
-import { rigidityMatrix } from '../supercell/rigidity.js';
+import type { SparseMatrix } from '../linalg/sparse.js';
+import { rigidityApply, rigidityMatrix } from '../supercell/rigidity.js';
 import type { Supercell } from '../supercell/supercell.js';
 import { rigidMotions, type RigidMotion } from './rigid.js';
 import { chooseSolver } from './solvers.js';
@@ -55,7 +55,8 @@ export interface FlexCounts {
 }
 
 export interface FlexAnalysis extends FlexCounts {
-  matrix: SparseMatrix;
+  /** The rigidity matrix R (assembled on first call: the Bloch solver works without it). */
+  matrix(): SparseMatrix;
   /** Orthonormal basis of the flexes (computed on first call). */
   flexBasis(): NullBasis;
   /** Orthonormal basis of the self-stresses (computed on first call). */
@@ -64,14 +65,14 @@ export interface FlexAnalysis extends FlexCounts {
 
 /**
  * Number of independent columns of R·T for orthonormal rigid fields T, at the given absolute
- * tolerance. The tall m×t product is reduced by Householder QR to its t×t triangle (same
- * singular values, to rounding), whose SVD is tiny.
+ * tolerance (R·T formed bar by bar, without assembling R). The tall m×t product is reduced by
+ * Householder QR to its t×t triangle (same singular values, to rounding), whose SVD is tiny.
  */
-function rigidRank(R: SparseMatrix, motions: RigidMotion[], absTol: number): number {
+function rigidRank(sc: Supercell, motions: RigidMotion[], absTol: number): number {
   const t = motions.length;
-  if (t === 0 || R.rows === 0) return 0;
-  const cols = motions.map((m) => sparseMatVec(R, m.field, null).re);
-  const m = R.rows;
+  const m = sc.bars.length;
+  if (t === 0 || m === 0) return 0;
+  const cols = motions.map((mo) => rigidityApply(sc, mo.field));
   const tri = new Matrix(t, t);
   for (let k = 0; k < t; k++) {
     // Householder reflection zeroing column k below row k
@@ -102,16 +103,16 @@ function rigidRank(R: SparseMatrix, motions: RigidMotion[], absTol: number): num
 
 export function analyseSupercell(sc: Supercell, options: AnalysisOptions = {}): FlexAnalysis {
   const relative = options.tolerance ?? DEFAULT_RELATIVE_TOLERANCE;
-  const R = rigidityMatrix(sc);
-  const m = R.rows;
-  const n = R.cols;
-  const { solve, name, reason } = chooseSolver(sc, R, options.solver ?? 'auto');
+  const m = sc.bars.length;
+  const n = 2 * sc.jointCount;
+  const { solve, name, reason } = chooseSolver(sc, options.solver ?? 'auto');
+  let R: SparseMatrix | null = name === 'bloch' ? null : rigidityMatrix(sc);
   const spaces = solve(sc, R, { relative, memoryLimit: options.memoryLimit ?? DENSE_MEMORY_LIMIT, onProgress: options.onProgress, signal: options.signal });
   const decision = spaces.decision;
   const flexes = n - decision.rank;
   const selfStresses = m - decision.rank;
   const motions = sc.real ? rigidMotions(sc) : [];
-  const trivialFlexes = motions.length - rigidRank(R, motions, decision.tolerance.absolute);
+  const trivialFlexes = motions.length - rigidRank(sc, motions, decision.tolerance.absolute);
   return {
     joints: sc.jointCount,
     bars: m,
@@ -131,7 +132,7 @@ export function analyseSupercell(sc: Supercell, options: AnalysisOptions = {}): 
     solverReason: reason,
     groundedBars: sc.grounded,
     droppedBars: sc.dropped,
-    matrix: R,
+    matrix: () => (R ??= rigidityMatrix(sc)),
     flexBasis: () => spaces.flexBasis(),
     selfStressBasis: () => spaces.selfStressBasis(),
   };

@@ -41,7 +41,9 @@ import { conjugateTranspose, type SparseMatrix } from '../linalg/sparse.js';
 import { boundaryIsReal, reduceTurns, type AxisRule, type Boundary } from '../supercell/boundary.js';
 import { rigidityMatrix } from '../supercell/rigidity.js';
 import { buildSupercell, jointIndex, type Supercell } from '../supercell/supercell.js';
+import type { Framework } from '../framework/types.js';
 import { jacobiSingularValues, jacobiSvd } from './jacobi.js';
+import { SymbolAssembler, type DenseColumns } from './symbol.js';
 
 // ---------------------------------------------------------------------------------------------
 // Block solver choice: THE ONE PLACE where the solver of a single Bloch block is picked.
@@ -54,47 +56,47 @@ import { jacobiSingularValues, jacobiSvd } from './jacobi.js';
 interface BlockSolver {
   name: 'dense' | 'jacobi';
   /** The min(rows, cols) singular values of the block (any order). */
-  singularValues(A: SparseMatrix): Float64Array;
-  /** Orthonormal basis of ker A of the given dimension. */
+  singularValues(blk: BlochBlock): Float64Array;
+  /** Orthonormal basis of ker A (A the block, or its conjugate transpose) of the given dimension. */
   nullSpace(A: SparseMatrix, dim: number): NullBasis;
   /** Throws TooLargeError when the block does not fit the memory limit. */
-  checkFits(A: SparseMatrix, vectors: boolean, memoryLimit: number): void;
+  checkFits(rows: number, cols: number, complex: boolean, vectors: boolean, memoryLimit: number): void;
 }
 
 const DENSE_BLOCKS: BlockSolver = {
   name: 'dense',
-  singularValues,
+  singularValues: (blk) => singularValues(blk.matrix),
   nullSpace,
-  checkFits: (A, vectors, limit) => checkDenseFits(A.rows, A.cols, A.im !== null, vectors, limit),
+  checkFits: (rows, cols, complex, vectors, limit) => checkDenseFits(rows, cols, complex, vectors, limit),
 };
 
 /** Column-major dense copy of A (rows padded with zeros up to `minRows`). */
-function columnMajor(A: SparseMatrix, minRows: number): { re: Float64Array; im: Float64Array; m: number } {
-  const m = Math.max(A.rows, minRows);
-  const re = new Float64Array(m * A.cols);
-  const im = new Float64Array(m * A.cols);
+function columnMajor(A: SparseMatrix, minRows: number): DenseColumns {
+  const ld = Math.max(A.rows, minRows);
+  const re = new Float64Array(ld * A.cols);
+  const im = new Float64Array(ld * A.cols);
   for (let r = 0; r < A.rows; r++)
     for (let k = A.rowPtr[r]; k < A.rowPtr[r + 1]; k++) {
-      re[A.colIdx[k] * m + r] += A.re[k];
-      if (A.im) im[A.colIdx[k] * m + r] += A.im[k];
+      re[A.colIdx[k] * ld + r] += A.re[k];
+      if (A.im) im[A.colIdx[k] * ld + r] += A.im[k];
     }
-  return { re, im, m };
+  return { re, im, ld };
 }
 
 /** Tiny blocks (one unit cell): one-sided Jacobi, accurate and free of per-call setup cost. */
 const JACOBI_BLOCKS: BlockSolver = {
   name: 'jacobi',
-  singularValues(A) {
-    if (A.rows === 0 || A.cols === 0) return new Float64Array(0);
-    const d = columnMajor(A, 0);
-    return jacobiSingularValues(d.re, d.im, d.m, A.cols);
+  singularValues(blk) {
+    if (blk.rows === 0 || blk.cols === 0) return new Float64Array(0);
+    const d = blk.dense(0);
+    return jacobiSingularValues(d.re, d.im, d.ld, blk.cols);
   },
   nullSpace(A, dim) {
     const real = A.im === null;
     if (dim === 0) return { real, vectors: [] };
     const n = A.cols;
     const d = columnMajor(A, n);
-    const svd = jacobiSvd(d.re, d.im, d.m, n);
+    const svd = jacobiSvd(d.re, d.im, d.ld, n);
     const vectors: CVec[] = [];
     for (let c = n - dim; c < n; c++) {
       const re = svd.vRe.slice(c * n, (c + 1) * n);
@@ -134,9 +136,8 @@ export interface BlochSettings {
 type BlockPath = BlockSolver | 'sparse';
 
 function chooseBlockSolver(kind: BlochKind, block: BlochBlock, sparseStripColumns: number): BlockPath {
-  const A = block.matrix;
-  if (kind !== 'both' && A.cols >= sparseStripColumns && A.rows > 0 && A.cols > 0) return 'sparse';
-  return A.cols <= JACOBI_MAX_COLUMNS ? JACOBI_BLOCKS : DENSE_BLOCKS;
+  if (kind !== 'both' && block.cols >= sparseStripColumns && block.rows > 0 && block.cols > 0) return 'sparse';
+  return block.cols <= JACOBI_MAX_COLUMNS ? JACOBI_BLOCKS : DENSE_BLOCKS;
 }
 
 /**
@@ -326,10 +327,18 @@ export interface BlochBlock {
   m: [number, number];
   /** The block's phase φ in turns along each twisted axis (0 along an untwisted one). */
   phase: [number, number];
-  supercell: Supercell;
-  matrix: SparseMatrix;
   /** Index of the block with the conjugate phase −φ (itself when self-conjugate). */
   conjugate: number;
+  rows: number;
+  cols: number;
+  /** Whether the block's matrix is real (its phases are all ±1). */
+  real: boolean;
+  /** The block's supercell (one cell, or a strip), built on first use. */
+  readonly supercell: Supercell;
+  /** The block's rigidity matrix, built on first use. */
+  readonly matrix: SparseMatrix;
+  /** The block densely, column-major, rows padded to at least `minRows` (may reuse buffers). */
+  dense(minRows: number): DenseColumns;
 }
 
 export interface BlochPlan {
@@ -345,7 +354,6 @@ function twisted(r: AxisRule): boolean {
   return r.kind === 'twist';
 }
 
-
 /**
  * φ·c along one axis in turns, reduced without losing digits for large c:
  * ((θ + m)·c)/N = ((m·c mod N) + θ·c)/N (mod 1).
@@ -360,28 +368,36 @@ function thetaOf(r: AxisRule): number {
   return r.kind === 'twist' ? reduceTurns(r.theta) : 0;
 }
 
+/** A strip block: the 1×N2 (or N1×1) supercell twisted by φ, built at once (its solvers need it). */
+function stripBlock(fw: Framework, cells: [number, number], boundary: Boundary, m: [number, number], phase: [number, number], conjugate: number): BlochBlock {
+  const supercell = buildSupercell(fw, cells, boundary);
+  const matrix = rigidityMatrix(supercell);
+  return { m, phase, conjugate, rows: matrix.rows, cols: matrix.cols, real: matrix.im === null, supercell, matrix, dense: (minRows) => columnMajor(matrix, minRows) };
+}
+
 /**
- * The same one-cell supercell under another twist of both axes: identical joints and bars,
- * with each bar's phase exp(2πi(θ1 w1 + θ2 w2)) recomputed from its wrap counts (exact ±1, ±i
- * at quarter turns, as buildSupercell writes them).
+ * A one-cell block: the symbol Φ(φ), which is the rigidity matrix of the one-cell supercell
+ * twisted by φ (src/spectrum/symbol.ts), assembled densely for Jacobi; its supercell and sparse
+ * matrix are built only when asked for (lifting bases, the dense SVD of a large cell).
  */
-function rephased(t: Supercell, boundary: Boundary): Supercell {
-  const t1 = boundary.x.kind === 'twist' ? reduceTurns(boundary.x.theta) : 0;
-  const t2 = boundary.y.kind === 'twist' ? reduceTurns(boundary.y.theta) : 0;
-  const bars = t.bars.map((bar) => {
-    const turns = t1 * bar.wraps[0] + t2 * bar.wraps[1];
-    const q = turns * 4;
-    let phase: [number, number];
-    if (Number.isInteger(q)) {
-      const r = ((q % 4) + 4) % 4;
-      phase = r === 0 ? [1, 0] : r === 1 ? [0, 1] : r === 2 ? [-1, 0] : [0, -1];
-    } else {
-      const ang = 2 * Math.PI * turns;
-      phase = [Math.cos(ang), Math.sin(ang)];
-    }
-    return { ...bar, phase };
-  });
-  return { ...t, boundary, bars, real: boundaryIsReal(boundary) };
+function cellBlock(fw: Framework, phi: SymbolAssembler, boundary: Boundary, m: [number, number], phase: [number, number], conjugate: number): BlochBlock {
+  let supercell: Supercell | undefined;
+  let matrix: SparseMatrix | undefined;
+  return {
+    m,
+    phase,
+    conjugate,
+    rows: phi.rows,
+    cols: phi.cols,
+    real: boundaryIsReal(boundary),
+    get supercell() {
+      return (supercell ??= buildSupercell(fw, [1, 1], boundary));
+    },
+    get matrix() {
+      return (matrix ??= phi.sparse(phase[0], phase[1]));
+    },
+    dense: (minRows) => phi.assemble(phase[0], phase[1], minRows),
+  };
 }
 
 /**
@@ -408,8 +424,7 @@ export function blochPlan(sc: Supercell): BlochPlan {
   const th: [number, number] = [thetaOf(b.x), thetaOf(b.y)];
   const realBoundary = sc.real;
   const blocks: BlochBlock[] = [];
-  // One-cell blocks differ only in their phases: build the first, re-phase it for the rest.
-  let template: Supercell | undefined;
+  const phi = kind === 'both' ? new SymbolAssembler(sc.framework) : null;
   const index = (m1: number, m2: number) => m2 * phases[0] + m1;
   for (let m2 = 0; m2 < phases[1]; m2++) {
     for (let m1 = 0; m1 < phases[0]; m1++) {
@@ -429,9 +444,8 @@ export function blochPlan(sc: Supercell): BlochPlan {
         x: tx ? { kind: 'twist', theta: phase[0] } : b.x,
         y: ty ? { kind: 'twist', theta: phase[1] } : b.y,
       };
-      const supercell = template ? rephased(template, boundary) : buildSupercell(sc.framework, blockCells, boundary);
-      if (kind === 'both' && !template) template = supercell;
-      blocks.push({ m: [m1, m2], phase, supercell, matrix: rigidityMatrix(supercell), conjugate });
+      const m: [number, number] = [m1, m2];
+      blocks.push(phi ? cellBlock(sc.framework, phi, boundary, m, phase, conjugate) : stripBlock(sc.framework, blockCells, boundary, m, phase, conjugate));
     }
   }
   return { kind, phases, blockCells, blocks };
@@ -572,20 +586,22 @@ export function makeBlochSolver(settings: BlochSettings = {}): SpaceSolver {
 
 export const blochSolver: SpaceSolver = makeBlochSolver();
 
-function solveBloch(sc: Supercell, R: SparseMatrix, options: SolveOptions, sparseStripColumns: number): SolvedSpaces {
+function solveBloch(sc: Supercell, R: SparseMatrix | null, options: SolveOptions, sparseStripColumns: number): SolvedSpaces {
   const plan = blochPlan(sc);
   const blocks = plan.blocks;
   const M = blocks.length;
   let rows = 0;
   let cols = 0;
   for (const blk of blocks) {
-    rows += blk.matrix.rows;
-    cols += blk.matrix.cols;
+    rows += blk.rows;
+    cols += blk.cols;
   }
-  if (rows !== R.rows || cols !== R.cols) {
-    throw new Error(`bloch: the blocks have ${rows}×${cols} entries in all but R is ${R.rows}×${R.cols}`);
+  const fullRows = sc.bars.length;
+  const fullCols = 2 * sc.jointCount;
+  if (rows !== fullRows || cols !== fullCols || (R && (R.rows !== fullRows || R.cols !== fullCols))) {
+    throw new Error(`bloch: the blocks have ${rows}×${cols} entries in all but R is ${fullRows}×${fullCols}`);
   }
-  const map = indexMap(sc, plan);
+  let map: IndexMap | undefined;
   const real = sc.real;
   const paths = blocks.map((blk) => chooseBlockSolver(plan.kind, blk, sparseStripColumns));
   const check = () => throwIfAborted(options.signal);
@@ -611,8 +627,8 @@ function solveBloch(sc: Supercell, R: SparseMatrix, options: SolveOptions, spars
       blockMax[b] = lz.run(SCREEN_STALL);
       lanczos[b] = lz;
     } else {
-      path.checkFits(blk.matrix, false, options.memoryLimit);
-      const s = path.singularValues(blk.matrix);
+      path.checkFits(blk.rows, blk.cols, !blk.real, false, options.memoryLimit);
+      const s = path.singularValues(blk);
       sigma[b] = s;
       let mx = 0;
       for (const v of s) if (v > mx) mx = v;
@@ -646,7 +662,7 @@ function solveBloch(sc: Supercell, R: SparseMatrix, options: SolveOptions, spars
     const blk = blocks[b];
     const path = paths[b];
     if (!representative(b)) parts[b] = parts[source(b)];
-    else if (path !== 'sparse') parts[b] = rankPartOf(sigma[b]!, blk.matrix.rows, blk.matrix.cols, absolute);
+    else if (path !== 'sparse') parts[b] = rankPartOf(sigma[b]!, blk.rows, blk.cols, absolute);
     else {
       const base = done;
       inner = (p) => decisionProgress((base + p.fraction) / M, `Bloch block ${b + 1} of ${M}: ${p.stage}`);
@@ -665,7 +681,7 @@ function solveBloch(sc: Supercell, R: SparseMatrix, options: SolveOptions, spars
     }
     if (path === 'sparse') decisionProgress(++done / M, `Bloch block ${b + 1} of ${M}`);
   }
-  const decision = combineRankParts(parts, R.rows, R.cols, relative, sigmaMax);
+  const decision = combineRankParts(parts, fullRows, fullCols, relative, sigmaMax);
   const blockRank = parts.map((p) => p.rank);
 
   const basis = (which: 'flex' | 'stress'): NullBasis => {
@@ -677,9 +693,9 @@ function solveBloch(sc: Supercell, R: SparseMatrix, options: SolveOptions, spars
       if (!representative(b)) continue;
       const blk = blocks[b];
       const path = paths[b];
-      const A = which === 'flex' ? blk.matrix : conjugateTranspose(blk.matrix);
-      const dim = A.cols - blockRank[b];
+      const dim = (which === 'flex' ? blk.cols : blk.rows) - blockRank[b];
       if (dim > 0) {
+        map ??= indexMap(sc, plan);
         let nb: NullBasis;
         if (path === 'sparse') {
           inner = (p) => progress((b + p.fraction) / M, `Bloch ${what} basis, block ${b + 1} of ${M}: ${p.stage}`);
@@ -687,7 +703,8 @@ function solveBloch(sc: Supercell, R: SparseMatrix, options: SolveOptions, spars
           inner = null;
           if (nb.vectors.length !== dim) throw new Error(`bloch: block ${b} has a ${what} basis of ${nb.vectors.length} vectors, expected ${dim}`);
         } else {
-          path.checkFits(A, true, options.memoryLimit);
+          const A = which === 'flex' ? blk.matrix : conjugateTranspose(blk.matrix);
+          path.checkFits(A.rows, A.cols, A.im !== null, true, options.memoryLimit);
           nb = path.nullSpace(A, dim);
         }
         const selfConjugate = blk.conjugate === b;

@@ -37,13 +37,13 @@
  *     points (merged within 1e-5). A curved zero set would show up as many isolated points.
  * Arrays are indexed i2·grid + i1 (θ1 varies fastest).
  */
-import { cis } from '../linalg/complex.js';
 import { InputError } from '../errors.js';
 import { throwIfAborted, type Progress } from '../flex/solver.js';
 import type { Framework } from '../framework/types.js';
 import { checkFramework } from '../framework/validate.js';
 import { DEFAULT_RELATIVE_TOLERANCE } from '../linalg/rank.js';
 import { jacobiSingularValues, jacobiSvd } from './jacobi.js';
+import { SymbolAssembler } from './symbol.js';
 
 export const MAX_GRID = 1024;
 /** Row/column minima above V_TEST·(left + right neighbour) cannot hide a zero crossing (a V gives ≤ ¼). */
@@ -130,84 +130,24 @@ export interface PhaseMap {
 // ---------------------------------------------------------------------------------------------
 // Fast evaluation of the symbol's singular values
 
-
-/** Assembles Φ(θ) densely (the same rows as symbolMatrix in symbol.ts) and returns its singular values. */
+/** Singular values and triplets of Φ(θ), assembled densely by SymbolAssembler (src/spectrum/symbol.ts). */
 export class SymbolEvaluator {
   readonly rows: number;
   readonly cols: number;
-  private readonly from: Int32Array;
-  private readonly to: Int32Array;
-  private readonly px: Float64Array;
-  private readonly py: Float64Array;
-  private readonly s1: Int32Array;
-  private readonly s2: Int32Array;
-  private readonly re: Float64Array;
-  private readonly im: Float64Array;
+  private readonly phi: SymbolAssembler;
 
   constructor(fw: Framework) {
-    const site = new Map(fw.joints.map((j, k) => [j.id, k]));
-    const [a1, a2] = fw.lattice;
-    const m = fw.bars.length;
-    this.rows = m;
-    this.cols = 2 * fw.joints.length;
-    this.from = new Int32Array(m);
-    this.to = new Int32Array(m);
-    this.px = new Float64Array(m);
-    this.py = new Float64Array(m);
-    this.s1 = new Int32Array(m);
-    this.s2 = new Int32Array(m);
-    fw.bars.forEach((bar, r) => {
-      const a = site.get(bar.from)!;
-      const b = site.get(bar.to)!;
-      const [s1, s2] = bar.shift;
-      const pa = fw.joints[a].at;
-      const pb = fw.joints[b].at;
-      this.from[r] = a;
-      this.to[r] = b;
-      this.s1[r] = s1;
-      this.s2[r] = s2;
-      this.px[r] = pb[0] + s1 * a1[0] + s2 * a2[0] - pa[0];
-      this.py[r] = pb[1] + s1 * a1[1] + s2 * a2[1] - pa[1];
-    });
-    this.re = new Float64Array(m * this.cols);
-    this.im = new Float64Array(m * this.cols);
-    this.zr = new Float64Array(m);
-    this.zi = new Float64Array(m);
-  }
-
-  private readonly zr: Float64Array;
-  private readonly zi: Float64Array;
-
-  private assemble(theta1: number, theta2: number): void {
-    const m = this.rows;
-    const re = this.re;
-    const im = this.im;
-    re.fill(0);
-    im.fill(0);
-    for (let r = 0; r < m; r++) {
-      const a = this.from[r];
-      const b = this.to[r];
-      const px = this.px[r];
-      const py = this.py[r];
-      const [cr, ci] = cis(theta1 * this.s1[r] + theta2 * this.s2[r]);
-      this.zr[r] = cr;
-      this.zi[r] = ci;
-      // column-major: entry (r, c) at c·m + r
-      re[2 * a * m + r] -= px;
-      re[(2 * a + 1) * m + r] -= py;
-      re[2 * b * m + r] += cr * px;
-      im[2 * b * m + r] += ci * px;
-      re[(2 * b + 1) * m + r] += cr * py;
-      im[(2 * b + 1) * m + r] += ci * py;
-    }
+    this.phi = new SymbolAssembler(fw);
+    this.rows = this.phi.rows;
+    this.cols = this.phi.cols;
   }
 
   /** The `cols` singular values of Φ(θ) as a map on C^cols, ASCENDING (structural zeros first). */
   sigma(theta1: number, theta2: number): Float64Array {
     const m = this.rows;
     const n = this.cols;
-    this.assemble(theta1, theta2);
-    const s = jacobiSingularValues(this.re, this.im, m, n);
+    const { re, im } = this.phi.assemble(theta1, theta2);
+    const s = jacobiSingularValues(re, im, m, n);
     const out = new Float64Array(n);
     // s is descending with min(m, n) entries; the n − min(m, n) structural zeros come first
     for (let t = 0; t < s.length; t++) out[n - 1 - t] = s[t];
@@ -224,27 +164,28 @@ export class SymbolEvaluator {
     const n = this.cols;
     const j = n - 1 - index; // descending position
     if (j < 0 || j >= Math.min(m, n)) return null;
-    this.assemble(theta1, theta2);
-    const svd = jacobiSvd(this.re, this.im, m, n);
+    const phi = this.phi;
+    const { re, im } = phi.assemble(theta1, theta2);
+    const svd = jacobiSvd(re, im, m, n);
     const sigma = svd.sigma[j];
     const a1: [number, number] = [0, 0];
     const a2: [number, number] = [0, 0];
     for (let r = 0; r < m; r++) {
-      const b = this.to[r];
+      const b = phi.to[r];
       // w = conj(u_r) · z_r · (p · v_b), then ∂_k contributes 2πi·s_k·w
       const ur = svd.uRe[j * m + r];
       const ui = -svd.uIm[j * m + r];
-      const pvr = this.px[r] * svd.vRe[j * n + 2 * b] + this.py[r] * svd.vRe[j * n + 2 * b + 1];
-      const pvi = this.px[r] * svd.vIm[j * n + 2 * b] + this.py[r] * svd.vIm[j * n + 2 * b + 1];
-      const zr = this.zr[r];
-      const zi = this.zi[r];
+      const pvr = phi.px[r] * svd.vRe[j * n + 2 * b] + phi.py[r] * svd.vRe[j * n + 2 * b + 1];
+      const pvi = phi.px[r] * svd.vIm[j * n + 2 * b] + phi.py[r] * svd.vIm[j * n + 2 * b + 1];
+      const zr = phi.zr[r];
+      const zi = phi.zi[r];
       const tr = zr * pvr - zi * pvi;
       const ti = zr * pvi + zi * pvr;
       const wr = ur * tr - ui * ti;
       const wi = ur * ti + ui * tr;
       // 2πi·w = 2π(−wi, wr)
-      const k1 = 2 * Math.PI * this.s1[r];
-      const k2 = 2 * Math.PI * this.s2[r];
+      const k1 = 2 * Math.PI * phi.s1[r];
+      const k2 = 2 * Math.PI * phi.s2[r];
       a1[0] -= k1 * wi;
       a1[1] += k1 * wr;
       a2[0] -= k2 * wi;

@@ -3,34 +3,137 @@
  * z = (z1, z2) = (exp 2πiθ1, exp 2πiθ2), θ in turns. The row of bar a→b with shift s holds
  * −p at a and +z1^s1·z2^s2·p at b. A flex of the infinite framework with
  * u(c + cell) = z^cell·u(c) is exactly a kernel vector of Φ(z).
+ *
+ * Φ(θ) is the rigidity matrix of the one-cell supercell twisted by θ on both axes (its wrap
+ * counts are the shifts), which is how the Bloch solver uses it. SymbolAssembler writes it
+ * densely, column by column, into reused buffers: the phase map and the Bloch solver evaluate
+ * it at thousands of phases.
  */
 import type { Framework } from '../framework/types.js';
-import { DEFAULT_RELATIVE_TOLERANCE } from '../linalg/rank.js';
-import { SparseBuilder, type SparseMatrix } from '../linalg/sparse.js';
+import { cis } from '../linalg/complex.js';
 import { singularValues } from '../linalg/dense.js';
+import { DEFAULT_RELATIVE_TOLERANCE } from '../linalg/rank.js';
+import type { SparseMatrix } from '../linalg/sparse.js';
+
+/** A dense column-major matrix: entry (r, c) at c·ld + r, rows r ≥ `rows` are zero padding. */
+export interface DenseColumns {
+  re: Float64Array;
+  im: Float64Array;
+  /** Leading dimension (rows stored per column, ≥ the matrix's rows). */
+  ld: number;
+}
+
+export class SymbolAssembler {
+  /** Bars of the unit cell (rows of Φ). */
+  readonly rows: number;
+  /** 2 per joint of the unit cell. */
+  readonly cols: number;
+  readonly from: Int32Array;
+  readonly to: Int32Array;
+  /** The bar vector p (to − from, unwrapped), per bar. */
+  readonly px: Float64Array;
+  readonly py: Float64Array;
+  /** Cell shift of each bar's `to` end. */
+  readonly s1: Int32Array;
+  readonly s2: Int32Array;
+  /** The phase z^s of each bar's far end at the last assembled θ. */
+  readonly zr: Float64Array;
+  readonly zi: Float64Array;
+  private buffers = new Map<number, DenseColumns>();
+
+  constructor(fw: Framework) {
+    const site = new Map(fw.joints.map((j, k) => [j.id, k]));
+    const [a1, a2] = fw.lattice;
+    const m = fw.bars.length;
+    this.rows = m;
+    this.cols = 2 * fw.joints.length;
+    this.from = new Int32Array(m);
+    this.to = new Int32Array(m);
+    this.px = new Float64Array(m);
+    this.py = new Float64Array(m);
+    this.s1 = new Int32Array(m);
+    this.s2 = new Int32Array(m);
+    this.zr = new Float64Array(m);
+    this.zi = new Float64Array(m);
+    fw.bars.forEach((bar, r) => {
+      const a = site.get(bar.from)!;
+      const b = site.get(bar.to)!;
+      const [s1, s2] = bar.shift;
+      const pa = fw.joints[a].at;
+      const pb = fw.joints[b].at;
+      this.from[r] = a;
+      this.to[r] = b;
+      this.s1[r] = s1;
+      this.s2[r] = s2;
+      this.px[r] = pb[0] + s1 * a1[0] + s2 * a2[0] - pa[0];
+      this.py[r] = pb[1] + s1 * a1[1] + s2 * a2[1] - pa[1];
+    });
+  }
+
+  /**
+   * Φ(θ) written column-major with leading dimension max(rows, minRows) (padding rows are zero).
+   * The returned arrays are reused by the next call with the same leading dimension.
+   * Phases are exp(2πi(θ1 s1 + θ2 s2)), exact at quarter turns.
+   */
+  assemble(theta1: number, theta2: number, minRows = 0): DenseColumns {
+    const m = this.rows;
+    const ld = Math.max(m, minRows);
+    let buf = this.buffers.get(ld);
+    if (!buf) {
+      buf = { re: new Float64Array(ld * this.cols), im: new Float64Array(ld * this.cols), ld };
+      this.buffers.set(ld, buf);
+    }
+    const { re, im } = buf;
+    re.fill(0);
+    im.fill(0);
+    for (let r = 0; r < m; r++) {
+      const a = this.from[r];
+      const b = this.to[r];
+      const px = this.px[r];
+      const py = this.py[r];
+      const [cr, ci] = cis(theta1 * this.s1[r] + theta2 * this.s2[r]);
+      this.zr[r] = cr;
+      this.zi[r] = ci;
+      re[2 * a * ld + r] -= px;
+      re[(2 * a + 1) * ld + r] -= py;
+      re[2 * b * ld + r] += cr * px;
+      im[2 * b * ld + r] += ci * px;
+      re[(2 * b + 1) * ld + r] += cr * py;
+      im[(2 * b + 1) * ld + r] += ci * py;
+    }
+    return buf;
+  }
+
+  /** Φ(θ) as a sparse matrix (its nonzero entries; real when every phase is real). */
+  sparse(theta1: number, theta2: number): SparseMatrix {
+    const { re, im, ld } = this.assemble(theta1, theta2);
+    return denseToSparse(re, im, ld, this.rows, this.cols, this.zi.some((v) => v !== 0));
+  }
+}
+
+/** CSR copy of the first `rows` rows of a column-major dense matrix (nonzero entries only). */
+export function denseToSparse(re: Float64Array, im: Float64Array, ld: number, rows: number, cols: number, complex: boolean): SparseMatrix {
+  const rowPtr = new Int32Array(rows + 1);
+  const c: number[] = [];
+  const vr: number[] = [];
+  const vi: number[] = [];
+  for (let r = 0; r < rows; r++) {
+    for (let k = 0; k < cols; k++) {
+      const x = re[k * ld + r];
+      const y = im[k * ld + r];
+      if (x !== 0 || y !== 0) {
+        c.push(k);
+        vr.push(x);
+        vi.push(y);
+      }
+    }
+    rowPtr[r + 1] = c.length;
+  }
+  return { rows, cols, rowPtr, colIdx: Int32Array.from(c), re: Float64Array.from(vr), im: complex ? Float64Array.from(vi) : null };
+}
 
 export function symbolMatrix(fw: Framework, theta: [number, number]): SparseMatrix {
-  const site = new Map(fw.joints.map((j, k) => [j.id, k]));
-  const [a1, a2] = fw.lattice;
-  const B = new SparseBuilder(2 * fw.joints.length);
-  for (const bar of fw.bars) {
-    const a = site.get(bar.from)!;
-    const b = site.get(bar.to)!;
-    const [s1, s2] = bar.shift;
-    const pa = fw.joints[a].at;
-    const pb = fw.joints[b].at;
-    const px = pb[0] + s1 * a1[0] + s2 * a2[0] - pa[0];
-    const py = pb[1] + s1 * a1[1] + s2 * a2[1] - pa[1];
-    const ang = 2 * Math.PI * (theta[0] * s1 + theta[1] * s2);
-    const cr = Math.cos(ang);
-    const ci = Math.sin(ang);
-    const r = B.newRow();
-    B.add(r, 2 * a, -px);
-    B.add(r, 2 * a + 1, -py);
-    B.add(r, 2 * b, cr * px, ci * px);
-    B.add(r, 2 * b + 1, cr * py, ci * py);
-  }
-  return B.build(true);
+  return new SymbolAssembler(fw).sparse(theta[0], theta[1]);
 }
 
 export interface SymbolKernel {

@@ -25,3 +25,19 @@ export function rigidityMatrix(sc: Supercell): SparseMatrix {
   }
   return B.build(!sc.real);
 }
+
+/**
+ * R·u for a real velocity field u (2 entries per joint) without assembling R: the same entries
+ * as rigidityMatrix, row by row. Only for real supercells (every phase ±1).
+ */
+export function rigidityApply(sc: Supercell, u: Float64Array): Float64Array {
+  const out = new Float64Array(sc.bars.length);
+  sc.bars.forEach((bar, r) => {
+    const [px, py] = bar.vector;
+    let v = 0;
+    if (bar.a >= 0) v += -px * u[2 * bar.a] - py * u[2 * bar.a + 1];
+    if (bar.b >= 0) v += bar.phase[0] * px * u[2 * bar.b] + bar.phase[0] * py * u[2 * bar.b + 1];
+    out[r] = v;
+  });
+  return out;
+}

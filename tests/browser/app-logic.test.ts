@@ -243,7 +243,7 @@ describe('worker computation', () => {
     const seq = r.modes.map((m) => order.indexOf(m.class!));
     expect([...seq].sort((a, b) => a - b)).toEqual(seq);
     for (const m of r.modes) {
-      const y = sparseMatVec(analysis.matrix, m.re, m.im);
+      const y = sparseMatVec(analysis.matrix(), m.re, m.im);
       const norm = Math.hypot(...y.re, ...y.im);
       expect(norm).toBeLessThan(1e-8);
     }
