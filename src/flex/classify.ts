@@ -469,8 +469,14 @@ interface Ctx {
   /** Joints of each cell. */
   cellJoints: number[][];
   flexBasis: () => CVec[];
+  /** Whether the global flex basis has been computed (the kernel intersection needs it). */
+  basisReady: () => boolean;
+  /** σ_max of the whole R (the sparse restricted solves cut at relative × this). */
+  sigmaMax: number;
   method: 'auto' | RestrictedMethod;
   used: Record<RestrictedMethod, number>;
+  /** Restricted kernels already solved, by the exact content of the restricted matrix. */
+  kernels: KernelCache;
 }
 
 function makeContext(sc: Supercell, analysis: FlexAnalysis, method: Ctx['method']): Ctx {
@@ -508,8 +514,11 @@ function makeContext(sc: Supercell, analysis: FlexAnalysis, method: Ctx['method'
     rowsOfJoint,
     cellJoints,
     flexBasis,
+    basisReady: () => basis !== undefined,
+    sigmaMax: analysis.sigmaMax,
     method,
     used: { 'restricted-svd': 0, 'restricted-sparse': 0, 'kernel-intersection': 0 },
+    kernels: new KernelCache(),
   };
 }
 
@@ -673,23 +682,28 @@ function restrictedKernel(ctx: Ctx, joints: number[]): Block {
     const rowsEstimate = nCols * 1.3;
     const svdCost = c * (4 * rowsEstimate * nCols * nCols + 8 * nCols ** 3);
     const gramCost = (ctx.complex ? 4 : 1) * (0.5 * nCols * f * f + f ** 3);
-    method = gramCost < svdCost ? 'kernel-intersection' : nCols >= SPARSE_MIN_COLUMNS ? 'restricted-sparse' : 'restricted-svd';
+    // the intersection needs the global flex basis: worth computing for it only when small
+    const basisAtHand = ctx.basisReady() || ctx.n <= KERNEL_INTERSECTION_MAX_COLUMNS;
+    method = gramCost < svdCost && basisAtHand ? 'kernel-intersection' : nCols >= SPARSE_MIN_COLUMNS ? 'restricted-sparse' : 'restricted-svd';
   }
   ctx.used[method]++;
-  if (method === 'restricted-sparse') {
+  if (method !== 'kernel-intersection') {
     const { matrix, dofs } = restrictedMatrix(ctx.R, ctx.rowsOfJoint, joints);
-    const vectors = sparseRestrictedKernel(matrix, ctx);
+    // translated regions away from the sides have identical restricted matrices: solve once
+    const key = KernelCache.key(method, matrix);
+    const known = ctx.kernels.get(key);
+    if (known) return { dofs, vectors: known };
+    let vectors: { re: Float64Array; im: Float64Array }[];
+    if (method === 'restricted-sparse') vectors = sparseRestrictedKernel(matrix, ctx);
+    else {
+      const sigma = singularValues(matrix);
+      let rank = 0;
+      for (const s of sigma) if (s > ctx.absTol) rank++;
+      const dim = nCols - rank;
+      vectors = dim === 0 ? [] : nullSpace(matrix, dim).vectors.map((v) => ({ re: v.re, im: v.im }));
+    }
+    ctx.kernels.set(key, vectors);
     return { dofs, vectors };
-  }
-  if (method === 'restricted-svd') {
-    const { matrix, dofs } = restrictedMatrix(ctx.R, ctx.rowsOfJoint, joints);
-    const sigma = singularValues(matrix);
-    let rank = 0;
-    for (const s of sigma) if (s > ctx.absTol) rank++;
-    const dim = nCols - rank;
-    if (dim === 0) return { dofs, vectors: [] };
-    const basis = nullSpace(matrix, dim);
-    return { dofs, vectors: basis.vectors.map((v) => ({ re: v.re, im: v.im })) };
   }
   const phi = ctx.flexBasis();
   const f = phi.length;
@@ -856,24 +870,57 @@ function projectOntoNullSpace(A: SparseMatrix, x0: { re: Float64Array; im: Float
 }
 
 /** Regions with at least this many columns go to the banded sparse solver rather than a dense SVD. */
-export const SPARSE_MIN_COLUMNS = 160;
+export const SPARSE_MIN_COLUMNS = 48;
 
 /**
- * ker of a restricted matrix by the banded sparse solver (src/flex/solve-sparse.ts). Its cut
- * is relative to the restricted σ_max, which is at most the global one; if its smallest kept
- * σ lies at or below the global absolute tolerance, it runs again with the cut moved there,
- * so the decision is the global rule's.
+ * ker of a restricted matrix by the banded sparse solver (src/flex/solve-sparse.ts), cut at
+ * relative × σ_max of the whole R (= the global absolute tolerance), so the decision is the
+ * global rule's.
  */
 function sparseRestrictedKernel(matrix: SparseMatrix, ctx: Ctx): { re: Float64Array; im: Float64Array }[] {
-  const rel = ctx.relative;
-  let spaces = sparseSpaces(matrix, { relative: rel, memoryLimit: ctx.memoryLimit });
-  const kept = spaces.decision.gap.kept;
-  if (kept !== null && kept <= ctx.absTol && spaces.decision.sigmaMax > 0) {
-    const moved = Math.min(ctx.absTol / spaces.decision.sigmaMax, 1 - 1e-12);
-    spaces = sparseSpaces(matrix, { relative: moved, memoryLimit: ctx.memoryLimit });
-  }
+  const spaces = sparseSpaces(matrix, { relative: ctx.relative, memoryLimit: ctx.memoryLimit, sigmaMax: ctx.sigmaMax });
   if (spaces.decision.rank === matrix.cols) return [];
   return spaces.flexBasis().vectors.map((v) => ({ re: v.re, im: v.im }));
+}
+
+/**
+ * The kernel intersection is chosen (when cheaper per region) only once the global flex basis
+ * exists, or when the whole matrix has at most this many columns (its basis is then cheap).
+ */
+export const KERNEL_INTERSECTION_MAX_COLUMNS = 2400;
+
+/**
+ * Restricted kernels by the exact content of their restricted matrix (sizes, structure and the
+ * bits of every entry) and the method: the same input gives the same vectors, so a region whose
+ * matrix was met before (a translate away from the sides) is not solved again. Bounded in size.
+ */
+class KernelCache {
+  private map = new Map<string, { re: Float64Array; im: Float64Array }[]>();
+  private words = 0;
+  static readonly MAX_WORDS = 32e6;
+
+  static key(method: RestrictedMethod, A: SparseMatrix): string {
+    const parts: string[] = [method, String(A.rows), String(A.cols), A.rowPtr.join(','), A.colIdx.join(',')];
+    const bits = (x: Float64Array) => {
+      const u = new Uint32Array(x.buffer, x.byteOffset, 2 * x.length);
+      let out = '';
+      for (let i = 0; i < u.length; i += 4096) out += String.fromCharCode(...u.subarray(i, i + 4096).map((w) => w & 0xffff), ...u.subarray(i, i + 4096).map((w) => w >>> 16));
+      return out;
+    };
+    parts.push(bits(A.re), A.im ? bits(A.im) : '-');
+    return parts.join('|');
+  }
+
+  get(key: string): { re: Float64Array; im: Float64Array }[] | undefined {
+    return this.map.get(key);
+  }
+
+  set(key: string, vectors: { re: Float64Array; im: Float64Array }[]): void {
+    const w = vectors.reduce((t, v) => t + 2 * v.re.length, 0) + key.length / 4;
+    if (this.words + w > KernelCache.MAX_WORDS) return;
+    this.words += w;
+    this.map.set(key, vectors);
+  }
 }
 
 /**
@@ -963,43 +1010,188 @@ export function psdNullSpace(Hre: Float64Array, Him: Float64Array | null, k: num
 }
 
 // ---------------------------------------------------------------------------------------------
-// A growing orthonormal span of full-length vectors
+// A growing span of compact vectors
 
+type Cx = { re: Float64Array; im: Float64Array };
+
+/**
+ * The span of the accepted compact vectors w_0, w_1, … (each unit norm, supported on a few
+ * dofs). An orthonormal basis of it is kept implicitly as Q = W·T with T upper triangular
+ * (column j: q_j = Σ_{i≤j} T_ij w_i), built by classical Gram–Schmidt applied twice in the
+ * coefficients: with g = Wᴴv and the Gram matrix G = WᴴW, Qᴴv = Tᴴg and Wᴴ(v − W y) = g − G y.
+ * Every product with a w touches only its own dofs, so nothing costs a full-length pass; the
+ * rounding error of the coefficients grows only with the condition of W, which the residual
+ * threshold keeps below 1/tol. Full-length q_j are formed only on request (orthonormal()).
+ */
 class Span {
-  readonly q: { re: Float64Array; im: Float64Array }[] = [];
+  private readonly w: { dofs: Int32Array; re: Float64Array; im: Float64Array; lo: number; hi: number }[] = [];
+  /** Column j of T (length j + 1). */
+  private readonly tCol: Cx[] = [];
+  /** Row j of G: G_ij = ⟨w_i, w_j⟩ for i ≤ j (length j + 1). */
+  private readonly gRow: Cx[] = [];
+  /** Scatter space for one compact vector at a time. */
+  private readonly sRe: Float64Array;
+  private readonly sIm: Float64Array;
+
   constructor(
     readonly n: number,
     readonly tol: number,
-  ) {}
+  ) {
+    this.sRe = new Float64Array(n);
+    this.sIm = new Float64Array(n);
+  }
+
+  get dim(): number {
+    return this.w.length;
+  }
+
+  /** g_i = ⟨w_i, x⟩ for every accepted w_i, x given on `dofs` (sorted or not). */
+  private overlaps(dofs: Int32Array, x: Cx): Cx {
+    const d = this.w.length;
+    const g = { re: new Float64Array(d), im: new Float64Array(d) };
+    let lo = Infinity;
+    let hi = -Infinity;
+    for (let t = 0; t < dofs.length; t++) {
+      this.sRe[dofs[t]] = x.re[t];
+      this.sIm[dofs[t]] = x.im[t];
+      lo = Math.min(lo, dofs[t]);
+      hi = Math.max(hi, dofs[t]);
+    }
+    for (let i = 0; i < d; i++) {
+      const wi = this.w[i];
+      if (wi.hi < lo || wi.lo > hi) continue;
+      let sr = 0;
+      let si = 0;
+      for (let t = 0; t < wi.dofs.length; t++) {
+        const q = wi.dofs[t];
+        const xr = this.sRe[q];
+        const xi = this.sIm[q];
+        sr += wi.re[t] * xr + wi.im[t] * xi;
+        si += wi.re[t] * xi - wi.im[t] * xr;
+      }
+      g.re[i] = sr;
+      g.im[i] = si;
+    }
+    for (let t = 0; t < dofs.length; t++) {
+      this.sRe[dofs[t]] = 0;
+      this.sIm[dofs[t]] = 0;
+    }
+    return g;
+  }
+
+  /** c = Tᴴ g (the coefficients ⟨q_j, x⟩ from g = Wᴴx). */
+  private tH(g: Cx): Cx {
+    const d = g.re.length;
+    const c = { re: new Float64Array(d), im: new Float64Array(d) };
+    for (let j = 0; j < d; j++) {
+      const t = this.tCol[j];
+      let sr = 0;
+      let si = 0;
+      for (let i = 0; i <= j; i++) {
+        sr += t.re[i] * g.re[i] + t.im[i] * g.im[i];
+        si += t.re[i] * g.im[i] - t.im[i] * g.re[i];
+      }
+      c.re[j] = sr;
+      c.im[j] = si;
+    }
+    return c;
+  }
+
+  /** y = T c (coefficients on W of Q c). */
+  private t(c: Cx): Cx {
+    const d = c.re.length;
+    const y = { re: new Float64Array(d), im: new Float64Array(d) };
+    for (let j = 0; j < d; j++) {
+      const t = this.tCol[j];
+      const cr = c.re[j];
+      const ci = c.im[j];
+      if (cr === 0 && ci === 0) continue;
+      for (let i = 0; i <= j; i++) {
+        y.re[i] += t.re[i] * cr - t.im[i] * ci;
+        y.im[i] += t.re[i] * ci + t.im[i] * cr;
+      }
+    }
+    return y;
+  }
+
+  /** G y. */
+  private g(y: Cx): Cx {
+    const d = y.re.length;
+    const out = { re: new Float64Array(d), im: new Float64Array(d) };
+    for (let j = 0; j < d; j++) {
+      const row = this.gRow[j];
+      for (let i = 0; i <= j; i++) {
+        // G_ij = row[i] (i ≤ j) and G_ji = conj(row[i])
+        out.re[i] += row.re[i] * y.re[j] - row.im[i] * y.im[j];
+        out.im[i] += row.re[i] * y.im[j] + row.im[i] * y.re[j];
+        if (i !== j) {
+          out.re[j] += row.re[i] * y.re[i] + row.im[i] * y.im[i];
+          out.im[j] += row.re[i] * y.im[i] - row.im[i] * y.re[i];
+        }
+      }
+    }
+    return out;
+  }
+
+  /** Accepts unit vector v (on `dofs`) when its residual against the span exceeds the tolerance. */
+  private accept(dofs: Int32Array, v: Cx): boolean {
+    const d = this.w.length;
+    const g = this.overlaps(dofs, v);
+    const c = this.tH(g);
+    let cc = 0;
+    for (let j = 0; j < d; j++) cc += c.re[j] * c.re[j] + c.im[j] * c.im[j];
+    const y = this.t(c);
+    // second pass: Qᴴ(v − W y) = Tᴴ(g − G y)
+    const Gy = this.g(y);
+    const g2 = { re: g.re.map((x, i) => x - Gy.re[i]), im: g.im.map((x, i) => x - Gy.im[i]) };
+    const c2 = this.tH(g2);
+    let cc2 = 0;
+    for (let j = 0; j < d; j++) cc2 += c2.re[j] * c2.re[j] + c2.im[j] * c2.im[j];
+    const rho2 = 1 - cc - cc2;
+    if (!(rho2 > this.tol * this.tol)) return false;
+    const rho = Math.sqrt(rho2);
+    const y2 = this.t(c2);
+    const col = { re: new Float64Array(d + 1), im: new Float64Array(d + 1) };
+    for (let i = 0; i < d; i++) {
+      col.re[i] = -(y.re[i] + y2.re[i]) / rho;
+      col.im[i] = -(y.im[i] + y2.im[i]) / rho;
+    }
+    col.re[d] = 1 / rho;
+    const row = { re: new Float64Array(d + 1), im: new Float64Array(d + 1) };
+    row.re.set(g.re);
+    row.im.set(g.im);
+    row.re[d] = 1;
+    let lo = Infinity;
+    let hi = -Infinity;
+    for (const q of dofs) {
+      lo = Math.min(lo, q);
+      hi = Math.max(hi, q);
+    }
+    this.w.push({ dofs, re: v.re, im: v.im, lo, hi });
+    this.tCol.push(col);
+    this.gRow.push(row);
+    return true;
+  }
 
   /**
    * Adds the directions of span(block) that are not yet in this span (residual above the
    * tolerance). Returns the accepted directions as compact vectors on the block's dofs (unit
    * norm), one per new dimension.
    */
-  extend(block: Block): { re: Float64Array; im: Float64Array }[] {
+  extend(block: Block): Cx[] {
     const V = block.vectors;
     const k = V.length;
     if (k === 0) return [];
-    const d = this.q.length;
+    const d = this.w.length;
     const dofs = block.dofs;
-    // C = Qᴴ V (d×k) over the block's dofs only
+    // C = Qᴴ V (d×k)
     const Cre = new Float64Array(d * k);
     const Cim = new Float64Array(d * k);
-    for (let a = 0; a < d; a++) {
-      const qa = this.q[a];
-      for (let b = 0; b < k; b++) {
-        const vb = V[b];
-        let sr = 0;
-        let si = 0;
-        for (let t = 0; t < dofs.length; t++) {
-          const qr = qa.re[dofs[t]];
-          const qi = qa.im[dofs[t]];
-          sr += qr * vb.re[t] + qi * vb.im[t];
-          si += qr * vb.im[t] - qi * vb.re[t];
-        }
-        Cre[a * k + b] = sr;
-        Cim[a * k + b] = si;
+    for (let b = 0; b < k; b++) {
+      const c = this.tH(this.overlaps(dofs, V[b]));
+      for (let a = 0; a < d; a++) {
+        Cre[a * k + b] = c.re[a];
+        Cim[a * k + b] = c.im[a];
       }
     }
     // residual Gram G = VᴴV − CᴴC
@@ -1022,29 +1214,39 @@ class Span {
         if (si !== 0) anyIm = true;
       }
     const eig = hermitianEigen(Gre, anyIm ? Gim : null, k);
-    const fresh: { re: Float64Array; im: Float64Array }[] = [];
-    const known: { re: Float64Array; im: Float64Array }[] = [];
+    const fresh: Cx[] = [];
+    const known: Cx[] = [];
     for (let t = k - 1; t >= 0; t--) (eig.values[t] > this.tol * this.tol ? fresh : known).push(combine(V, eig.vectors[t]));
     if (fresh.length === 0) return [];
     sparsify(fresh, known);
-    const accepted: { re: Float64Array; im: Float64Array }[] = [];
+    const accepted: Cx[] = [];
     for (const v of fresh) {
       const nv = norm(v);
       if (nv === 0) continue;
       scaleInPlace(v, 1 / nv);
-      const full = { re: new Float64Array(this.n), im: new Float64Array(this.n) };
-      dofs.forEach((dd, i) => {
-        full.re[dd] = v.re[i];
-        full.im[dd] = v.im[i];
-      });
-      for (let pass = 0; pass < 2; pass++) for (const u of this.q) subtractProjection(full, u);
-      const nr = norm(full);
-      if (nr <= this.tol) continue;
-      scaleInPlace(full, 1 / nr);
-      this.q.push(full);
-      accepted.push(v);
+      if (this.accept(dofs, v)) accepted.push(v);
     }
     return accepted;
+  }
+
+  /** The orthonormal q_j (full length) for the given indices j, in that order. */
+  orthonormal(indices: number[]): Cx[] {
+    return indices.map((j) => {
+      const q = { re: new Float64Array(this.n), im: new Float64Array(this.n) };
+      const t = this.tCol[j];
+      for (let i = 0; i <= j; i++) {
+        const tr = t.re[i];
+        const ti = t.im[i];
+        if (tr === 0 && ti === 0) continue;
+        const wi = this.w[i];
+        for (let s = 0; s < wi.dofs.length; s++) {
+          const p = wi.dofs[s];
+          q.re[p] += tr * wi.re[s] - ti * wi.im[s];
+          q.im[p] += tr * wi.im[s] + ti * wi.re[s];
+        }
+      }
+      return q;
+    });
   }
 }
 
@@ -1405,7 +1607,7 @@ export function classifyFlexes(sc: Supercell, analysis: FlexAnalysis, options: C
 
   // 1. local: window kernels, smallest windows first
   for (const win of windows) {
-    if (span.q.length < f) {
+    if (span.dim < f) {
       const block = restrictedKernel(ctx, jointsOfCells(ctx, win.cells));
       for (const v of span.extend(block)) {
         const full = expand(n, block.dofs, v);
@@ -1415,13 +1617,13 @@ export function classifyFlexes(sc: Supercell, analysis: FlexAnalysis, options: C
     }
     tick('local windows');
   }
-  const nLocal = span.q.length;
+  const nLocal = span.dim;
   lap('windows');
 
   // 2. strips: kernels and their short sub-segments; M = L + short pieces
   const stripKernels: { region: Region; block: Block }[] = [];
   for (const s of strips) {
-    if (span.q.length < f) {
+    if (span.dim < f) {
       const block = restrictedKernel(ctx, jointsOfCells(ctx, s.cells));
       if (block.vectors.length) {
         stripKernels.push({ region: s, block });
@@ -1470,13 +1672,13 @@ export function classifyFlexes(sc: Supercell, analysis: FlexAnalysis, options: C
     }
     tick('strips');
   }
-  const nShort = span.q.length - nLocal;
+  const nShort = span.dim - nLocal;
   lap('strips');
-  const shortEnd = span.q.length;
+  const shortEnd = span.dim;
 
   // 3. lines: strip kernels modulo M, narrowest strips first
   for (const { region, block } of stripKernels) {
-    if (span.q.length < f) {
+    if (span.dim < f) {
       for (const v of span.extend(block)) {
         const full = expand(n, block.dofs, v);
         const w = jointWeights(full, J);
@@ -1486,14 +1688,16 @@ export function classifyFlexes(sc: Supercell, analysis: FlexAnalysis, options: C
     tick('lines');
   }
   lap('lines');
-  if (span.q.length > f) warnings.push(`the local, short and line spans have ${span.q.length} dimensions, more than the ${f} flexes: the rank tolerance is not consistent between the restricted problems and the whole matrix`);
+  if (span.dim > f) warnings.push(`the local, short and line spans have ${span.dim} dimensions, more than the ${f} flexes: the rank tolerance is not consistent between the restricted problems and the whole matrix`);
   // keep the counts summing to the flexes even then: drop the last line (then local) modes found
   while (modes.length > f) modes.pop();
 
   // 4. the rest: ker R ⊖ (L ⊕ lines)
-  const phi = f > 0 ? ctx.flexBasis() : [];
-  const taken = span.q.filter((_, t) => t < nLocal || t >= shortEnd).slice(0, f);
-  const restDim = Math.max(0, f - taken.length);
+  const takenIndices = Array.from({ length: span.dim }, (_, t) => t).filter((t) => t < nLocal || t >= shortEnd).slice(0, f);
+  const restDim = Math.max(0, f - takenIndices.length);
+  const taken = restDim > 0 ? span.orthonormal(takenIndices) : [];
+  // the global flex basis is needed only for a rest (the count f is known without it)
+  const phi = restDim > 0 ? ctx.flexBasis() : [];
   const rest: { re: Float64Array; im: Float64Array }[] = [];
   let leakage = 0;
   if (restDim > 0) {
