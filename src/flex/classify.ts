@@ -25,8 +25,9 @@
  *    most w (or s) cells across every flex would otherwise be local (or a line).
  *  - decaying and bulk split the rest, ker R ⊖ (L ⊕ lines) (short pieces belong to it).
  *    First the nearest-side distance operator (cells to the closest non-wrapping side) is
- *    compressed to the rest and diagonalised; eigenvectors whose mean distance exceeds the
- *    head radius h (below) are "far", the others "near" (basis-independent). Each part is
+ *    compressed to the rest and diagonalised; eigenvectors whose mean distance reaches the
+ *    head radius h (below; within 1e-9·h, so rounding never decides) are "far", the others
+ *    "near" (basis-independent). Each part is
  *    then localised by SCDM, selected columns of the density matrix (A. Damle, L. Lin &
  *    L. Ying, "Compressed representation of Kohn–Sham orbitals via selected columns of the
  *    density matrix", J. Chem. Theory Comput. 11(4), 1463–1469, 2015), in its orthonormal
@@ -1758,7 +1759,8 @@ export function classifyFlexes(sc: Supercell, analysis: FlexAnalysis, options: C
   //    decaying or bulk vector by vector
   const { near, far } = splitByBoundaryDistance(geo, rest);
   const cplx = rest.length > 0 && ctx.basisComplex();
-  const localised = [...(near.length ? scdm(near, cplx) : []), ...(far.length ? scdm(far, cplx) : [])];
+  const pivots = pivotOrder(sc);
+  const localised = [...(near.length ? scdm(near, cplx, pivots) : []), ...(far.length ? scdm(far, cplx, pivots) : [])];
   for (const v of localised) {
     const w = jointWeights(v, J);
     const fit = decayOf(geo, w);
@@ -1791,7 +1793,7 @@ export function classifyFlexes(sc: Supercell, analysis: FlexAnalysis, options: C
       spanTolerance: ctx.spanTol,
       restrictedSolve: (Object.keys(ctx.used) as RestrictedMethod[]).filter((k) => ctx.used[k] > 0).map((k) => `${k} ×${ctx.used[k]}`).join(', ') || 'none',
       localBasis: 'restricted-kernel vectors as found (compact, unit norm, independent, not mutually orthogonal)',
-      restSplit: 'eigenvectors of the nearest-side distance operator compressed to the rest: mean distance > head radius (far) or not (near)',
+      restSplit: 'eigenvectors of the nearest-side distance operator compressed to the rest: mean distance ≥ head radius (far) or below it (near), within 1e-9 × head radius',
       restLocalisation: 'SCDM, orthonormal form (Damle, Lin & Ying 2015), within near and within far separately',
       supportAmplitude: SUPPORT_AMPLITUDE,
       headWeight: HEAD_WEIGHT,
@@ -1807,6 +1809,9 @@ export function classifyFlexes(sc: Supercell, analysis: FlexAnalysis, options: C
     ...(warnings.length ? { warnings } : {}),
   };
 }
+
+/** Relative margin of the near/far comparison of mean distances (see splitByBoundaryDistance). */
+const FAR_MARGIN = 1e-9;
 
 /** Distance in whole cells from each cell to the nearest side, or null when every axis wraps. */
 function sideDistance(ax: Axes): Int32Array | null {
@@ -1824,9 +1829,11 @@ function sideDistance(ax: Axes): Int32Array | null {
 
 /**
  * The spectral decomposition of the nearest-side distance operator D (diagonal, in cells)
- * compressed to the rest, Ψᴴ D Ψ: eigenvectors whose mean distance exceeds the head radius
+ * compressed to the rest, Ψᴴ D Ψ: eigenvectors whose mean distance reaches the head radius
  * h = max(1, ⌊E/4⌋) (E = number of distance rings) are `far` (candidates for bulk), the others
- * `near`. Basis-independent; with no side at all everything is `near`.
+ * `near`. Basis-independent; with no side at all everything is `near`. Means are rational
+ * numbers that can equal h exactly (a uniform field on a strip of 6 rows has mean 1 = h), so
+ * the comparison allows 1e-9·h: rounding of the eigenvalues never decides the side.
  */
 function splitByBoundaryDistance(geo: Geometry, psi: { re: Float64Array; im: Float64Array }[]): { near: typeof psi; far: typeof psi } {
   const dist = sideDistance(geo.ax);
@@ -1865,7 +1872,7 @@ function splitByBoundaryDistance(geo: Geometry, psi: { re: Float64Array; im: Flo
   eig.values.forEach((mean, t) => {
     const v = combine(psi, eig.vectors[t]);
     scaleInPlace(v, 1 / norm(v));
-    (mean > head ? far : near).push(v);
+    (mean >= head * (1 - FAR_MARGIN) ? far : near).push(v);
   });
   return { near, far };
 }
@@ -1874,7 +1881,23 @@ function splitByBoundaryDistance(geo: Geometry, psi: { re: Float64Array; im: Flo
  * SCDM (Damle, Lin & Ying 2015): column-pivoted QR of Ψᴴ picks r degrees of freedom C; the
  * orthonormal localised basis is Ψ·polar(Ψ(C,:)ᴴ).
  */
-function scdm(psi: { re: Float64Array; im: Float64Array }[], complex: boolean): { re: Float64Array; im: Float64Array }[] {
+/**
+ * The order in which SCDM scans the dofs for its pivot, so that exact ties (symmetric
+ * translates) are broken the same way whatever the joint labels: by unit-cell site, then the
+ * cell's row and column, then x before y. (The joint index orders by cell first, so moving a
+ * site by a lattice vector would change which of two tied joints of different sites came first.)
+ */
+function pivotOrder(sc: Supercell): Int32Array {
+  const J = sc.jointCount;
+  const [N1, N2] = sc.cells;
+  const key = (d: number) => {
+    const k = d >> 1;
+    return ((sc.jointSites[k] * N2 + sc.jointCells[2 * k + 1]) * N1 + sc.jointCells[2 * k]) * 2 + (d & 1);
+  };
+  return Int32Array.from({ length: 2 * J }, (_, d) => d).sort((x, y) => key(x) - key(y));
+}
+
+function scdm(psi: { re: Float64Array; im: Float64Array }[], complex: boolean, order: Int32Array): { re: Float64Array; im: Float64Array }[] {
   const r = psi.length;
   const n = psi[0].re.length;
   // columns of Ψᴴ: c_j = conj(Ψ[j, :]), stored row-major n×r
@@ -1898,10 +1921,11 @@ function scdm(psi: { re: Float64Array; im: Float64Array }[], complex: boolean): 
   for (let step = 0; step < r; step++) {
     let p = -1;
     let best = -1;
-    for (let j = 0; j < n; j++) if (!done[j] && res[j] > best * (1 + 1e-12)) {
-      best = res[j];
-      p = j;
-    }
+    for (const j of order)
+      if (!done[j] && res[j] > best * (1 + 1e-12)) {
+        best = res[j];
+        p = j;
+      }
     pivots.push(p);
     done[p] = 1;
     // orthonormal direction from the current residual of column p

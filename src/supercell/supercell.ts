@@ -13,6 +13,7 @@
  */
 import { InputError } from '../errors.js';
 import type { Framework, Vec2 } from '../framework/types.js';
+import { cis } from '../linalg/complex.js';
 import { boundaryIsReal, reduceTurns, type AxisRule, type Boundary } from './boundary.js';
 
 export interface SupercellBar {
@@ -151,28 +152,10 @@ export function buildSupercell(fw: Framework, cells: [number, number], boundary:
         }
         const w1 = tx.wraps;
         const w2 = ty.wraps;
-        const ang = 2 * Math.PI * (theta1 * w1 + theta2 * w2);
-        const phase = phaseOf(theta1 * w1 + theta2 * w2, ang);
+        const phase = cis(theta1 * w1 + theta2 * w2);
         bars.push({ a, b, vector, phase, wraps: [w1, w2], source, cell: [i, j], grounded: fromOut || toOut });
       }
     }
   });
   return { framework: fw, cells: [N1, N2], boundary, sites: S, jointCount, positions, jointCells, jointSites, bars, dropped, grounded, real: boundaryIsReal(boundary) };
-}
-
-const QUARTER_TURNS: readonly (readonly [number, number])[] = [
-  [1, 0],
-  [0, 1],
-  [-1, 0],
-  [0, -1],
-];
-
-/** exp(2πi t), exact for t a multiple of ¼ (so real boundaries stay exactly real). */
-function phaseOf(t: number, ang: number): [number, number] {
-  const q = t * 4;
-  if (Number.isInteger(q)) {
-    const r = QUARTER_TURNS[((q % 4) + 4) % 4];
-    return [r[0], r[1]];
-  }
-  return [Math.cos(ang), Math.sin(ang)];
 }
