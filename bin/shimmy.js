@@ -1,5 +1,30 @@
 #!/usr/bin/env node
-// Runs the TypeScript CLI directly through tsx, so `npx shimmy` works right after `npm ci`.
-import { tsImport } from 'tsx/esm/api';
+// The CLI. `npm ci` builds it to build/cli/run.js (a single ES module, fast to start); when that
+// build is missing or older than any file under src/ (an edit since), the TypeScript sources
+// run directly through tsx instead, so the command is never stale. SHIMMY_FROM_SOURCE=1 forces
+// the sources.
+import { existsSync, readdirSync, statSync } from 'node:fs';
+import { dirname, join } from 'node:path';
+import { fileURLToPath, pathToFileURL } from 'node:url';
 
-await tsImport('../src/cli/run.ts', import.meta.url);
+const root = join(dirname(fileURLToPath(import.meta.url)), '..');
+const built = join(root, 'build', 'cli', 'run.js');
+
+/** Newest modification time of the files below dir (0 when it does not exist). */
+function newest(dir) {
+  let t = 0;
+  if (!existsSync(dir)) return t;
+  for (const e of readdirSync(dir, { withFileTypes: true })) {
+    const p = join(dir, e.name);
+    t = Math.max(t, e.isDirectory() ? newest(p) : statSync(p).mtimeMs);
+  }
+  return t;
+}
+
+const fresh = process.env.SHIMMY_FROM_SOURCE !== '1' && existsSync(built) && statSync(built).mtimeMs >= newest(join(root, 'src'));
+if (fresh) {
+  await import(pathToFileURL(built).href);
+} else {
+  const { tsImport } = await import('tsx/esm/api');
+  await tsImport('../src/cli/run.ts', import.meta.url);
+}

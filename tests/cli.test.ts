@@ -1,6 +1,6 @@
 /** The CLI shell: output formats, help, exit codes and error messages (no stack traces). */
 import { spawnSync } from 'node:child_process';
-import { mkdtempSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdtempSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
@@ -123,14 +123,21 @@ describe('help and errors', () => {
 });
 
 describe('the installed command', () => {
-  it('bin/shimmy.js runs the CLI through tsx and sets the exit code', () => {
-    const ok = spawnSync(process.execPath, ['bin/shimmy.js', 'count', 'gallery:square', '--cells', '3x3', '--json'], { encoding: 'utf8' });
-    expect(ok.status).toBe(0);
-    expect(JSON.parse(ok.stdout).flexes).toBe(6); // 3×3 joints: a + b = 6 (Bolker & Crapo 1979)
-    const bad = spawnSync(process.execPath, ['bin/shimmy.js', 'count', 'gallery:square', '--bc', 'nope'], { encoding: 'utf8' });
-    expect(bad.status).toBe(2);
-    expect(bad.stderr).toContain('--bc');
-    expect(bad.stderr).not.toMatch(/\n\s+at /);
+  it('bin/shimmy.js runs the CLI (the build npm ci makes, or the sources through tsx) and sets the exit code', () => {
+    // npm ci's prepare step builds the CLI bundle
+    expect(existsSync('build/cli/run.js')).toBe(true);
+    const outputs: string[] = [];
+    for (const env of [{ ...process.env, SHIMMY_FROM_SOURCE: '1' }, process.env]) {
+      const ok = spawnSync(process.execPath, ['bin/shimmy.js', 'count', 'gallery:square', '--cells', '3x3', '--json'], { encoding: 'utf8', env });
+      expect(ok.status).toBe(0);
+      expect(JSON.parse(ok.stdout).flexes).toBe(6); // 3×3 joints: a + b = 6 (Bolker & Crapo 1979)
+      outputs.push(ok.stdout);
+      const bad = spawnSync(process.execPath, ['bin/shimmy.js', 'count', 'gallery:square', '--bc', 'nope'], { encoding: 'utf8', env });
+      expect(bad.status).toBe(2);
+      expect(bad.stderr).toContain('--bc');
+      expect(bad.stderr).not.toMatch(/\n\s+at /);
+    }
+    expect(outputs[1]).toBe(outputs[0]);
   }, 30000);
 });
 

@@ -141,6 +141,11 @@ describe('shimmy sweep', () => {
     expect(lines.length).toBe(4);
     const row = lines[2].split(',');
     expect(row.slice(0, 5)).toEqual(['4', '4', '16', '24', '8']); // 4×4 joints: a + b = 8 flexes (Bolker & Crapo 1979)
+    // the growth fits go to stderr, stdout stays plain CSV: free N×N square grids have
+    // 2N line flexes (N rows and N columns of shear), so the line count grows as N¹
+    expect(r.err).toMatch(/Growth with the linear size N/);
+    expect(r.err).toMatch(/line\s+exponent 1, R² 1 over 3 sizes/);
+    expect(r.out).not.toMatch(/Growth/);
   });
   it('--json prints rows, fits and thresholds; the table ends with the growth summary', async () => {
     const j = await cli(sweepCommand, ['gallery:square', '--cells', '4x4..6x6:2', '--json']);

@@ -84,7 +84,7 @@ export const sweepCommand: Command = {
     { name: '--cells', value: 'SIZES', help: 'sizes: A..B[:STEP] (squares), A1xA2..B1xB2[:STEP] (both sides together) or a comma list', default: '4..8' },
     ...SUPERCELL_FLAGS.filter((f) => f.name !== '--cells'),
     ...CLASSIFY_FLAGS,
-    { name: '--csv', help: 'print the rows as CSV (header first; the fits are in the table and --json only)' },
+    { name: '--csv', help: 'print the rows as CSV on stdout (header first); the growth fits go to stderr, so a redirected file stays plain CSV' },
     { name: '--json', help: 'print one JSON object: rows, fits and thresholds' },
     { name: '--help', help: 'show this help' },
   ],
@@ -137,6 +137,7 @@ export const sweepCommand: Command = {
       io.out(JSON.stringify({ framework: a.spec, name: a.framework.name ?? null, ...result }, null, 2) + '\n');
       return 0;
     }
+    if (mode === 'csv') io.err(fitLines(result).join('\n') + '\n');
     if (mode === 'table') {
       const warned = result.rows.filter((r) => r.warnings.length);
       io.out('\n' + fitLines(result).join('\n') + '\n');

@@ -9,7 +9,7 @@
  * densely, column by column, into reused buffers: the phase map and the Bloch solver evaluate
  * it at thousands of phases.
  */
-import type { Framework } from '../framework/types.js';
+import { resolveBars, type Framework } from '../framework/types.js';
 import { cis } from '../linalg/complex.js';
 import { singularValues } from '../linalg/dense.js';
 import { DEFAULT_RELATIVE_TOLERANCE } from '../linalg/rank.js';
@@ -42,8 +42,6 @@ export class SymbolAssembler {
   private buffers = new Map<number, DenseColumns>();
 
   constructor(fw: Framework) {
-    const site = new Map(fw.joints.map((j, k) => [j.id, k]));
-    const [a1, a2] = fw.lattice;
     const m = fw.bars.length;
     this.rows = m;
     this.cols = 2 * fw.joints.length;
@@ -55,18 +53,13 @@ export class SymbolAssembler {
     this.s2 = new Int32Array(m);
     this.zr = new Float64Array(m);
     this.zi = new Float64Array(m);
-    fw.bars.forEach((bar, r) => {
-      const a = site.get(bar.from)!;
-      const b = site.get(bar.to)!;
-      const [s1, s2] = bar.shift;
-      const pa = fw.joints[a].at;
-      const pb = fw.joints[b].at;
-      this.from[r] = a;
-      this.to[r] = b;
-      this.s1[r] = s1;
-      this.s2[r] = s2;
-      this.px[r] = pb[0] + s1 * a1[0] + s2 * a2[0] - pa[0];
-      this.py[r] = pb[1] + s1 * a1[1] + s2 * a2[1] - pa[1];
+    resolveBars(fw).forEach((bar, r) => {
+      this.from[r] = bar.from;
+      this.to[r] = bar.to;
+      this.s1[r] = bar.shift[0];
+      this.s2[r] = bar.shift[1];
+      this.px[r] = bar.vector[0];
+      this.py[r] = bar.vector[1];
     });
   }
 

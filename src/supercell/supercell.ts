@@ -12,7 +12,7 @@
  * Joint index of site s in cell (i, j): (j·N1 + i)·S + s, with S joints per unit cell.
  */
 import { InputError } from '../errors.js';
-import type { Framework, Vec2 } from '../framework/types.js';
+import { resolveBars, type Framework, type Vec2 } from '../framework/types.js';
 import { cis } from '../linalg/complex.js';
 import { boundaryIsReal, reduceTurns, type AxisRule, type Boundary } from './boundary.js';
 
@@ -94,7 +94,6 @@ export function buildSupercell(fw: Framework, cells: [number, number], boundary:
   const [N1, N2] = cells;
   const S = fw.joints.length;
   const [a1, a2] = fw.lattice;
-  const siteOf = new Map(fw.joints.map((j, k) => [j.id, k]));
   const jointCount = N1 * N2 * S;
   const positions = new Float64Array(2 * jointCount);
   const jointCells = new Int32Array(2 * jointCount);
@@ -121,13 +120,7 @@ export function buildSupercell(fw: Framework, cells: [number, number], boundary:
   const range = (N: number, shift: number, rule: AxisRule): [number, number] =>
     rule.kind === 'twist' ? [0, N] : [Math.min(0, -shift), Math.max(N, N - shift)];
 
-  fw.bars.forEach((bar, source) => {
-    const sa = siteOf.get(bar.from)!;
-    const sb = siteOf.get(bar.to)!;
-    const [s1, s2] = bar.shift;
-    const pa = fw.joints[sa].at;
-    const pb = fw.joints[sb].at;
-    const vector: Vec2 = [pb[0] + s1 * a1[0] + s2 * a2[0] - pa[0], pb[1] + s1 * a1[1] + s2 * a2[1] - pa[1]];
+  resolveBars(fw).forEach(({ from: sa, to: sb, shift: [s1, s2], vector }, source) => {
     const [i0, i1] = range(N1, s1, boundary.x);
     const [j0, j1] = range(N2, s2, boundary.y);
     for (let j = j0; j < j1; j++) {
