@@ -141,6 +141,20 @@ describe('regular kagome, free', () => {
       else expect(m.region).toMatch(/^strip/);
     }
   });
+  it('at 21×21 (over 2400 columns: banded restricted solves, translates solved once) the same holds', () => {
+    const big = cached('gallery:kagome', [21, 21], 'free');
+    expect(big.c.flexes).toBe(2 * (21 + 21) - 1);
+    expect(big.c.counts.local + big.c.counts.line).toBe(big.c.flexes);
+    expect(big.c.thresholds.restrictedSolve).toMatch(/restricted-sparse ×\d+/);
+    expect(big.c.thresholds.restrictedSolve).not.toMatch(/kernel-intersection/);
+    const lines = new Set<string>();
+    for (const m of big.c.modes) {
+      const key = lineThrough(supportOf(m).map((k) => pos(big.sc, k)));
+      expect(key).not.toBeNull();
+      lines.add(key!);
+    }
+    expect(lines.size).toBe(big.c.flexes);
+  });
 });
 
 describe('twisted kagome, free', () => {
