@@ -70,6 +70,8 @@ function parseOptions(argv: string[]): Options {
 interface RunResult {
   status: 'ok' | 'too large' | 'timeout' | 'error' | 'skipped' | 'pending';
   seconds?: number;
+  /** The count's own time inside the process (`seconds` of count --json: no start-up, no loading). */
+  solveSeconds?: number;
   /** Peak resident set size in MB. */
   peakMB?: number;
   /** Solver the run reports (auto names its choice). */
@@ -102,6 +104,7 @@ function timeCommand(args: string[], timeoutSeconds: number): RunResult & { json
       status: 'ok',
       seconds,
       peakMB,
+      solveSeconds: typeof json.seconds === 'number' ? json.seconds : undefined,
       solver: typeof json.solver === 'string' ? json.solver : undefined,
       flexes: typeof json.flexes === 'number' ? json.flexes : undefined,
       selfStresses: typeof json.selfStresses === 'number' ? json.selfStresses : undefined,
@@ -169,6 +172,9 @@ function scipyNullSpace(spec: string, N: number, bc: string, timeoutSeconds: num
 
 // ---------------------------------------------------------------------------------------------
 // Prediction and fits
+
+/** Runs shorter than this (in-process) are left out of the growth fits. */
+const MIN_FIT_SECONDS = 0.05;
 
 /** Least-squares slope of log(seconds) against log(N). */
 function fitExponent(points: { N: number; seconds: number }[]): number | null {
@@ -247,13 +253,15 @@ function main(): void {
 
   const rows: Row[] = [];
   const history = new Map<string, { N: number; seconds: number }[]>();
+  /** In-process count times per path, for the growth fits. */
+  const solveHistory = new Map<string, { N: number; seconds: number }[]>();
   const failures = new Map<string, string>();
   const scipyTimes = new Map<string, number>();
   const scipyNote = new Map<string, string>();
   // seconds per m·n² of scipy's SVD on this machine, from one 900×900 calibration
   const scipyPerCube = scipy ? calibrateScipy() : 0;
   if (scipy) console.log(`scipy calibration: null_space of a 900×900 matrix ${fmtSeconds(scipyPerCube * 900 ** 3)} s\n`);
-  const header = `${pad('lattice', 15)} ${pad('bc', 9)} ${pad('N', 4, true)} ${pad('dof', 7, true)} ${pad('solver', 14)} ${pad('seconds', 8, true)} ${pad('peak MB', 8, true)} ${pad('×dense', 7, true)} ${pad('×scipy', 7, true)}  note`;
+  const header = `${pad('lattice', 15)} ${pad('bc', 9)} ${pad('N', 4, true)} ${pad('dof', 7, true)} ${pad('solver', 14)} ${pad('seconds', 8, true)} ${pad('solve s', 8, true)} ${pad('peak MB', 8, true)} ${pad('×dense', 7, true)} ${pad('×scipy', 7, true)}  note`;
   console.log(header);
   console.log('-'.repeat(header.length + 10));
   const print = (r: Row) => {
@@ -263,7 +271,7 @@ function main(): void {
       .filter(Boolean)
       .join('; ');
     console.log(
-      `${pad(r.lattice, 15)} ${pad(r.bc, 9)} ${pad(String(r.N), 4, true)} ${pad(String(r.dof), 7, true)} ${pad(r.solver, 14)} ${pad(sec, 8, true)} ${pad(res.peakMB ? res.peakMB.toFixed(0) : '—', 8, true)} ${pad(r.vsDense ? `${r.vsDense.toFixed(1)}` : '—', 7, true)} ${pad(r.vsScipy ? `${r.vsScipy.toFixed(1)}` : '—', 7, true)}  ${note}`,
+      `${pad(r.lattice, 15)} ${pad(r.bc, 9)} ${pad(String(r.N), 4, true)} ${pad(String(r.dof), 7, true)} ${pad(r.solver, 14)} ${pad(sec, 8, true)} ${pad(res.status === 'ok' ? fmtSeconds(res.solveSeconds) : '—', 8, true)} ${pad(res.peakMB ? res.peakMB.toFixed(0) : '—', 8, true)} ${pad(r.vsDense ? `${r.vsDense.toFixed(1)}` : '—', 7, true)} ${pad(r.vsScipy ? `${r.vsScipy.toFixed(1)}` : '—', 7, true)}  ${note}`,
     );
   };
 
@@ -290,7 +298,7 @@ function main(): void {
             const s = scipyNullSpace(lat.spec, N, bc, Math.max(3 * opts.budget, 3 * predicted, 60));
             if (s.seconds !== undefined) {
               scipyTimes.set(key, s.seconds);
-              console.log(`${pad(lat.label, 15)} ${pad(bc, 9)} ${pad(String(N), 4, true)} ${pad(String(dof), 7, true)} ${pad('scipy', 14)} ${pad(fmtSeconds(s.seconds), 8, true)} ${pad('—', 8, true)} ${pad('', 7)} ${pad('', 7)}  null_space(rcond=1e-9): nullity ${s.nullity}; load + SVD only, no start-up`);
+              console.log(`${pad(lat.label, 15)} ${pad(bc, 9)} ${pad(String(N), 4, true)} ${pad(String(dof), 7, true)} ${pad('scipy', 14)} ${pad(fmtSeconds(s.seconds), 8, true)} ${pad('—', 8, true)} ${pad('—', 8, true)} ${pad('', 7)} ${pad('', 7)}  null_space(rcond=1e-9): nullity ${s.nullity}; load + SVD only, no start-up`);
             } else scipyNote.set(key, `scipy failed: ${s.note}`);
           }
         }
@@ -308,6 +316,7 @@ function main(): void {
           } else {
             result = timeCommand(['count', lat.spec, '--cells', `${N}x${N}`, '--bc', bc, '--json', '--solver', solver], Math.max(3 * opts.budget, 60));
             if (result.status === 'ok' && result.seconds !== undefined) history.set(key, [...h, { N, seconds: result.seconds }]);
+            if (result.status === 'ok' && result.solveSeconds !== undefined) solveHistory.set(key, [...(solveHistory.get(key) ?? []), { N, seconds: result.solveSeconds }]);
             else failures.set(key, result.status);
           }
           const row: Row = { lattice: lat.label, bc, N, dof, solver: label, result };
@@ -323,19 +332,20 @@ function main(): void {
     }
   }
 
-  // fitted exponents: on the time net of start-up, over runs whose net time is at least 1 s
-  // (below that start-up noise dominates), and the local exponent between the two largest sizes
-  console.log('\nFitted exponent of time against N (log–log least squares on whole-process time minus start-up, runs with ≥ 1 s net):');
-  for (const [key, h] of history) {
-    const net = h.filter((p) => Number.isFinite(p.seconds) && p.seconds - startup >= 1).map((p) => ({ N: p.N, seconds: p.seconds - startup }));
-    const e = fitExponent(net);
+  // fitted exponents: on the count's own time inside the process (reported by count --json, so
+  // start-up and module loading never enter), over runs of at least MIN_FIT_SECONDS (below that
+  // timer and JIT noise dominate), and the local exponent between the two largest sizes
+  console.log(`\nFitted exponent of time against N (log–log least squares on the in-process count time, runs with ≥ ${MIN_FIT_SECONDS} s):`);
+  for (const [key, h] of solveHistory) {
+    const pts = h.filter((p) => Number.isFinite(p.seconds) && p.seconds >= MIN_FIT_SECONDS);
+    const e = fitExponent(pts);
     if (e === null) {
-      console.log(`  ${pad(key.replace(/\|/g, ', '), 36)} too fast to fit (fewer than two runs with ≥ 1 s net)`);
+      console.log(`  ${pad(key.replace(/\|/g, ', '), 36)} too fast or too few sizes to fit (fewer than two runs with ≥ ${MIN_FIT_SECONDS} s)`);
       continue;
     }
-    const [a, b] = net.slice(-2);
+    const [a, b] = pts.slice(-2);
     const local = Math.log(b.seconds / a.seconds) / Math.log(b.N / a.N);
-    console.log(`  ${pad(key.replace(/\|/g, ', '), 36)} N^${e.toFixed(2)} over sizes ${net.map((p) => p.N).join(', ')}; from ${a.N} to ${b.N}: N^${local.toFixed(2)}`);
+    console.log(`  ${pad(key.replace(/\|/g, ', '), 36)} N^${e.toFixed(2)} over sizes ${pts.map((p) => `${p.N} (${fmtSeconds(p.seconds)} s)`).join(', ')}; from ${a.N} to ${b.N}: N^${local.toFixed(2)}`);
   }
 
   // targets

@@ -12,13 +12,15 @@ export const countCommand: Command = {
   name: 'count',
   summary: 'Count the flexes (infinitesimal motions), the trivial ones among them and the self-stresses of an N1×N2 supercell.',
   usage: 'shimmy count FRAMEWORK [--cells 8x8] [--bc SPEC] [--tol 1e-9] [--json]',
-  flags: [...SUPERCELL_FLAGS, { name: '--json', help: 'print one JSON object instead of a table' }, { name: '--help', help: 'show this help' }],
+  flags: [...SUPERCELL_FLAGS, { name: '--json', help: 'print one JSON object instead of a table (with `seconds`, the time the count took)' }, { name: '--help', help: 'show this help' }],
   maxPositional: 1,
   details: [...FRAMEWORK_HELP, '', ...BOUNDARY_HELP],
   run(args, io) {
     const a = readSupercellArgs(args, io, 'count');
     const progress = progressLine(io, 'count');
+    const started = performance.now();
     const { analysis } = count({ framework: a.framework, cells: a.cells, boundary: a.boundary, tolerance: a.tolerance, solver: a.solver, onProgress: progress.report });
+    const seconds = (performance.now() - started) / 1000;
     progress.done();
     const c = countsOf(analysis);
     const ambiguous = c.gap.ambiguous;
@@ -30,6 +32,8 @@ export const countCommand: Command = {
         boundary: a.bcText,
         ...c,
         warnings: ambiguous ? [ambiguityWarning(c.gap.ratio)] : [],
+        /** Wall time of building the supercell and counting, in this process (no start-up). */
+        seconds,
         caution: CAUTION,
       };
       io.out(JSON.stringify(out, null, 2) + '\n');

@@ -266,7 +266,35 @@ export function ldlSolveBlock(F: LdlFactor, cols: Float64Array[], colsIm: Float6
   for (let c0 = 0; c0 < cols.length; c0 += CH) {
     const c = Math.min(CH, cols.length - c0);
     if (complex) solveChunkComplex(F, cols.slice(c0, c0 + c), colsIm ? colsIm.slice(c0, c0 + c) : null, c);
+    else if (c === 1) solveOneReal(F, cols[c0]);
     else solveChunkReal(F, cols.slice(c0, c0 + c), c);
+  }
+}
+
+/**
+ * One real right-hand side in place: the same operations as solveChunkReal with c = 1, in the
+ * same order, with the row sums kept in a local (the single-vector Lanczos solves are the
+ * common case and several times faster this way).
+ */
+function solveOneReal(F: LdlFactor, x: Float64Array): void {
+  const { n, bw } = F.L;
+  const w = bw + 1;
+  const a = F.L.re;
+  const d = F.d;
+  for (let i = 0; i < n; i++) {
+    const k0 = Math.max(0, i - bw);
+    const bi = i * w - i + bw;
+    let s = x[i];
+    for (let k = k0; k < i; k++) s -= a[bi + k] * x[k];
+    x[i] = s;
+  }
+  for (let i = 0; i < n; i++) x[i] *= 1 / d[i];
+  for (let j = n - 1; j >= 0; j--) {
+    const k0 = Math.max(0, j - bw);
+    const bj = j * w - j + bw;
+    const xj = x[j];
+    if (xj === 0) continue;
+    for (let k = k0; k < j; k++) x[k] -= a[bj + k] * xj;
   }
 }
 
