@@ -131,7 +131,9 @@ describe('the installed command', () => {
       const ok = spawnSync(process.execPath, ['bin/shimmy.js', 'count', 'gallery:square', '--cells', '3x3', '--json'], { encoding: 'utf8', env });
       expect(ok.status).toBe(0);
       expect(JSON.parse(ok.stdout).flexes).toBe(6); // 3×3 joints: a + b = 6 (Bolker & Crapo 1979)
-      outputs.push(ok.stdout);
+      const { seconds, ...rest } = JSON.parse(ok.stdout);
+      expect(seconds).toBeGreaterThan(0); // the count's own time
+      outputs.push(JSON.stringify(rest));
       const bad = spawnSync(process.execPath, ['bin/shimmy.js', 'count', 'gallery:square', '--bc', 'nope'], { encoding: 'utf8', env });
       expect(bad.status).toBe(2);
       expect(bad.stderr).toContain('--bc');
