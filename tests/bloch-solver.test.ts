@@ -313,7 +313,7 @@ describe('strip blocks: the banded sparse solver against the dense path', () => 
     expect([...stages].some((x) => /^Bloch block # of #: inertia count/.test(x))).toBe(true);
     expect(s.flexBasis().vectors.length).toBe(R.cols - s.decision.rank);
     const ctl = new AbortController();
-    const run = () => sparseBlocks(sc, R, { ...OPTIONS, signal: ctl.signal, onProgress: (p) => p.stage.includes('subspace iteration') && ctl.abort() });
+    const run = () => sparseBlocks(sc, R, { ...OPTIONS, signal: ctl.signal, onProgress: (p) => /subspace iteration|Lanczos for the smallest/.test(p.stage) && ctl.abort() });
     expect(run).toThrow(CancelledError);
   });
 });

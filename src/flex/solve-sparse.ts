@@ -877,7 +877,7 @@ function identityBlock(dim: number, complex: boolean): Block {
  * Columns of `cand` made orthonormal against `locked` and each other (two passes of modified
  * Gram–Schmidt); a column whose remainder is at most 1e-10 of its norm is dropped.
  */
-function orthonormalDrop(cand: Block, locked: Block): Block {
+function orthonormalDrop(cand: Block, locked: Block, residuals?: number[]): Block {
   const out: Block = { len: cand.len, re: [], im: cand.im ? [] : null };
   const n = cand.len;
   const basisRe = [...locked.re];
@@ -892,6 +892,7 @@ function orthonormalDrop(cand: Block, locked: Block): Block {
     for (let pass = 0; pass < 2; pass++) projectOut(xr, xi, basisRe, basisIm, basisRe.length);
     const n1 = norm2(xr, xi);
     if (!(n1 > 1e-10)) continue;
+    residuals?.push(n0 * n1);
     for (let i = 0; i < n; i++) xr[i] /= n1;
     if (xi) for (let i = 0; i < n; i++) xi[i] /= n1;
     basisRe.push(xr);
@@ -964,7 +965,12 @@ function subspaceIteration(
   let sigma: Float64Array = new Float64Array(0);
   let sweeps = 0;
   let phase1Done = false;
-  const maxPhase1 = 40;
+  // Nothing to find in phase 1 when the inertia count puts no eigenvalue of K below the shift
+  // (then every σ² ≥ shift ≫ tol²) and the side has no structural zeros: Lanczos alone then
+  // finds the smallest σ, from a random start (it still locks any vector at or below the cut).
+  const nothingBelow = expected.count === 0 && structural === 0 && expected.shift > tol * tol;
+  const maxPhase1 = nothingBelow ? 0 : 40;
+  if (nothingBelow) phase1Done = true;
   for (let sweep = 1; sweep <= maxPhase1; sweep++) {
     ctx.check();
     ctx.progress(p0 + ((p1 - p0) * Math.min(sweep, 8)) / 20, `subspace iteration on ${side.gramName}, sweep ${sweep} (${q} vectors)`);
@@ -1004,7 +1010,7 @@ function subspaceIteration(
   const locked: Block = { len: dim, re: X.re.slice(0, nNull), im: X.im ? X.im.slice(0, nNull) : null };
   const lockedSigma = Array.from(sigma.slice(0, nNull));
   const start: Block = { len: dim, re: X.re.slice(nNull, nNull + 1), im: X.im ? X.im.slice(nNull, nNull + 1) : null };
-  const kept = lanczosSmallestKept(side, F, locked, lockedSigma, start, tol, ctx, p0 + (p1 - p0) * 0.4, p1);
+  const kept = lanczosSmallestKept(side, F, locked, lockedSigma, start, tol, ctx, p0 + (p1 - p0) * 0.4, p1, nothingBelow);
   const all: Block = { len: dim, re: [...locked.re], im: locked.im ? [...locked.im] : null };
   const allSigma = [...lockedSigma];
   if (kept.vector) {
@@ -1035,6 +1041,8 @@ function lanczosSmallestKept(
   ctx: Ctx,
   p0: number,
   p1: number,
+  /** The inertia count found no eigenvalue of K below the shift of F (and none is locked). */
+  noneBelowShift = false,
 ): { vector: { re: Float64Array; im: Float64Array | null } | null; sigma: number; steps: number; converged: boolean } {
   const dim = side.dim;
   const complex = ctx.complex;
@@ -1081,9 +1089,10 @@ function lanczosSmallestKept(
       alpha.push(a);
       // full reorthogonalisation (twice) against the locked vectors and the Lanczos basis
       const all: Block = { len: dim, re: [...locked.re, ...V.re], im: locked.im ? [...locked.im, ...V.im!] : null };
-      const nw = norm2(wr, wi);
-      const o = orthonormalDrop(w, all);
-      const b = o.re.length ? nw * residualFraction(w, all, nw) : 0;
+      // b = ‖w − (its projection on all)‖, the norm orthonormalDrop divides by
+      const residual: number[] = [];
+      const o = orthonormalDrop(w, all, residual);
+      const b = o.re.length ? residual[0] : 0;
       const invariant = o.re.length === 0 || b <= 1e-14 * Math.abs(a);
       if ((j + 1) % 3 === 0 || invariant || j === maxSteps - 1) {
         // Ritz pairs of the tridiagonal; check the extreme ones by their measured σ
@@ -1100,7 +1109,10 @@ function lanczosSmallestKept(
         const mu = e.realEigenvalues;
         const S = e.eigenvectorMatrix;
         const order = mu.map((_, i) => i).sort((x, y) => mu[y] - mu[x]);
-        const picks = [...new Set([...order.slice(0, 3), ...order.slice(-2)])];
+        // the top of T's spectrum is the bottom of K's above τ; its very bottom (μ < 0) holds
+        // eigenvalues of K below τ, i.e. null vectors phase 1 missed, which cannot exist when
+        // the inertia count found none below the shift
+        const picks = [...new Set([...order.slice(0, 3), ...(noneBelowShift ? [] : order.slice(-2))])];
         let cand = null as Candidate | null;
         for (const c of picks) {
           const y = { re: new Float64Array(dim), im: complex ? new Float64Array(dim) : null };
@@ -1145,34 +1157,6 @@ function lanczosSmallestKept(
     if (!lockedNew) return best ? { vector: best.vector, sigma: best.sigma, steps, converged: false } : { vector: null, sigma: NaN, steps, converged: false };
   }
   return { vector: null, sigma: NaN, steps, converged: false };
-}
-
-/** ‖w − P w‖ / ‖w‖ for the orthonormal columns P (w as it was before orthonormalDrop). */
-function residualFraction(w: Block, P: Block, nw: number): number {
-  const x = { re: w.re[0].slice(), im: w.im ? w.im[0].slice() : null };
-  const n = w.len;
-  for (let pass = 0; pass < 2; pass++)
-    for (let p = 0; p < P.re.length; p++) {
-      const qr = P.re[p];
-      if (!x.im) {
-        let c = 0;
-        for (let i = 0; i < n; i++) c += qr[i] * x.re[i];
-        for (let i = 0; i < n; i++) x.re[i] -= c * qr[i];
-      } else {
-        const qi = P.im![p];
-        let cr = 0;
-        let ci = 0;
-        for (let i = 0; i < n; i++) {
-          cr += qr[i] * x.re[i] + qi[i] * x.im[i];
-          ci += qr[i] * x.im[i] - qi[i] * x.re[i];
-        }
-        for (let i = 0; i < n; i++) {
-          x.re[i] -= cr * qr[i] - ci * qi[i];
-          x.im[i] -= cr * qi[i] + ci * qr[i];
-        }
-      }
-    }
-  return norm2(x.re, x.im) / nw;
 }
 
 /**
@@ -1342,7 +1326,9 @@ export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): Solv
   const operator = reuse ? 'the inertia factor of K − τI as shift-invert operator' : `a Cholesky factor of K + δI, δ = (${cChol}·σ_max)², as shift-invert operator`;
   const notes = [
     F
-      ? `σ from ‖${side.opName} v‖ of Ritz vectors of K = ${side.gramName}: ${nullCount} at or below the cut by subspace iteration (${it.sweeps} sweeps on ${q0}+ vectors), the smallest above it by Lanczos (${it.lanczosSteps ?? 0} steps), with ${operator}`
+      ? `σ from ‖${side.opName} v‖ of Ritz vectors of K = ${side.gramName}: ${
+          it.sweeps === 0 ? 'none at or below the cut (the inertia count puts no eigenvalue below τ)' : `${nullCount} at or below the cut by subspace iteration (${it.sweeps} sweeps on ${q0}+ vectors)`
+        }, the smallest above it by Lanczos (${it.lanczosSteps ?? 0} steps), with ${operator}`
       : `σ from ‖${side.opName} v‖ of the eigenvectors of K = ${side.gramName} (a full Rayleigh–Ritz: the side has only ${side.dim} dimensions)`,
     `inertia count at τ = (${c}·σ_max)²${inertia.retries ? ` (moved to (${(Math.sqrt(inertia.shift) / sigmaMax).toPrecision(4)}·σ_max)² after a zero pivot)` : ''}: ${kCount} eigenvalues of ${countSide.gramName} below τ`,
     given !== undefined ? 'σ_max given by the caller' : `σ_max by Lanczos (${lz.steps} steps)`,
