@@ -661,13 +661,12 @@ function lanczosSigmaMax(R: SparseMatrix, RH: SparseMatrix, seed: number, check:
     const wi = complex ? new Float64Array(n) : null;
     matvec(R, vr, vi, yr, yi);
     matvec(RH, yr, yi, wr, wi);
-    for (let i = 0; i < n; i++) wr[i] -= prevBeta * pr[i];
-    if (wi) for (let i = 0; i < n; i++) wi[i] -= prevBeta * pi![i];
-    let a = 0;
-    for (let i = 0; i < n; i++) a += vr[i] * wr[i];
-    if (wi) for (let i = 0; i < n; i++) a += vi![i] * wi[i];
-    for (let i = 0; i < n; i++) wr[i] -= a * vr[i];
-    if (wi) for (let i = 0; i < n; i++) wi[i] -= a * vi![i];
+    axpy(wr, pr, -prevBeta, n);
+    if (wi) axpy(wi, pi!, -prevBeta, n);
+    let a = dotInto(0, vr, wr, n);
+    if (wi) a = dotInto(a, vi!, wi, n);
+    axpy(wr, vr, -a, n);
+    if (wi) axpy(wi, vi!, -a, n);
     alpha.push(a);
     const b = norm2(wr, wi);
     theta = tridiagonalMax(alpha, beta, theta);
@@ -681,8 +680,8 @@ function lanczosSigmaMax(R: SparseMatrix, RH: SparseMatrix, seed: number, check:
     vr = wr;
     vi = wi;
     nv = b;
-    for (let i = 0; i < n; i++) vr[i] /= nv;
-    if (vi) for (let i = 0; i < n; i++) vi[i] /= nv;
+    divide(vr, nv, n);
+    if (vi) divide(vi, nv, n);
     prevBeta = b;
   }
   return { sigma: Math.sqrt(Math.max(theta, 0)), steps: alpha.length };
@@ -905,6 +904,25 @@ function orthonormalDrop(cand: Block, locked: Block, residuals?: number[]): Bloc
   return out;
 }
 
+/**
+ * y += a·x over n entries. A small function of its own: the caller runs once and stays
+ * unoptimised for a long time, while this is hot from the first calls and is compiled early.
+ */
+function axpy(y: Float64Array, x: Float64Array, a: number, n: number): void {
+  for (let t = 0; t < n; t++) y[t] += a * x[t];
+}
+
+/** s + Σ x_t y_t (same order as a plain loop; small and hot, like axpy). */
+function dotInto(s: number, x: Float64Array, y: Float64Array, n: number): number {
+  for (let t = 0; t < n; t++) s += x[t] * y[t];
+  return s;
+}
+
+/** x /= d entrywise. */
+function divide(x: Float64Array, d: number, n: number): void {
+  for (let t = 0; t < n; t++) x[t] /= d;
+}
+
 /** True when every change is settled: extrapolated remaining error ≤ max(rel·σ, floor). */
 function settled(sigma: Float64Array, prev: Float64Array | null, prevDelta: Float64Array | null, count: number, rel: number, floor: number): { ok: boolean; delta: Float64Array } {
   const delta = new Float64Array(count);
@@ -1115,20 +1133,19 @@ function lanczosSmallestKept(
         const picks = [...new Set([...order.slice(0, 3), ...(noneBelowShift ? [] : order.slice(-2))])];
         let cand = null as Candidate | null;
         for (const c of picks) {
-          const y = { re: new Float64Array(dim), im: complex ? new Float64Array(dim) : null };
+          // the Ritz vector Σ_i S_ic V_i, accumulated in locals (hot loop)
+          const yr = new Float64Array(dim);
+          const yi = complex ? new Float64Array(dim) : null;
           for (let i = 0; i < q; i++) {
             const sc = S.get(i, c);
             if (sc === 0) continue;
-            const br = V.re[i];
-            for (let t = 0; t < dim; t++) y.re[t] += sc * br[t];
-            if (y.im) {
-              const bi = V.im![i];
-              for (let t = 0; t < dim; t++) y.im[t] += sc * bi[t];
-            }
+            axpy(yr, V.re[i], sc, dim);
+            if (yi) axpy(yi, V.im![i], sc, dim);
           }
-          const ny = norm2(y.re, y.im);
-          for (let t = 0; t < dim; t++) y.re[t] /= ny;
-          if (y.im) for (let t = 0; t < dim; t++) y.im[t] /= ny;
+          const ny = norm2(yr, yi);
+          for (let t = 0; t < dim; t++) yr[t] /= ny;
+          if (yi) for (let t = 0; t < dim; t++) yi[t] /= ny;
+          const y = { re: yr, im: yi };
           const sg = sigmaOf(y);
           if (sg <= tol) {
             // a null vector phase 1 missed: lock it and start again
