@@ -175,7 +175,16 @@ function scaleInPlace(a: { re: Float64Array; im: Float64Array }, s: number): voi
 }
 
 /** v −= ⟨u, v⟩ u for unit u. */
-function subtractProjection(v: { re: Float64Array; im: Float64Array }, u: { re: Float64Array; im: Float64Array }): void {
+function subtractProjection(v: { re: Float64Array; im: Float64Array }, u: { re: Float64Array; im: Float64Array }, real = false): void {
+  if (real) {
+    // both vectors real (imaginary parts zero): the same result without the zero products
+    const vr = v.re;
+    const ur = u.re;
+    let c = 0;
+    for (let i = 0; i < vr.length; i++) c += ur[i] * vr[i];
+    for (let i = 0; i < vr.length; i++) vr[i] -= c * ur[i];
+    return;
+  }
   const [cr, ci] = dot(u, v);
   for (let i = 0; i < v.re.length; i++) {
     v.re[i] -= cr * u.re[i] - ci * u.im[i];
@@ -893,12 +902,13 @@ export const KERNEL_INTERSECTION_MAX_COLUMNS = 2400;
 /**
  * Restricted kernels by the exact content of their restricted matrix (sizes, structure and the
  * bits of every entry) and the method: the same input gives the same vectors, so a region whose
- * matrix was met before (a translate away from the sides) is not solved again. Bounded in size.
+ * matrix was met before (a translate away from the sides) is not solved again. Bounded at about
+ * 64 MB (MAX_WORDS numbers); past that, kernels are solved and not kept.
  */
 class KernelCache {
   private map = new Map<string, { re: Float64Array; im: Float64Array }[]>();
   private words = 0;
-  static readonly MAX_WORDS = 32e6;
+  static readonly MAX_WORDS = 8e6;
 
   static key(method: RestrictedMethod, A: SparseMatrix): string {
     const parts: string[] = [method, String(A.rows), String(A.cols), A.rowPtr.join(','), A.colIdx.join(',')];
@@ -1700,6 +1710,7 @@ export function classifyFlexes(sc: Supercell, analysis: FlexAnalysis, options: C
   // the global flex basis is needed only for a rest (the count f is known without it)
   const phi = restDim > 0 ? ctx.flexBasis() : [];
   const rest: { re: Float64Array; im: Float64Array }[] = [];
+  const restComplex = ctx.basisComplex();
   let leakage = 0;
   if (restDim > 0) {
     const d = taken.length;
@@ -1738,14 +1749,10 @@ export function classifyFlexes(sc: Supercell, analysis: FlexAnalysis, options: C
         const yr = y.re[b];
         const yi = y.im[b];
         if (yr === 0 && yi === 0) continue;
-        const pb = phi[b];
-        for (let i = 0; i < n; i++) {
-          v.re[i] += pb.re[i] * yr - pb.im[i] * yi;
-          v.im[i] += pb.re[i] * yi + pb.im[i] * yr;
-        }
+        addScaled(v, phi[b], yr, yi, !restComplex);
       }
-      for (let pass = 0; pass < 2; pass++) for (const u of taken) subtractProjection(v, u);
-      for (const u of rest) subtractProjection(v, u);
+      for (let pass = 0; pass < 2; pass++) for (const u of taken) subtractProjection(v, u, !restComplex);
+      for (const u of rest) subtractProjection(v, u, !restComplex);
       const nv = norm(v);
       scaleInPlace(v, 1 / nv);
       rest.push(v);
@@ -1847,20 +1854,11 @@ function splitByBoundaryDistance(geo: Geometry, psi: { re: Float64Array; im: Flo
   const Are = new Float64Array(r * r);
   const Aim = new Float64Array(r * r);
   let anyIm = false;
+  const out: [number, number] = [0, 0];
   for (let a = 0; a < r; a++)
     for (let b = a; b < r; b++) {
-      let sr = 0;
-      let si = 0;
-      const pa = psi[a];
-      const pb = psi[b];
-      for (let k = 0; k < J; k++) {
-        const dk = dJ[k];
-        if (dk === 0) continue;
-        for (const i of [2 * k, 2 * k + 1]) {
-          sr += dk * (pa.re[i] * pb.re[i] + pa.im[i] * pb.im[i]);
-          si += dk * (pa.re[i] * pb.im[i] - pa.im[i] * pb.re[i]);
-        }
-      }
+      weightedDot(dJ, J, psi[a], psi[b], out);
+      const [sr, si] = out;
       Are[a * r + b] = Are[b * r + a] = sr;
       Aim[a * r + b] = si;
       Aim[b * r + a] = -si;
@@ -1875,6 +1873,82 @@ function splitByBoundaryDistance(geo: Geometry, psi: { re: Float64Array; im: Flo
     (mean >= head * (1 - FAR_MARGIN) ? far : near).push(v);
   });
   return { near, far };
+}
+
+/**
+ * Σ_k d_k Σ_{i ∈ {2k, 2k+1}} conj(a_i) b_i into out (joints with d_k = 0 skipped). A function of
+ * its own so that V8 optimises the hot loop early (its callers run once).
+ */
+function weightedDot(d: Float64Array, J: number, pa: Cx, pb: Cx, out: [number, number]): void {
+  let sr = 0;
+  let si = 0;
+  const ar = pa.re;
+  const ai = pa.im;
+  const br = pb.re;
+  const bi = pb.im;
+  for (let k = 0; k < J; k++) {
+    const dk = d[k];
+    if (dk === 0) continue;
+    const i = 2 * k;
+    sr += dk * (ar[i] * br[i] + ai[i] * bi[i]);
+    si += dk * (ar[i] * bi[i] - ai[i] * br[i]);
+    const j = i + 1;
+    sr += dk * (ar[j] * br[j] + ai[j] * bi[j]);
+    si += dk * (ar[j] * bi[j] - ai[j] * br[j]);
+  }
+  out[0] = sr;
+  out[1] = si;
+}
+
+/**
+ * One SCDM elimination step on row j of the row-major n×r matrix X: the row minus its
+ * component along the unit vector q; returns the row's new squared norm.
+ */
+function eliminateRow(Xre: Float64Array, Xim: Float64Array, j: number, r: number, qre: Float64Array, qim: Float64Array, real: boolean): number {
+  const o = j * r;
+  if (real) {
+    // imaginary parts all zero: the same numbers without the zero products
+    let c = 0;
+    for (let a = 0; a < r; a++) c += qre[a] * Xre[o + a];
+    let s = 0;
+    for (let a = 0; a < r; a++) {
+      Xre[o + a] -= c * qre[a];
+      s += Xre[o + a] ** 2;
+    }
+    return s;
+  }
+  let sr = 0;
+  let si = 0;
+  for (let a = 0; a < r; a++) {
+    const xr = Xre[o + a];
+    const xi = Xim[o + a];
+    sr += qre[a] * xr + qim[a] * xi;
+    si += qre[a] * xi - qim[a] * xr;
+  }
+  let s = 0;
+  for (let a = 0; a < r; a++) {
+    Xre[o + a] -= sr * qre[a] - si * qim[a];
+    Xim[o + a] -= sr * qim[a] + si * qre[a];
+    s += Xre[o + a] ** 2 + Xim[o + a] ** 2;
+  }
+  return s;
+}
+
+/** v += (wr + i·wi)·p over all entries (complex axpy; hot, so its own function). */
+function addScaled(v: Cx, p: Cx, wr: number, wi: number, real = false): void {
+  const vr = v.re;
+  if (real) {
+    const pr0 = p.re;
+    for (let i = 0; i < vr.length; i++) vr[i] += pr0[i] * wr;
+    return;
+  }
+  const vi = v.im;
+  const pr = p.re;
+  const pi = p.im;
+  for (let i = 0; i < vr.length; i++) {
+    vr[i] += pr[i] * wr - pi[i] * wi;
+    vi[i] += pr[i] * wi + pi[i] * wr;
+  }
 }
 
 /**
@@ -1937,24 +2011,7 @@ function scdm(psi: { re: Float64Array; im: Float64Array }[], complex: boolean, o
       qre[a] = Xre[p * r + a] / nq;
       qim[a] = Xim[p * r + a] / nq;
     }
-    for (let j = 0; j < n; j++) {
-      if (done[j]) continue;
-      let sr = 0;
-      let si = 0;
-      for (let a = 0; a < r; a++) {
-        const xr = Xre[j * r + a];
-        const xi = Xim[j * r + a];
-        sr += qre[a] * xr + qim[a] * xi;
-        si += qre[a] * xi - qim[a] * xr;
-      }
-      let s = 0;
-      for (let a = 0; a < r; a++) {
-        Xre[j * r + a] -= sr * qre[a] - si * qim[a];
-        Xim[j * r + a] -= sr * qim[a] + si * qre[a];
-        s += Xre[j * r + a] ** 2 + Xim[j * r + a] ** 2;
-      }
-      res[j] = s;
-    }
+    for (let j = 0; j < n; j++) if (!done[j]) res[j] = eliminateRow(Xre, Xim, j, r, qre, qim, !complex);
   }
   // M = Ψ(C,:)ᴴ: M[a][b] = conj(ψ_a[c_b])
   const Mre = new Float64Array(r * r);
@@ -1972,11 +2029,7 @@ function scdm(psi: { re: Float64Array; im: Float64Array }[], complex: boolean, o
       const wr = W.re[a * r + b];
       const wi = W.im[a * r + b];
       if (wr === 0 && wi === 0) continue;
-      const pa = psi[a];
-      for (let i = 0; i < n; i++) {
-        v.re[i] += pa.re[i] * wr - pa.im[i] * wi;
-        v.im[i] += pa.re[i] * wi + pa.im[i] * wr;
-      }
+      addScaled(v, psi[a], wr, wi, !complex);
     }
     const nv = norm(v);
     scaleInPlace(v, 1 / nv);
