@@ -240,6 +240,26 @@ function orthonormalise(b: Block, rand: () => number): void {
  * blocks): G = XᴴX accumulated row by row, G = LLᴴ, X ← X·L⁻ᴴ. Returns false (X unchanged or
  * partly done, to be redone by Gram–Schmidt) when G is not numerically positive definite.
  */
+/** G[a][b] += M_ia M_ib for a ≤ b over row i (at offset o) of the row-major n×k M (hot loop). */
+function gramRowReal(G: Float64Array, M: Float64Array, o: number, k: number): void {
+  for (let a = 0; a < k; a++) {
+    const ar = M[o + a];
+    if (ar === 0) continue;
+    const g = a * k;
+    for (let b = a; b < k; b++) G[g + b] += ar * M[o + b];
+  }
+}
+
+/** y_b += Σ_{a ≤ b} M_ia T_ab for row i (at offset o) of M and upper triangular T (hot loop). */
+function rowTimesUpperReal(y: Float64Array, M: Float64Array, o: number, T: Float64Array, k: number): void {
+  for (let a = 0; a < k; a++) {
+    const mr = M[o + a];
+    if (mr === 0) continue;
+    const t = a * k;
+    for (let b = a; b < k; b++) y[b] += mr * T[t + b];
+  }
+}
+
 function cholQr2(X: Block): boolean {
   const k = X.re.length;
   const n = X.len;
@@ -262,20 +282,20 @@ function cholQr2(X: Block): boolean {
     const Gi = complex ? new Float64Array(k * k) : null;
     for (let i = 0; i < n; i++) {
       const o = i * k;
+      if (!Mi) {
+        gramRowReal(Gr, Mr, o, k);
+        continue;
+      }
       for (let a = 0; a < k; a++) {
         const ar = Mr[o + a];
-        const ai = Mi ? Mi[o + a] : 0;
+        const ai = Mi[o + a];
         if (ar === 0 && ai === 0) continue;
         const g = a * k;
-        if (!Mi) {
-          for (let b = a; b < k; b++) Gr[g + b] += ar * Mr[o + b];
-        } else {
-          for (let b = a; b < k; b++) {
-            const br = Mr[o + b];
-            const bi = Mi[o + b];
-            Gr[g + b] += ar * br + ai * bi;
-            Gi![g + b] += ar * bi - ai * br;
-          }
+        for (let b = a; b < k; b++) {
+          const br = Mr[o + b];
+          const bi = Mi[o + b];
+          Gr[g + b] += ar * br + ai * bi;
+          Gi![g + b] += ar * bi - ai * br;
         }
       }
     }
@@ -339,14 +359,13 @@ function cholQr2(X: Block): boolean {
       const o = i * k;
       yr.fill(0);
       if (yi) yi.fill(0);
-      for (let a = 0; a < k; a++) {
-        const mr = Mr[o + a];
-        const mi = Mi ? Mi[o + a] : 0;
-        if (mr === 0 && mi === 0) continue;
-        const t = a * k;
-        if (!yi) {
-          for (let b = a; b < k; b++) yr[b] += mr * Tr[t + b];
-        } else {
+      if (!yi) rowTimesUpperReal(yr, Mr, o, Tr, k);
+      else {
+        for (let a = 0; a < k; a++) {
+          const mr = Mr[o + a];
+          const mi = Mi ? Mi[o + a] : 0;
+          if (mr === 0 && mi === 0) continue;
+          const t = a * k;
           for (let b = a; b < k; b++) {
             const tr = Tr[t + b];
             const ti = Ti![t + b];
