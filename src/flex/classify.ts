@@ -192,18 +192,18 @@ function subtractProjection(v: { re: Float64Array; im: Float64Array }, u: { re: 
   }
 }
 
-/** Σ_b y_b · vectors[b] (all on the same dofs). */
-function combine(vectors: { re: Float64Array; im: Float64Array }[], y: { re: Float64Array; im: Float64Array }): { re: Float64Array; im: Float64Array } {
+/**
+ * Σ_b y_b · vectors[b] (all on the same dofs). `real`: every vector and y are real (imaginary
+ * parts zero), so only real parts are formed (the same numbers).
+ */
+function combine(vectors: { re: Float64Array; im: Float64Array }[], y: { re: Float64Array; im: Float64Array }, real = false): { re: Float64Array; im: Float64Array } {
   const len = vectors.length ? vectors[0].re.length : 0;
   const out = { re: new Float64Array(len), im: new Float64Array(len) };
   vectors.forEach((v, b) => {
     const yr = y.re[b];
     const yi = y.im[b];
     if (yr === 0 && yi === 0) return;
-    for (let i = 0; i < len; i++) {
-      out.re[i] += yr * v.re[i] - yi * v.im[i];
-      out.im[i] += yr * v.im[i] + yi * v.re[i];
-    }
+    addScaled(out, v, yr, yi, real);
   });
   return out;
 }
@@ -1867,8 +1867,9 @@ function splitByBoundaryDistance(geo: Geometry, psi: { re: Float64Array; im: Flo
   const eig = hermitianEigen(Are, anyIm ? Aim : null, r);
   const near: typeof psi = [];
   const far: typeof psi = [];
+  const real = !anyIm && psi.every((v) => v.im.every((x) => x === 0));
   eig.values.forEach((mean, t) => {
-    const v = combine(psi, eig.vectors[t]);
+    const v = combine(psi, eig.vectors[t], real);
     scaleInPlace(v, 1 / norm(v));
     (mean >= head * (1 - FAR_MARGIN) ? far : near).push(v);
   });
@@ -1934,6 +1935,23 @@ function eliminateRow(Xre: Float64Array, Xim: Float64Array, j: number, r: number
   return s;
 }
 
+/**
+ * The SCDM pivot: the first dof in `order` whose residual exceeds every earlier one by more than
+ * a relative 1e-12 (ties go to the earlier dof), among those not yet taken; −1 when none is left.
+ */
+function pickPivot(order: Int32Array, done: Uint8Array, res: Float64Array): number {
+  let p = -1;
+  let best = -1;
+  for (let t = 0; t < order.length; t++) {
+    const j = order[t];
+    if (!done[j] && res[j] > best * (1 + 1e-12)) {
+      best = res[j];
+      p = j;
+    }
+  }
+  return p;
+}
+
 /** v += (wr + i·wi)·p over all entries (complex axpy; hot, so its own function). */
 function addScaled(v: Cx, p: Cx, wr: number, wi: number, real = false): void {
   const vr = v.re;
@@ -1993,13 +2011,7 @@ function scdm(psi: { re: Float64Array; im: Float64Array }[], complex: boolean, o
   const qre = new Float64Array(r);
   const qim = new Float64Array(r);
   for (let step = 0; step < r; step++) {
-    let p = -1;
-    let best = -1;
-    for (const j of order)
-      if (!done[j] && res[j] > best * (1 + 1e-12)) {
-        best = res[j];
-        p = j;
-      }
+    const p = pickPivot(order, done, res);
     pivots.push(p);
     done[p] = 1;
     // orthonormal direction from the current residual of column p
