@@ -9,14 +9,15 @@ import { describe, expect, it } from 'vitest';
 import { InputError } from '../src/errors.js';
 import { denseSolver } from '../src/flex/solve-dense.js';
 import { CancelledError, type SolvedSpaces, type SpaceSolver } from '../src/flex/solver.js';
-import { GALLERY } from '../src/framework/gallery.js';
+import { buildGallery, GALLERY } from '../src/framework/gallery.js';
 import type { Framework } from '../src/framework/types.js';
 import type { CVec } from '../src/linalg/complex.js';
 import { conjugateTranspose, sparseMatVec, type SparseMatrix } from '../src/linalg/sparse.js';
 import { AMBIGUOUS_RATIO, combineRankParts, decideRank, rankPartOf } from '../src/linalg/rank.js';
 import { blochPlan, blochSolver, makeBlochSolver, SPARSE_STRIP_COLUMNS } from '../src/spectrum/bloch.js';
 import { parseBoundary } from '../src/supercell/boundary.js';
-import { rigidityMatrix } from '../src/supercell/rigidity.js';
+import { rigidityApply, rigidityMatrix } from '../src/supercell/rigidity.js';
+import { analyseSupercell } from '../src/flex/spaces.js';
 import { buildSupercell, type Supercell } from '../src/supercell/supercell.js';
 import { randomFramework, rng } from './helpers.js';
 
@@ -347,5 +348,37 @@ describe('the rank decision assembled from block parts', () => {
     expect(d.rank).toBe(3);
     expect(d.gap).toEqual({ kept: 1e-8, dropped: 1e-10, ratio: 100, ambiguous: 100 < AMBIGUOUS_RATIO });
     expect(() => combineRankParts([{ rank: 3, kept: 1, dropped: null }], 2, 3, 1e-9, 1)).toThrow(RangeError);
+  });
+});
+
+describe('a Bloch analysis works without the full rigidity matrix', () => {
+  it('gives the same counts and trivial flexes with R passed or not, and builds R on request', () => {
+    // The rigid-motion test multiplies bar by bar (rigidityApply) instead of through R; both are
+    // checked against the assembled matrix on real boundaries, periodic and mixed.
+    const r = rng(41);
+    for (const [spec, bc] of [
+      ['gallery:kagome', 'periodic'],
+      ['gallery:square', 'x=periodic,y=free'],
+      ['gallery:twisted-kagome?twist=15', 'twist:0.5,0'],
+    ] as const) {
+      const fw = buildGallery(spec);
+      const sc = buildSupercell(fw, [4, 3], parseBoundary(bc));
+      const R = rigidityMatrix(sc);
+      const withR = blochSolver(sc, R, OPTIONS).decision;
+      const without = blochSolver(sc, null, OPTIONS).decision;
+      expect(without).toEqual(withR);
+      const a = analyseSupercell(sc, { solver: 'bloch' });
+      expect(a.rank).toBe(withR.rank);
+      const M = a.matrix();
+      expect([M.rows, M.cols]).toEqual([R.rows, R.cols]);
+      expect(Array.from(M.re)).toEqual(Array.from(R.re));
+      expect(Array.from(M.colIdx)).toEqual(Array.from(R.colIdx));
+      for (let t = 0; t < 3; t++) {
+        const u = Float64Array.from({ length: R.cols }, () => 2 * r() - 1);
+        const ref = sparseMatVec(R, u, null).re;
+        const got = rigidityApply(sc, u);
+        for (let i = 0; i < ref.length; i++) expect(Math.abs(got[i] - ref[i])).toBeLessThanOrEqual(1e-14 * (1 + Math.abs(ref[i])));
+      }
+    }
   });
 });
