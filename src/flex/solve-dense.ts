@@ -2,7 +2,7 @@
 import { checkDenseFits, denseMemoryBytes, nullSpace, singularValues, type NullBasis } from '../linalg/dense.js';
 import { rigidityMatrix } from '../supercell/rigidity.js';
 import type { Supercell } from '../supercell/supercell.js';
-import { decideRank } from '../linalg/rank.js';
+import { certifyFromSingularValues, decideRank, svdBackwardError } from '../linalg/rank.js';
 import { conjugateTranspose } from '../linalg/sparse.js';
 import { throwIfAborted, type SpaceSolver } from './solver.js';
 
@@ -27,11 +27,13 @@ export const denseSolver: SpaceSolver = (sc, given, options) => {
   options.onProgress?.({ fraction: 0, stage: 'dense SVD' });
   const decision = decideRank(singularValues(R), m, n, options.relative);
   options.onProgress?.({ fraction: 1, stage: 'dense SVD' });
+  const cert = certifyFromSingularValues(decision, svdBackwardError(m, n, decision.sigmaMax));
   let flexCache: NullBasis | undefined;
   let stressCache: NullBasis | undefined;
   return {
     solver: 'dense',
     decision,
+    status: { certified: cert.certified, criterion: 'singular-values', converged: true, fallback: null, reasons: cert.reasons },
     flexBasis() {
       if (!flexCache) {
         checkDenseFits(m, n, complex, true, options.memoryLimit, sizeAdvice(sc, denseMemoryBytes(m, n, complex, true), options.memoryLimit));

@@ -1320,6 +1320,7 @@ export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): Solv
     return {
       solver: 'sparse',
       decision,
+      status: { certified: true, criterion: 'singular-values', converged: true, fallback: null, reasons: [] },
       gapNote: 'the rigidity matrix has no nonzero entry: every singular value is 0',
       flexBasis: () => unitBasis(n, n, complex),
       selfStressBasis: () => unitBasis(m, m, complex),
@@ -1398,6 +1399,7 @@ export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): Solv
   return {
     solver: 'sparse',
     decision,
+    status: { certified: true, criterion: 'inertia-and-residuals', converged: it.converged, fallback: null, reasons: [] },
     gapNote: notes.join('; '),
     flexBasis: () => basisOf(flex),
     selfStressBasis: () => basisOf(stress),

@@ -28,10 +28,33 @@ export interface SolveOptions {
   signal?: AbortSignal;
 }
 
+/**
+ * How a solver decided its count: structured, for code to read (the prose is in `gapNote`).
+ * `certified` means the count is proved by `criterion` up to the stated rounding bounds; a count
+ * that is not certified is always flagged ambiguous (`decision.gap.ambiguous`) with `reasons`.
+ */
+export interface SolveStatus {
+  certified: boolean;
+  /**
+   * singular-values: every singular value computed (dense SVD or Bloch blocks), none within the
+   * backward-error bound of the cut; inertia-and-residuals: an inertia count (Sylvester's law)
+   * matched by orthonormal vectors with ‖A v‖ ≤ tol and residual-bounded singular values above it.
+   */
+  criterion: 'singular-values' | 'inertia-and-residuals';
+  /** Every iteration the decision relied on reached its stopping test. */
+  converged: boolean;
+  /** Set when another path decided after the first one could not certify its count. */
+  fallback: { from: SolverName; to: SolverName; reason: string } | null;
+  /** Why the count is not certified or is flagged ambiguous; empty when neither. */
+  reasons: string[];
+}
+
 export interface SolvedSpaces {
   solver: SolverName;
   /** rank, tolerance and the singular-value gap around the cut. */
   decision: RankDecision;
+  /** How the count was decided and whether it is certified. */
+  status: SolveStatus;
   /** How the gap figures were obtained, when not plain singular values of R. */
   gapNote?: string;
   /** Orthonormal flex basis (ker R), dimension cols − rank; computed on first call. */

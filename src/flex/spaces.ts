@@ -10,13 +10,13 @@
  */
 import { Matrix, SingularValueDecomposition } from 'ml-matrix';
 import { DENSE_MEMORY_LIMIT, type NullBasis } from '../linalg/dense.js';
-import { DEFAULT_RELATIVE_TOLERANCE, type Gap } from '../linalg/rank.js';
+import { DEFAULT_RELATIVE_TOLERANCE, flagDecision, type Gap } from '../linalg/rank.js';
 import type { SparseMatrix } from '../linalg/sparse.js';
 import { rigidityApply, rigidityMatrix } from '../supercell/rigidity.js';
 import type { Supercell } from '../supercell/supercell.js';
 import { rigidMotions, type RigidMotion } from './rigid.js';
 import { chooseSolver } from './solvers.js';
-import type { Progress, SolverChoice, SolverName } from './solver.js';
+import type { Progress, SolverChoice, SolverName, SolveStatus } from './solver.js';
 
 export interface AnalysisOptions {
   /** Relative rank tolerance (× σ_max); default 1e-9. */
@@ -44,6 +44,12 @@ export interface FlexCounts {
   sigmaMax: number;
   gap: Gap;
   gapNote?: string;
+  /**
+   * How the count was decided and whether it is proved; `reasons` lists every doubt (an
+   * uncertified count, a narrow gap, a singular value near the cut), and any of them sets
+   * gap.ambiguous.
+   */
+  status: SolveStatus;
   maxwellCalladine: { lhs: number; rhs: number; ok: boolean };
   /** Whether the rigidity matrix is real (every phase ±1). */
   real: boolean;
@@ -108,7 +114,9 @@ export function analyseSupercell(sc: Supercell, options: AnalysisOptions = {}): 
   const { solve, name, reason } = chooseSolver(sc, options.solver ?? 'auto');
   let R: SparseMatrix | null = name === 'bloch' ? null : rigidityMatrix(sc);
   const spaces = solve(sc, R, { relative, memoryLimit: options.memoryLimit ?? DENSE_MEMORY_LIMIT, onProgress: options.onProgress, signal: options.signal });
-  const decision = spaces.decision;
+  const flagged = flagDecision(spaces.decision, spaces.status.certified, spaces.status.reasons);
+  const decision = flagged.decision;
+  const status: SolveStatus = { ...spaces.status, reasons: flagged.reasons };
   const flexes = n - decision.rank;
   const selfStresses = m - decision.rank;
   const motions = sc.real ? rigidMotions(sc) : [];
@@ -126,6 +134,7 @@ export function analyseSupercell(sc: Supercell, options: AnalysisOptions = {}): 
     sigmaMax: decision.sigmaMax,
     gap: decision.gap,
     ...(spaces.gapNote ? { gapNote: spaces.gapNote } : {}),
+    status,
     maxwellCalladine: { lhs: flexes - selfStresses, rhs: 2 * sc.jointCount - m, ok: flexes - selfStresses === 2 * sc.jointCount - m },
     real: sc.real,
     solver: name,

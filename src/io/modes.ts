@@ -14,6 +14,7 @@ import { CAUTION } from '../caution.js';
 import { InputError, type Problem } from '../errors.js';
 import { FLEX_CLASSES, type Anchor, type Classification, type FlexClass } from '../flex/classes.js';
 import type { FlexCounts } from '../flex/spaces.js';
+import type { SolveStatus } from '../flex/solver.js';
 import type { Framework } from '../framework/types.js';
 import { validateFramework } from '../framework/validate.js';
 import { formatBoundary } from '../supercell/boundary.js';
@@ -220,6 +221,7 @@ function countsCopy(c: FlexCounts): FlexCounts {
     solverReason: c.solverReason,
     groundedBars: c.groundedBars,
     droppedBars: c.droppedBars,
+    status: { ...c.status, fallback: c.status.fallback ? { ...c.status.fallback } : null, reasons: [...c.status.reasons] },
   };
 }
 
@@ -514,7 +516,7 @@ function readComplex(r: Reader, v: unknown, p: string): ComplexData | undefined 
 
 function readCounts(r: Reader, v: unknown, p: string): FlexCounts | undefined {
   const req = ['joints', 'bars', 'dof', 'flexes', 'trivialFlexes', 'rigidMotionsTested', 'selfStresses', 'rank', 'tolerance', 'sigmaMax', 'gap', 'maxwellCalladine', 'real', 'solver', 'solverReason', 'groundedBars', 'droppedBars'];
-  const o = r.record(v, p, req, ['gapNote']);
+  const o = r.record(v, p, req, ['gapNote', 'status']);
   if (!o) return undefined;
   const q = (k: string) => at(p, k);
   const tol = r.record(o.tolerance, q('tolerance'), ['relative', 'absolute']);
@@ -548,9 +550,31 @@ function readCounts(r: Reader, v: unknown, p: string): FlexCounts | undefined {
       solverReason: r.str(o.solverReason, q('solverReason')),
       groundedBars: r.int(o.groundedBars, q('groundedBars')),
       droppedBars: r.int(o.droppedBars, q('droppedBars')),
+      status: o.status === undefined ? UNRECORDED_STATUS : readStatus(r, o.status, q('status')),
     },
     ['gapNote'],
   );
+}
+
+/** Files written before counts carried a status read as uncertified, saying why. */
+const UNRECORDED_STATUS: SolveStatus = { certified: false, criterion: 'singular-values', converged: true, fallback: null, reasons: ['this file does not record how the count was decided'] };
+
+function readStatus(r: Reader, v: unknown, p: string): SolveStatus | undefined {
+  const o = r.record(v, p, ['certified', 'criterion', 'converged', 'fallback', 'reasons']);
+  if (!o) return undefined;
+  const q = (k: string) => at(p, k);
+  const solvers = ['dense', 'bloch', 'sparse'] as const;
+  const fallback = r.nullable(o.fallback, q('fallback'), (x, w) => {
+    const f = r.record(x, w, ['from', 'to', 'reason']);
+    return f ? complete<NonNullable<SolveStatus['fallback']>>({ from: r.oneOf(f.from, at(w, 'from'), solvers), to: r.oneOf(f.to, at(w, 'to'), solvers), reason: r.str(f.reason, at(w, 'reason')) }) : undefined;
+  });
+  return complete<SolveStatus>({
+    certified: r.bool(o.certified, q('certified')),
+    criterion: r.oneOf(o.criterion, q('criterion'), ['singular-values', 'inertia-and-residuals'] as const),
+    converged: r.bool(o.converged, q('converged')),
+    fallback,
+    reasons: r.list(o.reasons, q('reasons'), (x, w) => r.str(x, w)),
+  });
 }
 
 function readClassification(r: Reader, v: unknown, p: string): ModeClassification | undefined {

@@ -6,6 +6,17 @@
  * under AMBIGUOUS_RATIO means the rank is not clearly determined by the data.
  */
 export const DEFAULT_RELATIVE_TOLERANCE = 1e-9;
+/** Unit roundoff of IEEE doubles (2⁻⁵²). */
+export const EPS = 2.220446049250313e-16;
+
+/**
+ * Absolute accuracy assumed for computed singular values of an m×n matrix: 8·max(m, n)·ε·σ_max
+ * (backward-stable SVD algorithms perturb A by O(max(m, n)·ε·‖A‖) and singular values are
+ * perfectly conditioned, by Weyl's inequality; common practice, with a safety factor of 8).
+ */
+export function svdBackwardError(m: number, n: number, sigmaMax: number): number {
+  return 8 * Math.max(m, n, 1) * EPS * sigmaMax;
+}
 export const AMBIGUOUS_RATIO = 1e4;
 
 export interface Gap {
@@ -116,4 +127,57 @@ export function combineRankParts(parts: readonly RankPart[], rows: number, cols:
     sigmaMax,
     gap: { kept, dropped, ratio, ambiguous: ratio !== null && ratio < AMBIGUOUS_RATIO },
   };
+}
+
+/** A kept σ under this factor × the cut, or a dropped σ over the cut ÷ this factor, is flagged. */
+export const NEAR_CUT_FACTOR = 100;
+
+/**
+ * Why a decision deserves doubt, in words a user can act on: a narrow gap (ratio under
+ * AMBIGUOUS_RATIO), a kept σ within NEAR_CUT_FACTOR above the cut (a larger --tol would drop it:
+ * more flexes and self-stresses), or a dropped σ within NEAR_CUT_FACTOR below it (a smaller
+ * --tol would keep it: fewer). Empty when none applies.
+ */
+export function gapConcerns(d: RankDecision): string[] {
+  const out: string[] = [];
+  const { kept, dropped, ratio } = d.gap;
+  const tol = d.tolerance.absolute;
+  const rel = (v: number) => (d.sigmaMax > 0 ? v / d.sigmaMax : 0);
+  const fmt = (v: number) => v.toPrecision(3);
+  if (ratio !== null && ratio < AMBIGUOUS_RATIO) out.push(`the gap ratio ${fmt(ratio)} is under ${AMBIGUOUS_RATIO}`);
+  if (kept !== null && tol > 0 && kept < NEAR_CUT_FACTOR * tol) {
+    out.push(`the smallest kept σ ${fmt(kept)} is within ${NEAR_CUT_FACTOR}× above the cut ${fmt(tol)}: --tol ${fmt(rel(kept) * 1.01)} or larger would drop it (one more flex and self-stress each)`);
+  }
+  if (dropped !== null && dropped > 0 && dropped * NEAR_CUT_FACTOR > tol) {
+    out.push(`the largest dropped σ ${fmt(dropped)} is within ${NEAR_CUT_FACTOR}× below the cut ${fmt(tol)}: --tol ${fmt(rel(dropped) * 0.99)} or smaller would keep it (one flex and self-stress fewer)`);
+  }
+  return out;
+}
+
+/**
+ * The decision with `gap.ambiguous` set from every concern (gapConcerns) and from an uncertified
+ * count; the reasons come back beside it.
+ */
+export function flagDecision(d: RankDecision, certified: boolean, uncertifiedReasons: readonly string[]): { decision: RankDecision; reasons: string[] } {
+  const reasons = [...uncertifiedReasons, ...gapConcerns(d)];
+  const ambiguous = !certified || reasons.length > 0;
+  return { decision: { ...d, gap: { ...d.gap, ambiguous } }, reasons };
+}
+
+/**
+ * Certification of a decision made from computed singular values (dense SVD, Bloch block SVDs):
+ * each is accurate to about `backwardError` (absolute), so the count is proved when no singular
+ * value lies within that distance of the cut.
+ */
+export function certifyFromSingularValues(d: RankDecision, backwardError: number): { certified: boolean; reasons: string[] } {
+  const tol = d.tolerance.absolute;
+  const reasons: string[] = [];
+  if (d.gap.kept !== null && d.gap.kept - tol <= backwardError) {
+    reasons.push(`the smallest kept σ ${d.gap.kept.toPrecision(3)} is within the rounding bound ${backwardError.toPrecision(2)} of the cut`);
+  }
+  if (d.gap.dropped !== null && d.gap.dropped > 0 && tol - d.gap.dropped <= backwardError) {
+    reasons.push(`the largest dropped σ ${d.gap.dropped.toPrecision(3)} is within the rounding bound ${backwardError.toPrecision(2)} of the cut`);
+  }
+  if (tol <= backwardError && d.sigmaMax > 0) reasons.push(`the cut ${tol.toPrecision(3)} is below the rounding bound ${backwardError.toPrecision(2)} of the singular values: raise --tol`);
+  return { certified: reasons.length === 0, reasons };
 }

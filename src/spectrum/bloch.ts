@@ -33,10 +33,10 @@
  */
 import { InputError } from '../errors.js';
 import { sparseSpaces } from '../flex/solve-sparse.js';
-import { throwIfAborted, type Progress, type SolveOptions, type SolvedSpaces, type SpaceSolver } from '../flex/solver.js';
+import { throwIfAborted, type Progress, type SolveOptions, type SolvedSpaces, type SolveStatus, type SpaceSolver } from '../flex/solver.js';
 import { cis, type CVec } from '../linalg/complex.js';
 import { checkDenseFits, nullSpace, singularValues, type NullBasis } from '../linalg/dense.js';
-import { combineRankParts, rankPartOf, type RankPart } from '../linalg/rank.js';
+import { certifyFromSingularValues, combineRankParts, rankPartOf, svdBackwardError, type RankDecision, type RankPart } from '../linalg/rank.js';
 import { conjugateTranspose, type SparseMatrix } from '../linalg/sparse.js';
 import { boundaryIsReal, reduceTurns, type AxisRule, type Boundary } from '../supercell/boundary.js';
 import { rigidityMatrix } from '../supercell/rigidity.js';
@@ -682,6 +682,7 @@ function solveBloch(sc: Supercell, R: SparseMatrix | null, options: SolveOptions
     if (path === 'sparse') decisionProgress(++done / M, `Bloch block ${b + 1} of ${M}`);
   }
   const decision = combineRankParts(parts, fullRows, fullCols, relative, sigmaMax);
+  const status = blochStatus(blocks, paths, sparse, decision);
   const blockRank = parts.map((p) => p.rank);
 
   const basis = (which: 'flex' | 'stress'): NullBasis => {
@@ -722,6 +723,7 @@ function solveBloch(sc: Supercell, R: SparseMatrix | null, options: SolveOptions
   return {
     solver: 'bloch',
     decision,
+    status,
     ...(gapNote ? { gapNote } : {}),
     flexBasis() {
       if (!flexCache) flexCache = basis('flex');
@@ -732,6 +734,32 @@ function solveBloch(sc: Supercell, R: SparseMatrix | null, options: SolveOptions
       return stressCache;
     },
   };
+}
+
+/**
+ * The whole decision is certified when every block's is: SVD blocks by their singular values
+ * (each block's own backward-error bound, against the one global cut), sparse strip blocks by
+ * their own certificates.
+ */
+function blochStatus(blocks: BlochBlock[], paths: BlockPath[], sparse: (SolvedSpaces | null)[], decision: RankDecision): SolveStatus {
+  let err = 0;
+  blocks.forEach((blk, b) => {
+    if (paths[b] !== 'sparse') err = Math.max(err, svdBackwardError(blk.rows, blk.cols, decision.sigmaMax));
+  });
+  const svd = certifyFromSingularValues(decision, err);
+  const reasons = [...svd.reasons];
+  let certified = svd.certified;
+  let converged = true;
+  sparse.forEach((s, b) => {
+    if (!s) return;
+    converged &&= s.status.converged;
+    if (!s.status.certified) {
+      certified = false;
+      const phase = blocks[b].phase.map((v) => +v.toFixed(6)).join(', ');
+      for (const r of s.status.reasons) reasons.push(`strip block at phase (${phase}): ${r}`);
+    }
+  });
+  return { certified, criterion: sparse.some((s) => s) ? 'inertia-and-residuals' : 'singular-values', converged, fallback: null, reasons };
 }
 
 /** How the gap figures were found when strip blocks went to the sparse solver, with any block's caveats. */
