@@ -59,12 +59,28 @@ import {
   type Graph,
   type LdlFactor,
 } from '../linalg/banded.js';
+import {
+  addRandomColumns,
+  axpy,
+  cholQr2,
+  divide,
+  dotInto,
+  identityBlock,
+  matvec,
+  norm2,
+  orthonormalDrop,
+  orthonormalise,
+  rng,
+  type Block,
+} from '../linalg/block.js';
+import { certifyCount, type CountCertificate } from '../linalg/count-certificate.js';
 import { formatBytes, type NullBasis } from '../linalg/dense.js';
 import { AMBIGUOUS_RATIO, type RankDecision } from '../linalg/rank.js';
 import { conjugateTranspose, type SparseMatrix } from '../linalg/sparse.js';
 import type { Supercell } from '../supercell/supercell.js';
 import { rigidityMatrix } from '../supercell/rigidity.js';
-import { throwIfAborted, type Progress, type SolvedSpaces, type SolveOptions, type SpaceSolver } from './solver.js';
+import { denseFallback } from './solve-dense.js';
+import { throwIfAborted, type Progress, type SolvedSpaces, type SolveOptions, type SolveStatus, type SpaceSolver } from './solver.js';
 
 const EPS = 2.220446049250313e-16;
 /** Largest growth of the unpivoted LDLᴴ of K − τI for which it also serves as the shift-invert operator. */
@@ -85,6 +101,11 @@ export interface SparseSolveOptions extends SolveOptions {
    * absolute tolerance. It is reported as decision.sigmaMax.
    */
   sigmaMax?: number;
+  /**
+   * Another path for a count the sparse evidence cannot certify: returns its spaces, or null when
+   * it would not fit (then the count is returned flagged). The status records the fallback.
+   */
+  denseFallback?: (R: SparseMatrix) => SolvedSpaces | null;
   /** Text after "Fix: " in a TooLargeError, given the bytes needed and allowed. */
   sizeAdvice?: (bytesNeeded: number, bytesAllowed: number) => string;
 }
@@ -100,287 +121,6 @@ export interface SparsePlan {
   bandBytes: number;
   /** Flops of one band factorisation on the smaller side (≈ dim·b²; ×4 for complex). */
   factorFlops: number;
-}
-
-// ---------------------------------------------------------------------------------------------
-// Small helpers: random numbers, complex blocks of column vectors
-
-function rng(seed: number): () => number {
-  let t = seed >>> 0;
-  return () => {
-    t = (t + 0x6d2b79f5) >>> 0;
-    let r = Math.imul(t ^ (t >>> 15), 1 | t);
-    r = (r + Math.imul(r ^ (r >>> 7), 61 | r)) ^ r;
-    return ((r ^ (r >>> 14)) >>> 0) / 4294967296 - 0.5;
-  };
-}
-
-/** q column vectors of length `len`; `im` null for real data. */
-interface Block {
-  len: number;
-  re: Float64Array[];
-  im: Float64Array[] | null;
-}
-
-function randomColumn(b: Block, rand: () => number): { re: Float64Array; im: Float64Array | null } {
-  const re = new Float64Array(b.len);
-  for (let i = 0; i < b.len; i++) re[i] = rand();
-  let im: Float64Array | null = null;
-  if (b.im) {
-    im = new Float64Array(b.len);
-    for (let i = 0; i < b.len; i++) im[i] = rand();
-  }
-  return { re, im };
-}
-
-function addRandomColumns(b: Block, count: number, rand: () => number): void {
-  for (let c = 0; c < count; c++) {
-    const v = randomColumn(b, rand);
-    b.re.push(v.re);
-    if (b.im) b.im.push(v.im!);
-  }
-}
-
-/** y = A x (y overwritten). */
-function matvec(A: SparseMatrix, xr: Float64Array, xi: Float64Array | null, yr: Float64Array, yi: Float64Array | null): void {
-  const { rowPtr, colIdx, re } = A;
-  const im = A.im;
-  if (!im && !xi) {
-    for (let r = 0; r < A.rows; r++) {
-      let s = 0;
-      for (let k = rowPtr[r]; k < rowPtr[r + 1]; k++) s += re[k] * xr[colIdx[k]];
-      yr[r] = s;
-    }
-    if (yi) yi.fill(0);
-    return;
-  }
-  for (let r = 0; r < A.rows; r++) {
-    let sr = 0;
-    let si = 0;
-    for (let k = rowPtr[r]; k < rowPtr[r + 1]; k++) {
-      const c = colIdx[k];
-      const ar = re[k];
-      const ai = im ? im[k] : 0;
-      const br = xr[c];
-      const bi = xi ? xi[c] : 0;
-      sr += ar * br - ai * bi;
-      si += ar * bi + ai * br;
-    }
-    yr[r] = sr;
-    yi![r] = si;
-  }
-}
-
-function norm2(re: Float64Array, im: Float64Array | null): number {
-  let s = 0;
-  for (let i = 0; i < re.length; i++) s += re[i] * re[i];
-  if (im) for (let i = 0; i < im.length; i++) s += im[i] * im[i];
-  return Math.sqrt(s);
-}
-
-/**
- * x ← x − Σ_p q_p (q_pᴴ x) over the columns q_p (real parts qRe[p], imaginary parts qIm[p]),
- * for p < count; x is real when xi is null (then the q are real too).
- */
-function projectOut(xr: Float64Array, xi: Float64Array | null, qRe: Float64Array[], qIm: Float64Array[] | null, count: number): void {
-  const n = xr.length;
-  for (let p = 0; p < count; p++) {
-    const qr = qRe[p];
-    if (!xi) {
-      let c = 0;
-      for (let i = 0; i < n; i++) c += qr[i] * xr[i];
-      if (c !== 0) for (let i = 0; i < n; i++) xr[i] -= c * qr[i];
-    } else {
-      const qi = qIm![p];
-      let cr = 0;
-      let ci = 0;
-      for (let i = 0; i < n; i++) {
-        cr += qr[i] * xr[i] + qi[i] * xi[i];
-        ci += qr[i] * xi[i] - qi[i] * xr[i];
-      }
-      for (let i = 0; i < n; i++) {
-        xr[i] -= cr * qr[i] - ci * qi[i];
-        xi[i] -= cr * qi[i] + ci * qr[i];
-      }
-    }
-  }
-}
-
-/** Orthonormalise the columns in place (modified Gram–Schmidt, two passes); dependent columns are replaced by random ones. */
-function orthonormalise(b: Block, rand: () => number): void {
-  const q = b.re.length;
-  const n = b.len;
-  for (let j = 0; j < q; j++) {
-    for (let attempt = 0; ; attempt++) {
-      const xr = b.re[j];
-      const xi = b.im ? b.im[j] : null;
-      const n0 = norm2(xr, xi);
-      if (n0 > 0 && Number.isFinite(n0)) {
-        const s = 1 / n0;
-        for (let i = 0; i < n; i++) xr[i] *= s;
-        if (xi) for (let i = 0; i < n; i++) xi[i] *= s;
-        for (let pass = 0; pass < 2; pass++) projectOut(xr, xi, b.re, b.im, j);
-        const n1 = norm2(xr, xi);
-        if (n1 > 1e-10 || attempt >= 5) {
-          const s1 = 1 / n1;
-          for (let i = 0; i < n; i++) xr[i] *= s1;
-          if (xi) for (let i = 0; i < n; i++) xi[i] *= s1;
-          break;
-        }
-      }
-      const v = randomColumn(b, rand);
-      b.re[j] = v.re;
-      if (b.im) b.im[j] = v.im!;
-    }
-  }
-}
-
-/**
- * Orthonormalise the columns in place by Cholesky QR, twice (CholQR2; common practice for tall
- * blocks): G = XᴴX accumulated row by row, G = LLᴴ, X ← X·L⁻ᴴ. Returns false (X unchanged or
- * partly done, to be redone by Gram–Schmidt) when G is not numerically positive definite.
- */
-/** G[a][b] += M_ia M_ib for a ≤ b over row i (at offset o) of the row-major n×k M (hot loop). */
-function gramRowReal(G: Float64Array, M: Float64Array, o: number, k: number): void {
-  for (let a = 0; a < k; a++) {
-    const ar = M[o + a];
-    if (ar === 0) continue;
-    const g = a * k;
-    for (let b = a; b < k; b++) G[g + b] += ar * M[o + b];
-  }
-}
-
-/** y_b += Σ_{a ≤ b} M_ia T_ab for row i (at offset o) of M and upper triangular T (hot loop). */
-function rowTimesUpperReal(y: Float64Array, M: Float64Array, o: number, T: Float64Array, k: number): void {
-  for (let a = 0; a < k; a++) {
-    const mr = M[o + a];
-    if (mr === 0) continue;
-    const t = a * k;
-    for (let b = a; b < k; b++) y[b] += mr * T[t + b];
-  }
-}
-
-function cholQr2(X: Block): boolean {
-  const k = X.re.length;
-  const n = X.len;
-  if (k === 0) return true;
-  const complex = X.im !== null;
-  for (let pass = 0; pass < 2; pass++) {
-    // row-major copy
-    const Mr = new Float64Array(n * k);
-    const Mi = complex ? new Float64Array(n * k) : null;
-    for (let j = 0; j < k; j++) {
-      const xr = X.re[j];
-      for (let i = 0; i < n; i++) Mr[i * k + j] = xr[i];
-      if (Mi) {
-        const xi = X.im![j];
-        for (let i = 0; i < n; i++) Mi[i * k + j] = xi[i];
-      }
-    }
-    // G = MᴴM (upper triangle), G[a][b] = Σ_i conj(M_ia) M_ib
-    const Gr = new Float64Array(k * k);
-    const Gi = complex ? new Float64Array(k * k) : null;
-    for (let i = 0; i < n; i++) {
-      const o = i * k;
-      if (!Mi) {
-        gramRowReal(Gr, Mr, o, k);
-        continue;
-      }
-      for (let a = 0; a < k; a++) {
-        const ar = Mr[o + a];
-        const ai = Mi[o + a];
-        if (ar === 0 && ai === 0) continue;
-        const g = a * k;
-        for (let b = a; b < k; b++) {
-          const br = Mr[o + b];
-          const bi = Mi[o + b];
-          Gr[g + b] += ar * br + ai * bi;
-          Gi![g + b] += ar * bi - ai * br;
-        }
-      }
-    }
-    // Cholesky G = Uᴴ U with U upper triangular (U = Lᴴ), in place in the upper triangle
-    let maxDiag = 0;
-    for (let a = 0; a < k; a++) maxDiag = Math.max(maxDiag, Gr[a * k + a]);
-    for (let a = 0; a < k; a++) {
-      let d = Gr[a * k + a];
-      for (let l = 0; l < a; l++) d -= Gr[l * k + a] ** 2 + (Gi ? Gi[l * k + a] ** 2 : 0);
-      if (!(d > 1e-14 * maxDiag)) return false;
-      const u = Math.sqrt(d);
-      Gr[a * k + a] = u;
-      if (Gi) Gi[a * k + a] = 0;
-      for (let b = a + 1; b < k; b++) {
-        // U_ab = (G_ab − Σ_l conj(U_la) U_lb) / U_aa
-        let sr = Gr[a * k + b];
-        let si = Gi ? Gi[a * k + b] : 0;
-        for (let l = 0; l < a; l++) {
-          const ur = Gr[l * k + a];
-          const vr = Gr[l * k + b];
-          if (!Gi) sr -= ur * vr;
-          else {
-            const ui = Gi[l * k + a];
-            const vi = Gi[l * k + b];
-            sr -= ur * vr + ui * vi;
-            si -= ur * vi - ui * vr;
-          }
-        }
-        Gr[a * k + b] = sr / u;
-        if (Gi) Gi[a * k + b] = si / u;
-      }
-    }
-    // T = U⁻¹ (upper triangular), by columns: U T = I
-    const Tr = new Float64Array(k * k);
-    const Ti = complex ? new Float64Array(k * k) : null;
-    for (let b = 0; b < k; b++) {
-      Tr[b * k + b] = 1 / Gr[b * k + b];
-      for (let a = b - 1; a >= 0; a--) {
-        let sr = 0;
-        let si = 0;
-        for (let l = a + 1; l <= b; l++) {
-          const ur = Gr[a * k + l];
-          const tr = Tr[l * k + b];
-          if (!Ti) sr += ur * tr;
-          else {
-            const ui = Gi![a * k + l];
-            const ti = Ti[l * k + b];
-            sr += ur * tr - ui * ti;
-            si += ur * ti + ui * tr;
-          }
-        }
-        const inv = 1 / Gr[a * k + a];
-        Tr[a * k + b] = -sr * inv;
-        if (Ti) Ti[a * k + b] = -si * inv;
-      }
-    }
-    // X ← M·T row by row: y_b = Σ_{a ≤ b} M_ia T_ab
-    const yr = new Float64Array(k);
-    const yi = complex ? new Float64Array(k) : null;
-    for (let i = 0; i < n; i++) {
-      const o = i * k;
-      yr.fill(0);
-      if (yi) yi.fill(0);
-      if (!yi) rowTimesUpperReal(yr, Mr, o, Tr, k);
-      else {
-        for (let a = 0; a < k; a++) {
-          const mr = Mr[o + a];
-          const mi = Mi ? Mi[o + a] : 0;
-          if (mr === 0 && mi === 0) continue;
-          const t = a * k;
-          for (let b = a; b < k; b++) {
-            const tr = Tr[t + b];
-            const ti = Ti![t + b];
-            yr[b] += mr * tr - mi * ti;
-            yi[b] += mr * ti + mi * tr;
-          }
-        }
-      }
-      for (let b = 0; b < k; b++) {
-        X.re[b][i] = yr[b];
-        if (yi) X.im![b][i] = yi[b];
-      }
-    }
-  }
-  return true;
 }
 
 /**
@@ -735,7 +475,33 @@ function checkMemory(ctx: Ctx, side: Side, vectors: number, what: string): void 
 }
 
 /** Inertia of K − τI: the number of eigenvalues of K below τ (τ moved slightly after a breakdown). */
-function inertiaCount(side: Side, tau: number, ctx: Ctx, p0: number, p1: number): { below: number; shift: number; retries: number; growth: number; bw: number; F: LdlFactor } {
+interface InertiaRun {
+  below: number;
+  shift: number;
+  retries: number;
+  growth: number;
+  bw: number;
+  F: LdlFactor;
+}
+
+/**
+ * Backward-error bound e of an inertia count: the computed LDLᴴ is exact for K − τI + E with
+ * ‖E‖₂ ≤ 2ε·(bw+1)·(2bw+1)·growth·σ_max² (the componentwise bound c·(bw+1)·ε·|L||D||Lᴴ| of
+ * Gaussian elimination turned into a norm over a band of 2bw+1 diagonals; N. J. Higham, Accuracy
+ * and Stability of Numerical Algorithms, 2nd ed., SIAM 2002, ch. 9–10, constant from memory),
+ * plus the rounding of K = AᴴA itself (each entry a sum of at most nnz products, each ≤ σ_max²).
+ * Eigenvalues of K move by at most e (Weyl), so the count is exact for every threshold farther
+ * than e from τ.
+ */
+function inertiaError(side: Side, run: InertiaRun, sigmaMax: number): number {
+  const A = side.A;
+  let nnz = 0;
+  for (let r = 0; r < A.rows; r++) nnz = Math.max(nnz, A.rowPtr[r + 1] - A.rowPtr[r]);
+  const s2 = sigmaMax * sigmaMax;
+  return 2 * EPS * s2 * ((run.bw + 1) * (2 * run.bw + 1) * Math.max(1, run.growth) + 4 * nnz * nnz);
+}
+
+function inertiaCount(side: Side, tau: number, ctx: Ctx, p0: number, p1: number): InertiaRun {
   for (let retry = 0; ; retry++) {
     const shift = retry === 0 ? tau : perturbedShift(tau, 0.05, retry);
     const K = gramBand(side);
@@ -766,6 +532,9 @@ interface SubspaceResult {
   sweeps: number;
   converged: boolean;
   lanczosSteps?: number;
+  certificate: CountCertificate;
+  /** The phase-1 Ritz block and its σ (ascending), for certificates at other shifts. */
+  ritz: { X: Block; sigma: Float64Array };
 }
 
 function applyInverse(side: Side, F: LdlFactor, X: Block): void {
@@ -880,68 +649,6 @@ function rayleighRitz(side: Side, X: Block, take = X.re.length): { X: Block; sig
   };
 }
 
-function identityBlock(dim: number, complex: boolean): Block {
-  const b: Block = { len: dim, re: [], im: complex ? [] : null };
-  for (let j = 0; j < dim; j++) {
-    const v = new Float64Array(dim);
-    v[j] = 1;
-    b.re.push(v);
-    if (b.im) b.im.push(new Float64Array(dim));
-  }
-  return b;
-}
-
-/**
- * Columns of `cand` made orthonormal against `locked` and each other (two passes of modified
- * Gram–Schmidt); a column whose remainder is at most 1e-10 of its norm is dropped.
- */
-function orthonormalDrop(cand: Block, locked: Block, residuals?: number[]): Block {
-  const out: Block = { len: cand.len, re: [], im: cand.im ? [] : null };
-  const n = cand.len;
-  const basisRe = [...locked.re];
-  const basisIm = locked.im ? [...locked.im] : null;
-  for (let j = 0; j < cand.re.length; j++) {
-    const xr = cand.re[j].slice();
-    const xi = cand.im ? cand.im[j].slice() : null;
-    const n0 = norm2(xr, xi);
-    if (!(n0 > 0) || !Number.isFinite(n0)) continue;
-    for (let i = 0; i < n; i++) xr[i] /= n0;
-    if (xi) for (let i = 0; i < n; i++) xi[i] /= n0;
-    for (let pass = 0; pass < 2; pass++) projectOut(xr, xi, basisRe, basisIm, basisRe.length);
-    const n1 = norm2(xr, xi);
-    if (!(n1 > 1e-10)) continue;
-    residuals?.push(n0 * n1);
-    for (let i = 0; i < n; i++) xr[i] /= n1;
-    if (xi) for (let i = 0; i < n; i++) xi[i] /= n1;
-    basisRe.push(xr);
-    out.re.push(xr);
-    if (xi) {
-      basisIm!.push(xi);
-      out.im!.push(xi);
-    }
-  }
-  return out;
-}
-
-/**
- * y += a·x over n entries. A small function of its own: the caller runs once and stays
- * unoptimised for a long time, while this is hot from the first calls and is compiled early.
- */
-function axpy(y: Float64Array, x: Float64Array, a: number, n: number): void {
-  for (let t = 0; t < n; t++) y[t] += a * x[t];
-}
-
-/** s + Σ x_t y_t (same order as a plain loop; small and hot, like axpy). */
-function dotInto(s: number, x: Float64Array, y: Float64Array, n: number): number {
-  for (let t = 0; t < n; t++) s += x[t] * y[t];
-  return s;
-}
-
-/** x /= d entrywise. */
-function divide(x: Float64Array, d: number, n: number): void {
-  for (let t = 0; t < n; t++) x[t] /= d;
-}
-
 /** True when every change is settled: extrapolated remaining error ≤ max(rel·σ, floor). */
 function settled(sigma: Float64Array, prev: Float64Array | null, prevDelta: Float64Array | null, count: number, rel: number, floor: number): { ok: boolean; delta: Float64Array } {
   const delta = new Float64Array(count);
@@ -957,23 +664,34 @@ function settled(sigma: Float64Array, prev: Float64Array | null, prevDelta: Floa
   return { ok, delta };
 }
 
+/** What the inertia count says and how far it can be trusted (see certifyCount). */
+interface InertiaEvidence {
+  /** k: eigenvalues of this side's K below `tau` (structural zeros included). */
+  count: number;
+  tau: number;
+  /** Backward-error bound e of the count, absolute in K's units. */
+  error: number;
+}
+
 /**
- * The small singular subspace of A on one side, for the rank decision.
+ * The small singular subspace of A on one side, for a certified rank decision.
  *
- * Phase 1: shift-invert subspace iteration X ← orth(T·X), T the inverse of the band factor, with
- *   Rayleigh–Ritz, on q = k + p vectors, until the Ritz σ at or below the cut (and their number)
- *   settle; the block grows while fewer than 4 Ritz σ lie above the cut.
- * Phase 2: those null vectors are locked and the smallest σ above the cut is found by Lanczos on
+ * Phase 1: shift-invert subspace iteration X ← orth(T·X) with T = (K + δI)⁻¹ (positive definite:
+ *   it shrinks every direction by (λ + δ)⁻¹, so it cannot amplify values near a shift) or, when
+ *   the inertia count found nothing below τ, the inertia factor of K − τI (then positive
+ *   definite too); Rayleigh–Ritz on q = k + p vectors; after each sweep the count certificate
+ *   (certifyCount) is tried, and the iteration stops once it holds on two sweeps running with
+ *   the Ritz values settled. The block grows while fewer than 4 guard vectors lie beyond the k
+ *   the inertia count predicts, and by 8 more every 10 sweeps without a certificate.
+ * Phase 2: the null vectors are locked and the smallest σ above the cut is found by Lanczos on
  *   T orthogonal to them (lanczosSmallestKept).
  * When the block would cover the whole side, one Rayleigh–Ritz on the identity is exact.
  */
-function subspaceIteration(
+function certifiedIteration(
   side: Side,
   F: LdlFactor | null,
   q0: number,
-  structural: number,
-  /** How many eigenvalues of K lie below `shift` (the inertia count): their Ritz values must settle too. */
-  expected: { count: number; shift: number },
+  inertia: InertiaEvidence,
   tol: number,
   sigmaMax: number,
   ctx: Ctx,
@@ -983,42 +701,43 @@ function subspaceIteration(
   const dim = side.dim;
   const complex = ctx.complex;
   const minGuards = 4;
+  const certify = (X: Block, sigma: Float64Array) =>
+    certifyCount({ A: side.A, AH: side.AH, X, sigma, tol, inertia: inertia.count, tau: inertia.tau, inertiaError: inertia.error, sigmaMax });
   let q = Math.min(dim, q0);
   if (q >= dim || !F) {
     const r = rayleighRitz(side, identityBlock(dim, complex));
-    return { X: r.X, sigma: r.sigma, sweeps: 0, converged: true };
+    return { X: r.X, sigma: r.sigma, sweeps: 0, converged: true, certificate: certify(r.X, r.sigma), ritz: r };
   }
   let X: Block = { len: dim, re: [], im: complex ? [] : null };
   addRandomColumns(X, q, ctx.rand);
   const floor = Math.max(1e-3 * tol, 16 * EPS * sigmaMax);
-  const countNull = (sigma: Float64Array) => {
-    let k = 0;
-    while (k < sigma.length && (k < structural || sigma[k] <= tol)) k++;
-    return k;
-  };
   let prev: Float64Array | null = null;
   let prevDelta: Float64Array | null = null;
-  let prevNull = -1;
   let sigma: Float64Array = new Float64Array(0);
   let sweeps = 0;
-  let phase1Done = false;
-  // Nothing to find in phase 1 when the inertia count puts no eigenvalue of K below the shift
-  // (then every σ² ≥ shift ≫ tol²) and the side has no structural zeros: Lanczos alone then
-  // finds the smallest σ, from a random start (it still locks any vector at or below the cut).
-  const nothingBelow = expected.count === 0 && structural === 0 && expected.shift > tol * tol;
-  const maxPhase1 = nothingBelow ? 0 : 40;
-  if (nothingBelow) phase1Done = true;
-  for (let sweep = 1; sweep <= maxPhase1; sweep++) {
+  let converged = false;
+  let certificate: CountCertificate | null = null;
+  let certifiedRuns = 0;
+  // Nothing to find in phase 1 when the inertia count puts no eigenvalue below the shift: the
+  // count (0 null vectors) is then certified as it stands and Lanczos alone finds the smallest σ.
+  const nothingBelow = inertia.count === 0;
+  const maxSweeps = nothingBelow ? 0 : 60;
+  if (nothingBelow) {
+    converged = true;
+    certificate = certify(X, new Float64Array(0));
+  }
+  for (let sweep = 1; sweep <= maxSweeps; sweep++) {
     ctx.check();
     ctx.progress(p0 + ((p1 - p0) * Math.min(sweep, 8)) / 20, `subspace iteration on ${side.gramName}, sweep ${sweep} (${q} vectors)`);
     sweeps++;
     applyInverse(side, F, X);
-    orthonormalise(X, ctx.rand);
+    if (!cholQr2(X)) orthonormalise(X, ctx.rand);
     const rr = rayleighRitz(side, X);
     X = rr.X;
     sigma = rr.sigma;
-    const nNull = countNull(sigma);
-    if (q - nNull < minGuards && q < dim) {
+    let nNull = 0;
+    while (nNull < sigma.length && sigma[nNull] <= tol) nNull++;
+    if (q - Math.max(nNull, inertia.count) < minGuards && q < dim) {
       const grow = Math.min(dim - q, Math.max(8, Math.ceil(q / 2)));
       addRandomColumns(X, grow, ctx.rand);
       orthonormalise(X, ctx.rand);
@@ -1027,27 +746,43 @@ function subspaceIteration(
       prevDelta = null;
       continue;
     }
-    // every Ritz value the inertia count puts below the shift must settle, not only those
-    // already at or below the cut (a null vector still converging sits above the cut)
-    const below = sigma.filter((x) => x * x < expected.shift).length;
-    const need = Math.min(q, Math.max(nNull, expected.count));
+    const need = Math.min(q, Math.max(nNull, inertia.count));
     const s = settled(sigma, prev, prevDelta, need, 1e-8, floor);
-    const stable = nNull === prevNull && (below >= expected.count || q <= expected.count);
-    prevNull = nNull;
     prev = sigma;
     prevDelta = s.delta;
-    if (sweep >= 2 && s.ok && stable) {
-      phase1Done = true;
+    certificate = certify(X, sigma);
+    certifiedRuns = certificate.certified ? certifiedRuns + 1 : 0;
+    // the certificate is the proof; settled values only sharpen the reported dropped σ
+    if (certifiedRuns >= 3 || (certifiedRuns >= 2 && s.ok)) {
+      converged = true;
       break;
     }
+    if (sweep % 10 === 0 && !certificate.certified && q < dim) {
+      // slow convergence of values near the shift: more guard vectors widen the ratio
+      const grow = Math.min(dim - q, 8);
+      addRandomColumns(X, grow, ctx.rand);
+      orthonormalise(X, ctx.rand);
+      q += grow;
+      prev = null;
+      prevDelta = null;
+    }
   }
+  certificate ??= certify(X, sigma);
 
+  const phase1: Block = { len: dim, re: [...X.re], im: X.im ? [...X.im] : null };
+  const phase1Sigma = sigma;
   // Phase 2: lock the null vectors, then the smallest σ above the cut by Lanczos
-  const nNull = countNull(sigma);
+  let nNull = 0;
+  if (certificate.certified) nNull = certificate.provenNull;
+  else while (nNull < sigma.length && sigma[nNull] <= tol) nNull++;
   const locked: Block = { len: dim, re: X.re.slice(0, nNull), im: X.im ? X.im.slice(0, nNull) : null };
   const lockedSigma = Array.from(sigma.slice(0, nNull));
   const start: Block = { len: dim, re: X.re.slice(nNull, nNull + 1), im: X.im ? X.im.slice(nNull, nNull + 1) : null };
-  const kept = lanczosSmallestKept(side, F, locked, lockedSigma, start, tol, ctx, p0 + (p1 - p0) * 0.4, p1, nothingBelow);
+  const kept = lanczosSmallestKept(side, F, locked, lockedSigma, start, tol, ctx, p0 + (p1 - p0) * 0.4, p1, true);
+  if (locked.re.length > nNull && certificate.certified) {
+    // Lanczos found a null vector the certificate did not count: the evidence contradicts itself
+    certificate = { ...certificate, certified: false, reasons: [`Lanczos found ${locked.re.length - nNull} more vector(s) with ‖A v‖ ≤ tol than the certificate counted`] };
+  }
   const all: Block = { len: dim, re: [...locked.re], im: locked.im ? [...locked.im] : null };
   const allSigma = [...lockedSigma];
   if (kept.vector) {
@@ -1055,7 +790,7 @@ function subspaceIteration(
     if (all.im) all.im.push(kept.vector.im!);
     allSigma.push(kept.sigma);
   }
-  return { X: all, sigma: Float64Array.from(allSigma), sweeps, converged: phase1Done && kept.converged, lanczosSteps: kept.steps };
+  return { X: all, sigma: Float64Array.from(allSigma), sweeps, converged: converged && kept.converged, lanczosSteps: kept.steps, certificate, ritz: { X: phase1, sigma: phase1Sigma } };
 }
 
 /**
@@ -1328,27 +1063,51 @@ export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): Solv
   }
 
   const tau = (c * sigmaMax) ** 2;
-  const inertia = inertiaCount(countSide, tau, ctx, 0.06, 0.45);
-  const kCount = inertia.below;
-  const kOther = kCount + (otherSide.dim - countSide.dim);
-
-  // 3. subspace iteration on the side with fewer small eigenvalues
-  const side = kOther < kCount ? otherSide : countSide;
-  const kSide = side === countSide ? kCount : kOther;
+  const first = inertiaCount(countSide, tau, ctx, 0.06, 0.45);
+  const kCount = first.below;
+  // The inertia count runs on the smaller Gram matrix, and the subspace iteration on the same
+  // side: the other side has (its dimension − this one's) more small eigenvalues.
+  const side = countSide;
   const structural = side.dim - minmn;
-  const q0 = kSide + guards;
+  const evidenceOf = (run: InertiaRun): InertiaEvidence => ({ count: run.below, tau: run.shift, error: inertiaError(side, run, sigmaMax) });
+  const evidence = evidenceOf(first);
+  const q0 = kCount + guards;
   checkMemory(ctx, side, Math.min(side.dim, q0), 'the subspace iteration');
   const delta0 = (cChol * sigmaMax) ** 2;
-  // the inertia factor of K − τI serves as the shift-invert operator unless it grew
-  const reuse = side === countSide && inertia.growth <= GROWTH_LIMIT;
-  const F = q0 >= side.dim ? null : reuse ? inertia.F : choleskyShifted(side, delta0, tau, ctx, 0.45, 0.85).F;
-  const it = subspaceIteration(side, F, q0, structural, { count: kSide, shift: inertia.shift }, tol, sigmaMax, ctx, 0.85, 1);
+  // With nothing below τ the inertia factor of K − τI is a Cholesky factor of a positive
+  // definite matrix and serves as the operator; otherwise K + δI is factored (never the
+  // indefinite K − τI, whose inverse amplifies the values near τ as much as the null vectors).
+  const reuse = kCount === 0 && first.growth <= GROWTH_LIMIT;
+  const F = q0 >= side.dim ? null : reuse ? first.F : choleskyShifted(side, delta0, tau, ctx, 0.45, 0.85).F;
+  const it = certifiedIteration(side, F, q0, evidence, tol, sigmaMax, ctx, 0.85, 1);
+  let certificate = it.certificate;
+  const counts = [`${kCount} eigenvalues of ${countSide.gramName} below τ = (${c}·σ_max)²${first.retries ? ` (moved to (${(Math.sqrt(first.shift) / sigmaMax).toPrecision(4)}·σ_max)² after a zero pivot)` : ''}`];
+  // Values near τ that the iteration could not resolve: count again at lower shifts, as long as
+  // the count's rounding bound stays far below the shift, and match the same Ritz vectors.
+  for (const f of [1 / 16, 1 / 256]) {
+    if (certificate.certified) break;
+    const tau2 = tau * f;
+    if (!(tau2 > 1e3 * evidence.error && tau2 > 100 * tol * tol)) break;
+    const run = inertiaCount(countSide, tau2, ctx, 0.9, 0.95);
+    const ev = evidenceOf(run);
+    counts.push(`${run.below} below τ/${Math.round(1 / f)}`);
+    const again = certifyCount({ A: side.A, AH: side.AH, X: it.ritz.X, sigma: it.ritz.sigma, tol, inertia: ev.count, tau: ev.tau, inertiaError: ev.error, sigmaMax });
+    if (again.certified) certificate = again;
+  }
+  if (!certificate.certified && options.denseFallback) {
+    const fallback = options.denseFallback(R);
+    if (fallback) {
+      const reason = `the sparse count could not be certified (${certificate.reasons.join('; ')})`;
+      return { ...fallback, status: { ...fallback.status, fallback: { from: 'sparse', to: 'dense', reason } } };
+    }
+  }
+
+  // 4. the decision: the certified null count, else the Ritz σ at or below the cut (structural zeros first)
   const sigma = it.sigma;
   const q = sigma.length;
-
-  // 4. the decision from the Ritz σ (structural zeros of a non-square R first)
   let nullCount = Math.min(structural, q);
-  while (nullCount < q && sigma[nullCount] <= tol) nullCount++;
+  if (certificate.certified) nullCount = certificate.provenNull;
+  else while (nullCount < q && sigma[nullCount] <= tol) nullCount++;
   const rank = Math.max(0, Math.min(minmn, side.dim - nullCount));
   const nonStructuralDropped = nullCount - structural;
   const kept = nullCount < q ? sigma[nullCount] : null;
@@ -1360,19 +1119,30 @@ export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): Solv
     sigmaMax,
     gap: { kept: rank > 0 ? kept : null, dropped, ratio: rank > 0 ? ratio : null, ambiguous: rank > 0 && ratio !== null && ratio < AMBIGUOUS_RATIO },
   };
-  const operator = reuse ? 'the inertia factor of K − τI as shift-invert operator' : `a Cholesky factor of K + δI, δ = (${cChol}·σ_max)², as shift-invert operator`;
+  const operator = reuse ? 'the inertia factor of K − τI (positive definite: nothing below τ) as shift-invert operator' : `a Cholesky factor of K + δI, δ = (${cChol}·σ_max)², as shift-invert operator`;
+  const proof = certificate.certified
+    ? `certified: ${certificate.provenNull} orthonormal vectors with ‖${side.opName} V‖_F ≤ tol` +
+      (certificate.provenAbove ? ` and ${certificate.provenAbove} singular values proved in (${((certificate.lowestAbove ?? 0) / sigmaMax).toPrecision(3)}·σ_max, √(τ − e)) by their residuals` : '') +
+      ` match the inertia count ${certificate.inertia}; every kept σ ≥ ${((certificate.lowestAbove ?? certificate.upper) / sigmaMax).toPrecision(3)}·σ_max`
+    : `not certified: ${certificate.reasons.join('; ')}`;
   const notes = [
+    proof,
     F
       ? `σ from ‖${side.opName} v‖ of Ritz vectors of K = ${side.gramName}: ${
           it.sweeps === 0 ? 'none at or below the cut (the inertia count puts no eigenvalue below τ)' : `${nullCount} at or below the cut by subspace iteration (${it.sweeps} sweeps on ${q0}+ vectors)`
-        }, the smallest above it by Lanczos (${it.lanczosSteps ?? 0} steps), with ${operator}`
+        }, the smallest above it by Lanczos (${it.lanczosSteps ?? 0} steps, an upper bound), with ${operator}`
       : `σ from ‖${side.opName} v‖ of the eigenvectors of K = ${side.gramName} (a full Rayleigh–Ritz: the side has only ${side.dim} dimensions)`,
-    `inertia count at τ = (${c}·σ_max)²${inertia.retries ? ` (moved to (${(Math.sqrt(inertia.shift) / sigmaMax).toPrecision(4)}·σ_max)² after a zero pivot)` : ''}: ${kCount} eigenvalues of ${countSide.gramName} below τ`,
+    `inertia counts: ${counts.join(', ')}; rounding bound e = ${(evidence.error / (sigmaMax * sigmaMax)).toExponential(1)}·σ_max² (growth ${first.growth.toPrecision(3)})`,
     given !== undefined ? 'σ_max given by the caller' : `σ_max by Lanczos (${lz.steps} steps)`,
   ];
   if (!it.converged) notes.push('the iteration stopped before the smallest kept σ settled: it is an upper bound');
-  const growthBound = EPS * (inertia.bw + 1) * inertia.growth;
-  if (growthBound > 1e-2 * (c * c)) notes.push(`the inertia factorisation grew by ${inertia.growth.toExponential(2)}: its count may be off`);
+  const status: SolveStatus = {
+    certified: certificate.certified,
+    criterion: 'inertia-and-residuals',
+    converged: it.converged,
+    fallback: null,
+    reasons: certificate.certified ? [] : certificate.reasons,
+  };
   report(1, 'done');
 
   const nullDim = (s: Side) => s.dim - rank;
@@ -1399,7 +1169,7 @@ export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): Solv
   return {
     solver: 'sparse',
     decision,
-    status: { certified: true, criterion: 'inertia-and-residuals', converged: it.converged, fallback: null, reasons: [] },
+    status,
     gapNote: notes.join('; '),
     flexBasis: () => basisOf(flex),
     selfStressBasis: () => basisOf(stress),
@@ -1417,4 +1187,5 @@ function adviceFor(sc: Supercell): (need: number, allowed: number) => string {
   };
 }
 
-export const sparseSolver: SpaceSolver = (sc, R, options) => sparseSpaces(R ?? rigidityMatrix(sc), { ...options, sizeAdvice: adviceFor(sc) });
+export const sparseSolver: SpaceSolver = (sc, R, options) =>
+  sparseSpaces(R ?? rigidityMatrix(sc), { ...options, sizeAdvice: adviceFor(sc), denseFallback: denseFallback(options) });

@@ -32,6 +32,7 @@
  * iterate bars the same way, which solveBloch checks row by row.
  */
 import { InputError } from '../errors.js';
+import { denseFallback } from '../flex/solve-dense.js';
 import { sparseSpaces } from '../flex/solve-sparse.js';
 import { throwIfAborted, type Progress, type SolveOptions, type SolvedSpaces, type SolveStatus, type SpaceSolver } from '../flex/solver.js';
 import { cis, type CVec } from '../linalg/complex.js';
@@ -672,6 +673,7 @@ function solveBloch(sc: Supercell, R: SparseMatrix | null, options: SolveOptions
         signal: options.signal,
         sigmaMax,
         sizeAdvice: advice,
+        denseFallback: denseFallback(options),
         onProgress: (p) => inner?.(p),
       });
       inner = null;
@@ -769,10 +771,12 @@ function sparseNote(plan: BlochPlan, paths: BlockPath[], sparse: (SolvedSpaces |
   const solved = sparse.filter((s) => s !== null).length;
   const caveats: string[] = [];
   sparse.forEach((s, b) => {
-    if (!s?.gapNote) return;
+    if (!s) return;
     const phase = plan.blocks[b].phase[plan.kind === 'x' ? 0 : 1];
-    // the sparse solver's own warnings (see its gapNote): an unsettled iteration, a grown factor
-    for (const clause of s.gapNote.split('; ')) if (/upper bound|may be off/.test(clause)) caveats.push(`strip block at phase ${+phase.toFixed(6)}: ${clause}`);
+    // the sparse solver's own doubts, from its structured status
+    if (!s.status.certified) for (const r of s.status.reasons) caveats.push(`strip block at phase ${+phase.toFixed(6)}: ${r}`);
+    if (s.status.fallback) caveats.push(`strip block at phase ${+phase.toFixed(6)}: solved densely (${s.status.fallback.reason})`);
+    else if (!s.status.converged) caveats.push(`strip block at phase ${+phase.toFixed(6)}: the iteration stopped before the smallest kept σ settled (an upper bound)`);
   });
   const head =
     `${count} of ${plan.blocks.length} strip blocks by the banded sparse solver` +

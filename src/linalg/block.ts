@@ -1,0 +1,349 @@
+/**
+ * Blocks of column vectors (real or complex) and the operations the iterative solvers share on
+ * them: a seeded random generator, sparse mat-vec, norms, Gram–Schmidt projection and
+ * orthonormalisation (two passes of modified Gram–Schmidt, or Cholesky QR twice), and the small
+ * hot-loop kernels (axpy, dot, divide) kept as separate functions so V8 compiles them early.
+ */
+import type { SparseMatrix } from './sparse.js';
+
+
+export function rng(seed: number): () => number {
+  let t = seed >>> 0;
+  return () => {
+    t = (t + 0x6d2b79f5) >>> 0;
+    let r = Math.imul(t ^ (t >>> 15), 1 | t);
+    r = (r + Math.imul(r ^ (r >>> 7), 61 | r)) ^ r;
+    return ((r ^ (r >>> 14)) >>> 0) / 4294967296 - 0.5;
+  };
+}
+
+/** q column vectors of length `len`; `im` null for real data. */
+export interface Block {
+  len: number;
+  re: Float64Array[];
+  im: Float64Array[] | null;
+}
+
+export function randomColumn(b: Block, rand: () => number): { re: Float64Array; im: Float64Array | null } {
+  const re = new Float64Array(b.len);
+  for (let i = 0; i < b.len; i++) re[i] = rand();
+  let im: Float64Array | null = null;
+  if (b.im) {
+    im = new Float64Array(b.len);
+    for (let i = 0; i < b.len; i++) im[i] = rand();
+  }
+  return { re, im };
+}
+
+export function addRandomColumns(b: Block, count: number, rand: () => number): void {
+  for (let c = 0; c < count; c++) {
+    const v = randomColumn(b, rand);
+    b.re.push(v.re);
+    if (b.im) b.im.push(v.im!);
+  }
+}
+
+/** y = A x (y overwritten). */
+export function matvec(A: SparseMatrix, xr: Float64Array, xi: Float64Array | null, yr: Float64Array, yi: Float64Array | null): void {
+  const { rowPtr, colIdx, re } = A;
+  const im = A.im;
+  if (!im && !xi) {
+    for (let r = 0; r < A.rows; r++) {
+      let s = 0;
+      for (let k = rowPtr[r]; k < rowPtr[r + 1]; k++) s += re[k] * xr[colIdx[k]];
+      yr[r] = s;
+    }
+    if (yi) yi.fill(0);
+    return;
+  }
+  for (let r = 0; r < A.rows; r++) {
+    let sr = 0;
+    let si = 0;
+    for (let k = rowPtr[r]; k < rowPtr[r + 1]; k++) {
+      const c = colIdx[k];
+      const ar = re[k];
+      const ai = im ? im[k] : 0;
+      const br = xr[c];
+      const bi = xi ? xi[c] : 0;
+      sr += ar * br - ai * bi;
+      si += ar * bi + ai * br;
+    }
+    yr[r] = sr;
+    yi![r] = si;
+  }
+}
+
+export function norm2(re: Float64Array, im: Float64Array | null): number {
+  let s = 0;
+  for (let i = 0; i < re.length; i++) s += re[i] * re[i];
+  if (im) for (let i = 0; i < im.length; i++) s += im[i] * im[i];
+  return Math.sqrt(s);
+}
+
+/**
+ * x ← x − Σ_p q_p (q_pᴴ x) over the columns q_p (real parts qRe[p], imaginary parts qIm[p]),
+ * for p < count; x is real when xi is null (then the q are real too).
+ */
+export function projectOut(xr: Float64Array, xi: Float64Array | null, qRe: Float64Array[], qIm: Float64Array[] | null, count: number): void {
+  const n = xr.length;
+  for (let p = 0; p < count; p++) {
+    const qr = qRe[p];
+    if (!xi) {
+      let c = 0;
+      for (let i = 0; i < n; i++) c += qr[i] * xr[i];
+      if (c !== 0) for (let i = 0; i < n; i++) xr[i] -= c * qr[i];
+    } else {
+      const qi = qIm![p];
+      let cr = 0;
+      let ci = 0;
+      for (let i = 0; i < n; i++) {
+        cr += qr[i] * xr[i] + qi[i] * xi[i];
+        ci += qr[i] * xi[i] - qi[i] * xr[i];
+      }
+      for (let i = 0; i < n; i++) {
+        xr[i] -= cr * qr[i] - ci * qi[i];
+        xi[i] -= cr * qi[i] + ci * qr[i];
+      }
+    }
+  }
+}
+
+/** Orthonormalise the columns in place (modified Gram–Schmidt, two passes); dependent columns are replaced by random ones. */
+export function orthonormalise(b: Block, rand: () => number): void {
+  const q = b.re.length;
+  const n = b.len;
+  for (let j = 0; j < q; j++) {
+    for (let attempt = 0; ; attempt++) {
+      const xr = b.re[j];
+      const xi = b.im ? b.im[j] : null;
+      const n0 = norm2(xr, xi);
+      if (n0 > 0 && Number.isFinite(n0)) {
+        const s = 1 / n0;
+        for (let i = 0; i < n; i++) xr[i] *= s;
+        if (xi) for (let i = 0; i < n; i++) xi[i] *= s;
+        for (let pass = 0; pass < 2; pass++) projectOut(xr, xi, b.re, b.im, j);
+        const n1 = norm2(xr, xi);
+        if (n1 > 1e-10 || attempt >= 5) {
+          const s1 = 1 / n1;
+          for (let i = 0; i < n; i++) xr[i] *= s1;
+          if (xi) for (let i = 0; i < n; i++) xi[i] *= s1;
+          break;
+        }
+      }
+      const v = randomColumn(b, rand);
+      b.re[j] = v.re;
+      if (b.im) b.im[j] = v.im!;
+    }
+  }
+}
+
+/**
+ * Orthonormalise the columns in place by Cholesky QR, twice (CholQR2; common practice for tall
+ * blocks): G = XᴴX accumulated row by row, G = LLᴴ, X ← X·L⁻ᴴ. Returns false (X unchanged or
+ * partly done, to be redone by Gram–Schmidt) when G is not numerically positive definite.
+ */
+/** G[a][b] += M_ia M_ib for a ≤ b over row i (at offset o) of the row-major n×k M (hot loop). */
+function gramRowReal(G: Float64Array, M: Float64Array, o: number, k: number): void {
+  for (let a = 0; a < k; a++) {
+    const ar = M[o + a];
+    if (ar === 0) continue;
+    const g = a * k;
+    for (let b = a; b < k; b++) G[g + b] += ar * M[o + b];
+  }
+}
+
+/** y_b += Σ_{a ≤ b} M_ia T_ab for row i (at offset o) of M and upper triangular T (hot loop). */
+function rowTimesUpperReal(y: Float64Array, M: Float64Array, o: number, T: Float64Array, k: number): void {
+  for (let a = 0; a < k; a++) {
+    const mr = M[o + a];
+    if (mr === 0) continue;
+    const t = a * k;
+    for (let b = a; b < k; b++) y[b] += mr * T[t + b];
+  }
+}
+
+export function cholQr2(X: Block): boolean {
+  const k = X.re.length;
+  const n = X.len;
+  if (k === 0) return true;
+  const complex = X.im !== null;
+  for (let pass = 0; pass < 2; pass++) {
+    // row-major copy
+    const Mr = new Float64Array(n * k);
+    const Mi = complex ? new Float64Array(n * k) : null;
+    for (let j = 0; j < k; j++) {
+      const xr = X.re[j];
+      for (let i = 0; i < n; i++) Mr[i * k + j] = xr[i];
+      if (Mi) {
+        const xi = X.im![j];
+        for (let i = 0; i < n; i++) Mi[i * k + j] = xi[i];
+      }
+    }
+    // G = MᴴM (upper triangle), G[a][b] = Σ_i conj(M_ia) M_ib
+    const Gr = new Float64Array(k * k);
+    const Gi = complex ? new Float64Array(k * k) : null;
+    for (let i = 0; i < n; i++) {
+      const o = i * k;
+      if (!Mi) {
+        gramRowReal(Gr, Mr, o, k);
+        continue;
+      }
+      for (let a = 0; a < k; a++) {
+        const ar = Mr[o + a];
+        const ai = Mi[o + a];
+        if (ar === 0 && ai === 0) continue;
+        const g = a * k;
+        for (let b = a; b < k; b++) {
+          const br = Mr[o + b];
+          const bi = Mi[o + b];
+          Gr[g + b] += ar * br + ai * bi;
+          Gi![g + b] += ar * bi - ai * br;
+        }
+      }
+    }
+    // Cholesky G = Uᴴ U with U upper triangular (U = Lᴴ), in place in the upper triangle
+    let maxDiag = 0;
+    for (let a = 0; a < k; a++) maxDiag = Math.max(maxDiag, Gr[a * k + a]);
+    for (let a = 0; a < k; a++) {
+      let d = Gr[a * k + a];
+      for (let l = 0; l < a; l++) d -= Gr[l * k + a] ** 2 + (Gi ? Gi[l * k + a] ** 2 : 0);
+      if (!(d > 1e-14 * maxDiag)) return false;
+      const u = Math.sqrt(d);
+      Gr[a * k + a] = u;
+      if (Gi) Gi[a * k + a] = 0;
+      for (let b = a + 1; b < k; b++) {
+        // U_ab = (G_ab − Σ_l conj(U_la) U_lb) / U_aa
+        let sr = Gr[a * k + b];
+        let si = Gi ? Gi[a * k + b] : 0;
+        for (let l = 0; l < a; l++) {
+          const ur = Gr[l * k + a];
+          const vr = Gr[l * k + b];
+          if (!Gi) sr -= ur * vr;
+          else {
+            const ui = Gi[l * k + a];
+            const vi = Gi[l * k + b];
+            sr -= ur * vr + ui * vi;
+            si -= ur * vi - ui * vr;
+          }
+        }
+        Gr[a * k + b] = sr / u;
+        if (Gi) Gi[a * k + b] = si / u;
+      }
+    }
+    // T = U⁻¹ (upper triangular), by columns: U T = I
+    const Tr = new Float64Array(k * k);
+    const Ti = complex ? new Float64Array(k * k) : null;
+    for (let b = 0; b < k; b++) {
+      Tr[b * k + b] = 1 / Gr[b * k + b];
+      for (let a = b - 1; a >= 0; a--) {
+        let sr = 0;
+        let si = 0;
+        for (let l = a + 1; l <= b; l++) {
+          const ur = Gr[a * k + l];
+          const tr = Tr[l * k + b];
+          if (!Ti) sr += ur * tr;
+          else {
+            const ui = Gi![a * k + l];
+            const ti = Ti[l * k + b];
+            sr += ur * tr - ui * ti;
+            si += ur * ti + ui * tr;
+          }
+        }
+        const inv = 1 / Gr[a * k + a];
+        Tr[a * k + b] = -sr * inv;
+        if (Ti) Ti[a * k + b] = -si * inv;
+      }
+    }
+    // X ← M·T row by row: y_b = Σ_{a ≤ b} M_ia T_ab
+    const yr = new Float64Array(k);
+    const yi = complex ? new Float64Array(k) : null;
+    for (let i = 0; i < n; i++) {
+      const o = i * k;
+      yr.fill(0);
+      if (yi) yi.fill(0);
+      if (!yi) rowTimesUpperReal(yr, Mr, o, Tr, k);
+      else {
+        for (let a = 0; a < k; a++) {
+          const mr = Mr[o + a];
+          const mi = Mi ? Mi[o + a] : 0;
+          if (mr === 0 && mi === 0) continue;
+          const t = a * k;
+          for (let b = a; b < k; b++) {
+            const tr = Tr[t + b];
+            const ti = Ti![t + b];
+            yr[b] += mr * tr - mi * ti;
+            yi[b] += mr * ti + mi * tr;
+          }
+        }
+      }
+      for (let b = 0; b < k; b++) {
+        X.re[b][i] = yr[b];
+        if (yi) X.im![b][i] = yi[b];
+      }
+    }
+  }
+  return true;
+}
+
+export function identityBlock(dim: number, complex: boolean): Block {
+  const b: Block = { len: dim, re: [], im: complex ? [] : null };
+  for (let j = 0; j < dim; j++) {
+    const v = new Float64Array(dim);
+    v[j] = 1;
+    b.re.push(v);
+    if (b.im) b.im.push(new Float64Array(dim));
+  }
+  return b;
+}
+
+/**
+ * Columns of `cand` made orthonormal against `locked` and each other (two passes of modified
+ * Gram–Schmidt); a column whose remainder is at most 1e-10 of its norm is dropped.
+ */
+export function orthonormalDrop(cand: Block, locked: Block, residuals?: number[]): Block {
+  const out: Block = { len: cand.len, re: [], im: cand.im ? [] : null };
+  const n = cand.len;
+  const basisRe = [...locked.re];
+  const basisIm = locked.im ? [...locked.im] : null;
+  for (let j = 0; j < cand.re.length; j++) {
+    const xr = cand.re[j].slice();
+    const xi = cand.im ? cand.im[j].slice() : null;
+    const n0 = norm2(xr, xi);
+    if (!(n0 > 0) || !Number.isFinite(n0)) continue;
+    for (let i = 0; i < n; i++) xr[i] /= n0;
+    if (xi) for (let i = 0; i < n; i++) xi[i] /= n0;
+    for (let pass = 0; pass < 2; pass++) projectOut(xr, xi, basisRe, basisIm, basisRe.length);
+    const n1 = norm2(xr, xi);
+    if (!(n1 > 1e-10)) continue;
+    residuals?.push(n0 * n1);
+    for (let i = 0; i < n; i++) xr[i] /= n1;
+    if (xi) for (let i = 0; i < n; i++) xi[i] /= n1;
+    basisRe.push(xr);
+    out.re.push(xr);
+    if (xi) {
+      basisIm!.push(xi);
+      out.im!.push(xi);
+    }
+  }
+  return out;
+}
+
+/**
+ * y += a·x over n entries. A small function of its own: the caller runs once and stays
+ * unoptimised for a long time, while this is hot from the first calls and is compiled early.
+ */
+export function axpy(y: Float64Array, x: Float64Array, a: number, n: number): void {
+  for (let t = 0; t < n; t++) y[t] += a * x[t];
+}
+
+/** s + Σ x_t y_t (same order as a plain loop; small and hot, like axpy). */
+export function dotInto(s: number, x: Float64Array, y: Float64Array, n: number): number {
+  for (let t = 0; t < n; t++) s += x[t] * y[t];
+  return s;
+}
+
+/** x /= d entrywise. */
+export function divide(x: Float64Array, d: number, n: number): void {
+  for (let t = 0; t < n; t++) x[t] /= d;
+}
+
