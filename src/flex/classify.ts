@@ -64,10 +64,11 @@
  * decisions (is a region's flex new?) count a residual ≤ SPAN_TOLERANCE as already known.
  * Cost: about 3·N1·N2 window and 4·s·(N1 + N2) strip problems, each small.
  */
-import { EigenvalueDecomposition, Matrix, SingularValueDecomposition } from 'ml-matrix';
+import { Matrix, SingularValueDecomposition } from 'ml-matrix';
 import { InputError } from '../errors.js';
 import { cdot as dot, cnorm as norm, type CVec } from '../linalg/complex.js';
 import { DENSE_MEMORY_LIMIT, nullSpace, singularValues } from '../linalg/dense.js';
+import { hermitianEigen as denseHermitianEigen } from '../linalg/hermitian-eig.js';
 import type { SparseMatrix } from '../linalg/sparse.js';
 import type { Supercell } from '../supercell/supercell.js';
 import type { Anchor, Classification, ClassifiedMode, ClassifyOptions, FlexClass } from './classes.js';
@@ -118,52 +119,23 @@ interface HermitianEigen {
 }
 
 /**
- * Eigen-decomposition of a Hermitian k×k matrix H = A + iB given row-major. A complex H goes
- * through the real symmetric embedding [[A, −B], [B, A]] whose eigenvalues are H's, each
- * twice; the complex eigenvectors are picked from the embedded ones by Gram–Schmidt.
+ * Eigen-decomposition of a Hermitian k×k matrix H = A + iB given row-major (im null for a real
+ * H), by the shared dense solver (src/linalg/hermitian-eig.ts): k orthonormal eigenvectors
+ * however the eigenvalues repeat; imaginary parts are zero for a real H.
  */
 export function hermitianEigen(re: Float64Array, im: Float64Array | null, k: number): HermitianEigen {
   if (k === 0) return { values: [], vectors: [] };
-  if (im === null) {
-    const M = new Matrix(k, k);
-    for (let a = 0; a < k; a++) for (let b = 0; b < k; b++) M.set(a, b, 0.5 * (re[a * k + b] + re[b * k + a]));
-    const evd = new EigenvalueDecomposition(M, { assumeSymmetric: true });
-    const vals = evd.realEigenvalues;
-    const V = evd.eigenvectorMatrix;
-    const order = vals.map((_, i) => i).sort((a, b) => vals[a] - vals[b]);
-    return {
-      values: order.map((i) => vals[i]),
-      vectors: order.map((i) => ({ re: Float64Array.from(V.getColumn(i)), im: new Float64Array(k) })),
-    };
-  }
-  const E = new Matrix(2 * k, 2 * k);
-  for (let a = 0; a < k; a++)
-    for (let b = 0; b < k; b++) {
-      const r = 0.5 * (re[a * k + b] + re[b * k + a]);
-      const i = 0.5 * (im[a * k + b] - im[b * k + a]);
-      E.set(a, b, r);
-      E.set(a + k, b + k, r);
-      E.set(a, b + k, -i);
-      E.set(a + k, b, i);
-    }
-  const evd = new EigenvalueDecomposition(E, { assumeSymmetric: true });
-  const vals = evd.realEigenvalues;
-  const V = evd.eigenvectorMatrix;
-  const order = vals.map((_, i) => i).sort((a, b) => vals[a] - vals[b]);
-  const values: number[] = [];
+  const { values, vre, vim } = denseHermitianEigen(re, im, k);
   const vectors: { re: Float64Array; im: Float64Array }[] = [];
-  for (const idx of order) {
-    if (vectors.length === k) break;
-    const col = V.getColumn(idx);
-    const v = { re: Float64Array.from(col.slice(0, k)), im: Float64Array.from(col.slice(k)) };
-    for (let pass = 0; pass < 2; pass++) for (const u of vectors) subtractProjection(v, u);
-    const nv = norm(v);
-    if (nv < 0.5) continue; // the partner (−y; x) of an eigenvector already taken
-    scaleInPlace(v, 1 / nv);
-    values.push(vals[idx]);
+  for (let j = 0; j < k; j++) {
+    const v = { re: new Float64Array(k), im: new Float64Array(k) };
+    for (let i = 0; i < k; i++) {
+      v.re[i] = vre[i * k + j];
+      if (vim) v.im[i] = vim[i * k + j];
+    }
     vectors.push(v);
   }
-  return { values, vectors };
+  return { values: Array.from(values), vectors };
 }
 
 

@@ -37,6 +37,7 @@ import { sparseSpaces } from '../flex/solve-sparse.js';
 import { throwIfAborted, type Progress, type SolveOptions, type SolvedSpaces, type SolveStatus, type SpaceSolver } from '../flex/solver.js';
 import { cis, type CVec } from '../linalg/complex.js';
 import { checkDenseFits, nullSpace, singularValues, type NullBasis } from '../linalg/dense.js';
+import { seededUniform } from '../linalg/random.js';
 import { certifyFromSingularValues, combineRankParts, rankPartOf, svdBackwardError, type RankDecision, type RankPart } from '../linalg/rank.js';
 import { conjugateTranspose, type SparseMatrix } from '../linalg/sparse.js';
 import { boundaryIsReal, reduceTurns, type AxisRule, type Boundary } from '../supercell/boundary.js';
@@ -216,11 +217,7 @@ interface TopLanczos {
 function topLanczos(A: SparseMatrix, AH: SparseMatrix, check: () => void): TopLanczos {
   const n = A.cols;
   const complex = A.im !== null;
-  let seed = 0x9e3779b9;
-  const rand = () => {
-    seed = (Math.imul(seed ^ (seed >>> 15), 0x2c1b3c6d) + 0x6d2b79f5) >>> 0;
-    return seed / 4294967296 - 0.5;
-  };
+  const rand = seededUniform(0x9e3779b9, -0.5, 0.5);
   // three rotating vectors: previous, current, next
   const bufRe = [new Float64Array(n), new Float64Array(n), new Float64Array(n)];
   const bufIm = complex ? [new Float64Array(n), new Float64Array(n), new Float64Array(n)] : null;
