@@ -46,7 +46,6 @@
  *     against max(1e-3·tol, 16ε·σ_max), solving again while one is larger.
  * Complex (twisted) matrices use the Hermitian LDLᴴ throughout; nothing is embedded.
  */
-import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 import { TooLargeError } from '../errors.js';
 import {
   bandBytes,
@@ -70,9 +69,11 @@ import {
   norm2,
   orthonormalDrop,
   orthonormalise,
-  rng,
   type Block,
 } from '../linalg/block.js';
+import { hermitianEigen } from '../linalg/hermitian-eig.js';
+import { topLanczos } from '../linalg/lanczos.js';
+import { seededUniform } from '../linalg/random.js';
 import { certifyCount, type CountCertificate } from '../linalg/count-certificate.js';
 import { formatBytes, type NullBasis } from '../linalg/dense.js';
 import { AMBIGUOUS_RATIO, type RankDecision } from '../linalg/rank.js';
@@ -93,6 +94,8 @@ export interface SparseSolveOptions extends SolveOptions {
   choleskyShift?: number;
   /** Guard vectors beyond the expected null space; default 8 (at least 4). */
   guardVectors?: number;
+  /** Most subspace-iteration sweeps before the evidence is judged as it stands; default 60. */
+  maxSweeps?: number;
   /** Seed of the deterministic start vectors; default 1. */
   seed?: number;
   /**
@@ -121,118 +124,6 @@ export interface SparsePlan {
   bandBytes: number;
   /** Flops of one band factorisation on the smaller side (≈ dim·b²; ×4 for complex). */
   factorFlops: number;
-}
-
-/**
- * Eigen-decomposition of a small Hermitian q×q matrix H (row-major re/im): ascending values,
- * eigenvectors as columns (vre[i*q + j] = component i of vector j).
- */
-function hermitianEig(hre: Float64Array, him: Float64Array | null, q: number): { values: Float64Array; vre: Float64Array; vim: Float64Array | null } {
-  if (!him) {
-    const M = new Matrix(q, q);
-    for (let i = 0; i < q; i++) for (let j = 0; j < q; j++) M.set(i, j, 0.5 * (hre[i * q + j] + hre[j * q + i]));
-    const e = new EigenvalueDecomposition(M, { assumeSymmetric: true });
-    const vals = e.realEigenvalues;
-    const V = e.eigenvectorMatrix;
-    const idx = vals.map((_, i) => i).sort((a, b) => vals[a] - vals[b]);
-    const values = new Float64Array(q);
-    const vre = new Float64Array(q * q);
-    idx.forEach((src, j) => {
-      values[j] = vals[src];
-      for (let i = 0; i < q; i++) vre[i * q + j] = V.get(i, src);
-    });
-    return { values, vre, vim: null };
-  }
-  return complexJacobi(hre, him, q);
-}
-
-/** Cyclic Jacobi for a complex Hermitian matrix (common practice; Golub & Van Loan, Matrix Computations, §8.5, from memory). */
-function complexJacobi(hre0: Float64Array, him0: Float64Array, q: number): { values: Float64Array; vre: Float64Array; vim: Float64Array } {
-  const ar = hre0.slice();
-  const ai = him0.slice();
-  // make exactly Hermitian
-  for (let i = 0; i < q; i++) {
-    ai[i * q + i] = 0;
-    for (let j = i + 1; j < q; j++) {
-      const r = 0.5 * (ar[i * q + j] + ar[j * q + i]);
-      const m = 0.5 * (ai[i * q + j] - ai[j * q + i]);
-      ar[i * q + j] = r;
-      ar[j * q + i] = r;
-      ai[i * q + j] = m;
-      ai[j * q + i] = -m;
-    }
-  }
-  const vr = new Float64Array(q * q);
-  const vi = new Float64Array(q * q);
-  for (let i = 0; i < q; i++) vr[i * q + i] = 1;
-  let total = 0;
-  for (let i = 0; i < q * q; i++) total += ar[i] * ar[i] + ai[i] * ai[i];
-  for (let sweep = 0; sweep < 60; sweep++) {
-    let off = 0;
-    for (let i = 0; i < q; i++) for (let j = 0; j < q; j++) if (i !== j) off += ar[i * q + j] ** 2 + ai[i * q + j] ** 2;
-    if (off <= 1e-32 * total || off === 0) break;
-    for (let p = 0; p < q - 1; p++) {
-      for (let r = p + 1; r < q; r++) {
-        const hr = ar[p * q + r];
-        const hi = ai[p * q + r];
-        const c = Math.hypot(hr, hi);
-        if (c === 0) continue;
-        const app = ar[p * q + p];
-        const arr = ar[r * q + r];
-        if (c <= 1e-18 * Math.sqrt(Math.abs(app * arr)) ) {
-          ar[p * q + r] = ar[r * q + p] = ai[p * q + r] = ai[r * q + p] = 0;
-          continue;
-        }
-        // H_pr = c·e^{iφ}; with P = diag(1, e^{−iφ}) the 2×2 block becomes real [[a, c], [c, b]]
-        const er = hr / c; // e^{iφ}
-        const ei = hi / c;
-        const zeta = (arr - app) / (2 * c);
-        const t = (zeta >= 0 ? 1 : -1) / (Math.abs(zeta) + Math.sqrt(1 + zeta * zeta));
-        const cs = 1 / Math.sqrt(1 + t * t);
-        const sn = t * cs;
-        // V = P·[[cs, sn], [−sn, cs]] = [[cs, sn], [−sn·e^{−iφ}, cs·e^{−iφ}]]
-        // columns: x'_p = cs·x_p − sn·e^{−iφ}·x_r ; x'_r = sn·x_p + cs·e^{−iφ}·x_r
-        const upd = (xr: Float64Array, xi: Float64Array, ip: number, ir: number) => {
-          const pr = xr[ip];
-          const pi = xi[ip];
-          const rr = xr[ir];
-          const ri = xi[ir];
-          // e^{−iφ}·x_r = (er − i ei)(rr + i ri)
-          const wr = er * rr + ei * ri;
-          const wi = er * ri - ei * rr;
-          xr[ip] = cs * pr - sn * wr;
-          xi[ip] = cs * pi - sn * wi;
-          xr[ir] = sn * pr + cs * wr;
-          xi[ir] = sn * pi + cs * wi;
-        };
-        for (let k = 0; k < q; k++) {
-          if (k === p || k === r) continue;
-          // H ← Vᴴ H V: column update on row k, then mirror (Hermitian)
-          upd(ar, ai, k * q + p, k * q + r);
-          ar[p * q + k] = ar[k * q + p];
-          ai[p * q + k] = -ai[k * q + p];
-          ar[r * q + k] = ar[k * q + r];
-          ai[r * q + k] = -ai[k * q + r];
-        }
-        ar[p * q + p] = app - t * c;
-        ar[r * q + r] = arr + t * c;
-        ar[p * q + r] = ar[r * q + p] = ai[p * q + r] = ai[r * q + p] = 0;
-        for (let k = 0; k < q; k++) upd(vr, vi, k * q + p, k * q + r);
-      }
-    }
-  }
-  const idx = Array.from({ length: q }, (_, i) => i).sort((a, b) => ar[a * q + a] - ar[b * q + b]);
-  const values = new Float64Array(q);
-  const vre = new Float64Array(q * q);
-  const vim = new Float64Array(q * q);
-  idx.forEach((src, j) => {
-    values[j] = ar[src * q + src];
-    for (let i = 0; i < q; i++) {
-      vre[i * q + j] = vr[i * q + src];
-      vim[i * q + j] = vi[i * q + src];
-    }
-  });
-  return { values, vre, vim };
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -358,92 +249,6 @@ function gramBand(side: Side): BandMatrix {
     }
   }
   return G;
-}
-
-// ---------------------------------------------------------------------------------------------
-// σ_max by Lanczos
-
-/** Largest eigenvalue of the symmetric tridiagonal (alpha, beta) of order j, by bisection on Sturm counts. */
-function tridiagonalMax(alpha: number[], beta: number[], lo0: number): number {
-  const j = alpha.length;
-  let hi = -Infinity;
-  let lo = Infinity;
-  for (let i = 0; i < j; i++) {
-    const r = Math.abs(i > 0 ? beta[i - 1] : 0) + Math.abs(i < j - 1 ? beta[i] : 0);
-    hi = Math.max(hi, alpha[i] + r);
-    lo = Math.min(lo, alpha[i] - r);
-  }
-  lo = Math.max(lo, lo0);
-  const below = (x: number) => {
-    let c = 0;
-    let d = alpha[0] - x;
-    if (d < 0) c++;
-    for (let i = 1; i < j; i++) {
-      if (d === 0) d = EPS * (Math.abs(x) + 1);
-      d = alpha[i] - x - (beta[i - 1] * beta[i - 1]) / d;
-      if (d < 0) c++;
-    }
-    return c;
-  };
-  for (let it = 0; it < 200 && hi - lo > 1e-16 * Math.abs(hi); it++) {
-    const mid = 0.5 * (lo + hi);
-    if (below(mid) >= j) hi = mid;
-    else lo = mid;
-  }
-  return hi;
-}
-
-function lanczosSigmaMax(R: SparseMatrix, RH: SparseMatrix, seed: number, check: () => void): { sigma: number; steps: number } {
-  const n = R.cols;
-  const complex = R.im !== null;
-  const rand = rng(seed * 7919 + 13);
-  let vr: Float64Array = new Float64Array(n);
-  let vi: Float64Array | null = complex ? new Float64Array(n) : null;
-  for (let i = 0; i < n; i++) vr[i] = rand();
-  if (vi) for (let i = 0; i < n; i++) vi[i] = rand();
-  let nv = norm2(vr, vi);
-  for (let i = 0; i < n; i++) vr[i] /= nv;
-  if (vi) for (let i = 0; i < n; i++) vi[i] /= nv;
-  let pr: Float64Array = new Float64Array(n);
-  let pi: Float64Array | null = complex ? new Float64Array(n) : null;
-  const yr = new Float64Array(R.rows);
-  const yi = complex ? new Float64Array(R.rows) : null;
-  const alpha: number[] = [];
-  const beta: number[] = [];
-  const history: number[] = [];
-  let prevBeta = 0;
-  let theta = 0;
-  const maxSteps = Math.min(n, 600);
-  for (let j = 0; j < maxSteps; j++) {
-    if (j % 50 === 49) check();
-    const wr = new Float64Array(n);
-    const wi = complex ? new Float64Array(n) : null;
-    matvec(R, vr, vi, yr, yi);
-    matvec(RH, yr, yi, wr, wi);
-    axpy(wr, pr, -prevBeta, n);
-    if (wi) axpy(wi, pi!, -prevBeta, n);
-    let a = dotInto(0, vr, wr, n);
-    if (wi) a = dotInto(a, vi!, wi, n);
-    axpy(wr, vr, -a, n);
-    if (wi) axpy(wi, vi!, -a, n);
-    alpha.push(a);
-    const b = norm2(wr, wi);
-    theta = tridiagonalMax(alpha, beta, theta);
-    history.push(theta);
-    const h = history.length;
-    if (b <= 1e-13 * theta) break; // invariant subspace: θ is an eigenvalue, the largest for a random start
-    if (h >= 12 && history[h - 1] - history[h - 11] <= 1e-13 * history[h - 1]) break;
-    beta.push(b);
-    pr = vr;
-    pi = vi;
-    vr = wr;
-    vi = wi;
-    nv = b;
-    divide(vr, nv, n);
-    if (vi) divide(vi, nv, n);
-    prevBeta = b;
-  }
-  return { sigma: Math.sqrt(Math.max(theta, 0)), steps: alpha.length };
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -611,7 +416,7 @@ function rayleighRitz(side: Side, X: Block, take = X.re.length): { X: Block; sig
       }
     }
   }
-  const { vre, vim } = hermitianEig(gr, gi, q);
+  const { vre, vim } = hermitianEigen(gr, gi, q);
   const n = X.len;
   const t = Math.min(take, q);
   const out: Block = { len: n, re: [], im: complex ? [] : null };
@@ -697,6 +502,7 @@ function certifiedIteration(
   ctx: Ctx,
   p0: number,
   p1: number,
+  sweepLimit: number,
 ): SubspaceResult {
   const dim = side.dim;
   const complex = ctx.complex;
@@ -705,7 +511,11 @@ function certifiedIteration(
     certifyCount({ A: side.A, AH: side.AH, X, sigma, tol, inertia: inertia.count, tau: inertia.tau, inertiaError: inertia.error, sigmaMax });
   let q = Math.min(dim, q0);
   if (q >= dim || !F) {
-    const r = rayleighRitz(side, identityBlock(dim, complex));
+    // A second Rayleigh–Ritz on the first one's Ritz vectors: the Gram matrix of the identity
+    // mixes directions whose σ² differ by less than ε·σ_max² (a σ of 1e-12 picks up 2e-6 of a
+    // direction with σ 1e-5); in the rotated basis the small Gram entries are accurate to their
+    // own size, so the second pass resolves them.
+    const r = rayleighRitz(side, rayleighRitz(side, identityBlock(dim, complex)).X);
     return { X: r.X, sigma: r.sigma, sweeps: 0, converged: true, certificate: certify(r.X, r.sigma), ritz: r };
   }
   let X: Block = { len: dim, re: [], im: complex ? [] : null };
@@ -721,7 +531,7 @@ function certifiedIteration(
   // Nothing to find in phase 1 when the inertia count puts no eigenvalue below the shift: the
   // count (0 null vectors) is then certified as it stands and Lanczos alone finds the smallest σ.
   const nothingBelow = inertia.count === 0;
-  const maxSweeps = nothingBelow ? 0 : 60;
+  const maxSweeps = nothingBelow ? 0 : sweepLimit;
   if (nothingBelow) {
     converged = true;
     certificate = certify(X, new Float64Array(0));
@@ -869,17 +679,17 @@ function lanczosSmallestKept(
       if ((j + 1) % 3 === 0 || invariant || j === maxSteps - 1) {
         // Ritz pairs of the tridiagonal; check the extreme ones by their measured σ
         const q = alpha.length;
-        const T = new Matrix(q, q);
+        const T = new Float64Array(q * q);
         for (let i = 0; i < q; i++) {
-          T.set(i, i, alpha[i]);
+          T[i * q + i] = alpha[i];
           if (i + 1 < q) {
-            T.set(i, i + 1, beta[i]);
-            T.set(i + 1, i, beta[i]);
+            T[i * q + i + 1] = beta[i];
+            T[(i + 1) * q + i] = beta[i];
           }
         }
-        const e = new EigenvalueDecomposition(T, { assumeSymmetric: true });
-        const mu = e.realEigenvalues;
-        const S = e.eigenvectorMatrix;
+        const e = hermitianEigen(T, null, q);
+        const mu = Array.from(e.values);
+        const S = { get: (i: number, c: number) => e.vre[i * q + c] };
         const order = mu.map((_, i) => i).sort((x, y) => mu[y] - mu[x]);
         // the top of T's spectrum is the bottom of K's above τ; its very bottom (μ < 0) holds
         // eigenvalues of K below τ, i.e. null vectors phase 1 missed, which cannot exist when
@@ -1021,7 +831,7 @@ export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): Solv
     check,
     progress: report,
     advice: options.sizeAdvice ?? (() => 'use fewer cells'),
-    rand: rng(options.seed ?? 1),
+    rand: seededUniform(options.seed ?? 1, -0.5, 0.5),
   };
   const c = options.inertiaShift ?? 1e-3;
   const cChol = options.choleskyShift ?? 1e-4;
@@ -1038,7 +848,7 @@ export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): Solv
   report(0.02, 'σ_max (Lanczos)');
   const given = options.sigmaMax;
   if (given !== undefined && !(given >= 0 && Number.isFinite(given))) throw new RangeError(`sigmaMax must be a finite number ≥ 0, got ${given}`);
-  const lz = given !== undefined || n === 0 || m === 0 ? { sigma: given ?? 0, steps: 0 } : lanczosSigmaMax(R, RH, options.seed ?? 1, check);
+  const lz = given !== undefined || n === 0 || m === 0 ? { sigma: given ?? 0, steps: 0 } : sigmaMaxByLanczos(R, RH, check);
   const sigmaMax = lz.sigma;
   const tol = relative * sigmaMax;
   const minmn = Math.min(m, n);
@@ -1079,7 +889,7 @@ export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): Solv
   // indefinite K − τI, whose inverse amplifies the values near τ as much as the null vectors).
   const reuse = kCount === 0 && first.growth <= GROWTH_LIMIT;
   const F = q0 >= side.dim ? null : reuse ? first.F : choleskyShifted(side, delta0, tau, ctx, 0.45, 0.85).F;
-  const it = certifiedIteration(side, F, q0, evidence, tol, sigmaMax, ctx, 0.85, 1);
+  const it = certifiedIteration(side, F, q0, evidence, tol, sigmaMax, ctx, 0.85, 1, options.maxSweeps ?? 60);
   let certificate = it.certificate;
   const counts = [`${kCount} eigenvalues of ${countSide.gramName} below τ = (${c}·σ_max)²${first.retries ? ` (moved to (${(Math.sqrt(first.shift) / sigmaMax).toPrecision(4)}·σ_max)² after a zero pivot)` : ''}`];
   // Values near τ that the iteration could not resolve: count again at lower shifts, as long as
@@ -1174,6 +984,13 @@ export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): Solv
     flexBasis: () => basisOf(flex),
     selfStressBasis: () => basisOf(stress),
   };
+}
+
+/** σ_max by Lanczos on RᴴR until the largest Ritz value stalls to 1e-13 relative. */
+function sigmaMaxByLanczos(R: SparseMatrix, RH: SparseMatrix, check: () => void): { sigma: number; steps: number } {
+  const lz = topLanczos(R, RH, check);
+  const sigma = lz.run(1e-13);
+  return { sigma, steps: lz.steps() };
 }
 
 /** "about N1'×N2' cells would fit", scaling both sides (band memory grows like N1·N2·min(N1, N2)). */

@@ -1,21 +1,14 @@
 /**
  * Blocks of column vectors (real or complex) and the operations the iterative solvers share on
- * them: a seeded random generator, sparse mat-vec, norms, Gram–Schmidt projection and
+ * them: sparse mat-vec, norms, Gram–Schmidt projection and
  * orthonormalisation (two passes of modified Gram–Schmidt, or Cholesky QR twice), and the small
  * hot-loop kernels (axpy, dot, divide) kept as separate functions so V8 compiles them early.
  */
-import type { SparseMatrix } from './sparse.js';
+import { sparseMatVecInto } from './sparse.js';
 
+/** y = A x (y overwritten): the one sparse mat-vec, re-exported under the name the solvers use. */
+export const matvec = sparseMatVecInto;
 
-export function rng(seed: number): () => number {
-  let t = seed >>> 0;
-  return () => {
-    t = (t + 0x6d2b79f5) >>> 0;
-    let r = Math.imul(t ^ (t >>> 15), 1 | t);
-    r = (r + Math.imul(r ^ (r >>> 7), 61 | r)) ^ r;
-    return ((r ^ (r >>> 14)) >>> 0) / 4294967296 - 0.5;
-  };
-}
 
 /** q column vectors of length `len`; `im` null for real data. */
 export interface Block {
@@ -40,36 +33,6 @@ export function addRandomColumns(b: Block, count: number, rand: () => number): v
     const v = randomColumn(b, rand);
     b.re.push(v.re);
     if (b.im) b.im.push(v.im!);
-  }
-}
-
-/** y = A x (y overwritten). */
-export function matvec(A: SparseMatrix, xr: Float64Array, xi: Float64Array | null, yr: Float64Array, yi: Float64Array | null): void {
-  const { rowPtr, colIdx, re } = A;
-  const im = A.im;
-  if (!im && !xi) {
-    for (let r = 0; r < A.rows; r++) {
-      let s = 0;
-      for (let k = rowPtr[r]; k < rowPtr[r + 1]; k++) s += re[k] * xr[colIdx[k]];
-      yr[r] = s;
-    }
-    if (yi) yi.fill(0);
-    return;
-  }
-  for (let r = 0; r < A.rows; r++) {
-    let sr = 0;
-    let si = 0;
-    for (let k = rowPtr[r]; k < rowPtr[r + 1]; k++) {
-      const c = colIdx[k];
-      const ar = re[k];
-      const ai = im ? im[k] : 0;
-      const br = xr[c];
-      const bi = xi ? xi[c] : 0;
-      sr += ar * br - ai * bi;
-      si += ar * bi + ai * br;
-    }
-    yr[r] = sr;
-    yi![r] = si;
   }
 }
 

@@ -19,8 +19,8 @@
  * the Frobenius norm, widened by the measured loss of orthonormality of U and V times σ_max and
  * a rounding allowance for the products (16ε·σ_max).
  */
-import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 import { matvec, norm2, orthonormalDrop, type Block } from './block.js';
+import { hermitianEigen } from './hermitian-eig.js';
 import { EPS } from './rank.js';
 import type { SparseMatrix } from './sparse.js';
 
@@ -81,29 +81,6 @@ function orthonormalityDefect(Q: Block, cols: number): number {
     }
   }
   return Math.sqrt(s);
-}
-
-/** Eigenvalues (ascending) of the small Hermitian M (row-major), through the real embedding [[Re, −Im], [Im, Re]]. */
-function hermitianValues(mr: Float64Array, mi: Float64Array | null, r: number): number[] {
-  if (!mi) {
-    const M = new Matrix(r, r);
-    for (let i = 0; i < r; i++) for (let j = 0; j < r; j++) M.set(i, j, 0.5 * (mr[i * r + j] + mr[j * r + i]));
-    return [...new EigenvalueDecomposition(M, { assumeSymmetric: true }).realEigenvalues].sort((a, b) => a - b);
-  }
-  const M = new Matrix(2 * r, 2 * r);
-  for (let i = 0; i < r; i++) {
-    for (let j = 0; j < r; j++) {
-      const re = 0.5 * (mr[i * r + j] + mr[j * r + i]);
-      const im = 0.5 * (mi[i * r + j] - mi[j * r + i]);
-      M.set(i, j, re);
-      M.set(r + i, r + j, re);
-      M.set(r + i, j, im);
-      M.set(i, r + j, -im);
-    }
-  }
-  // every eigenvalue of M appears twice in the embedding
-  const v = [...new EigenvalueDecomposition(M, { assumeSymmetric: true }).realEigenvalues].sort((a, b) => a - b);
-  return v.filter((_, i) => i % 2 === 0);
 }
 
 export function certifyCount(input: CertificateInput): CountCertificate {
@@ -224,7 +201,7 @@ export function certifyCount(input: CertificateInput): CountCertificate {
   }
   const defectU = orthonormalityDefect(U, r);
   const rho = Math.sqrt(res2 / 2) + (defectU + defectV) * sigmaMax + slack;
-  const mu = hermitianValues(Mr, Mi, r);
+  const mu = hermitianEigen(Mr, Mi, r).values;
   const lo = mu[0] - rho;
   const hi = mu[r - 1] + rho;
   if (lo > tol && hi < upper) return { ...base, certified: true, provenNull: L, provenAbove: r, residual: rho, lowestAbove: lo, reasons };

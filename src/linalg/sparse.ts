@@ -97,29 +97,44 @@ export class SparseBuilder {
   }
 }
 
-/** y = A x for real or complex A and x given as (re, im) parts (im may be null for real x). */
-export function sparseMatVec(
-  A: SparseMatrix,
-  xRe: Float64Array,
-  xIm: Float64Array | null,
-): { re: Float64Array; im: Float64Array } {
-  const yRe = new Float64Array(A.rows);
-  const yIm = new Float64Array(A.rows);
+/**
+ * y = A x into given arrays (y overwritten; yi may be null only when A and x are real): the one
+ * sparse mat-vec every solver and check uses.
+ */
+export function sparseMatVecInto(A: SparseMatrix, xr: Float64Array, xi: Float64Array | null, yr: Float64Array, yi: Float64Array | null): void {
+  const { rowPtr, colIdx, re } = A;
+  const im = A.im;
+  if (!im && !xi) {
+    for (let r = 0; r < A.rows; r++) {
+      let s = 0;
+      for (let k = rowPtr[r]; k < rowPtr[r + 1]; k++) s += re[k] * xr[colIdx[k]];
+      yr[r] = s;
+    }
+    if (yi) yi.fill(0);
+    return;
+  }
   for (let r = 0; r < A.rows; r++) {
     let sr = 0;
     let si = 0;
-    for (let k = A.rowPtr[r]; k < A.rowPtr[r + 1]; k++) {
-      const c = A.colIdx[k];
-      const ar = A.re[k];
-      const ai = A.im ? A.im[k] : 0;
-      const br = xRe[c];
-      const bi = xIm ? xIm[c] : 0;
+    for (let k = rowPtr[r]; k < rowPtr[r + 1]; k++) {
+      const c = colIdx[k];
+      const ar = re[k];
+      const ai = im ? im[k] : 0;
+      const br = xr[c];
+      const bi = xi ? xi[c] : 0;
       sr += ar * br - ai * bi;
       si += ar * bi + ai * br;
     }
-    yRe[r] = sr;
-    yIm[r] = si;
+    yr[r] = sr;
+    yi![r] = si;
   }
+}
+
+/** y = A x for real or complex A and x given as (re, im) parts (im may be null for real x). */
+export function sparseMatVec(A: SparseMatrix, xRe: Float64Array, xIm: Float64Array | null): { re: Float64Array; im: Float64Array } {
+  const yRe = new Float64Array(A.rows);
+  const yIm = new Float64Array(A.rows);
+  sparseMatVecInto(A, xRe, xIm, yRe, yIm);
   return { re: yRe, im: yIm };
 }
 

@@ -1,0 +1,118 @@
+/**
+ * The one Lanczos iteration for σ_max: on AᴴA, resumable, used by the sparse solver and by the
+ * Bloch solver's strip blocks.
+ */
+import { seededUniform } from './random.js';
+import { sparseMatVecInto, type SparseMatrix } from './sparse.js';
+import { tridiagonalMax } from './tridiagonal.js';
+
+/** Lanczos on AᴴA for σ_max, resumable: a coarse screening run first, a fine one on the leaders. */
+export interface TopLanczos {
+  /**
+   * Continue until the largest Ritz value has changed by at most `stall` relative over three
+   * checks 5 steps apart (or the iteration ends); returns √(largest Ritz value), a lower bound
+   * of σ_max that rises with every step.
+   */
+  run(stall: number): number;
+  /** Lanczos steps taken so far. */
+  steps(): number;
+}
+
+/**
+ * σ_max of a block by Lanczos on AᴴA from a fixed pseudo-random start (common practice; G. H.
+ * Golub & C. F. Van Loan, Matrix Computations, ch. 10, from memory). No reorthogonalisation is
+ * needed for the largest eigenvalue: lost orthogonality only repeats converged Ritz values.
+ * The largest Ritz value rises to σ_max² (Courant–Fischer). It ends on an invariant subspace or
+ * after 2000 steps. The top of a strip block's spectrum is a band of closely spaced values:
+ * settling to 1e-14 takes about as many steps as the block has columns / 2 (more near phase ½).
+ */
+export function topLanczos(A: SparseMatrix, AH: SparseMatrix, check: () => void): TopLanczos {
+  const n = A.cols;
+  const complex = A.im !== null;
+  const rand = seededUniform(0x9e3779b9, -0.5, 0.5);
+  // three rotating vectors: previous, current, next
+  const bufRe = [new Float64Array(n), new Float64Array(n), new Float64Array(n)];
+  const bufIm = complex ? [new Float64Array(n), new Float64Array(n), new Float64Array(n)] : null;
+  const yr = new Float64Array(A.rows);
+  const yi = complex ? new Float64Array(A.rows) : null;
+  let p = 0;
+  let c = 1;
+  let nx = 2;
+  {
+    const vr = bufRe[c];
+    const vi = bufIm ? bufIm[c] : null;
+    let s = 0;
+    for (let i = 0; i < n; i++) {
+      vr[i] = rand();
+      s += vr[i] * vr[i];
+    }
+    if (vi)
+      for (let i = 0; i < n; i++) {
+        vi[i] = rand();
+        s += vi[i] * vi[i];
+      }
+    const inv = 1 / Math.sqrt(s);
+    for (let i = 0; i < n; i++) vr[i] *= inv;
+    if (vi) for (let i = 0; i < n; i++) vi[i] *= inv;
+  }
+  const alpha: number[] = [];
+  const beta: number[] = [];
+  let theta = 0;
+  let previous = -1;
+  let prevBeta = 0;
+  let ended = n === 0 || A.rows === 0;
+  return {
+    run(stall) {
+      let calm = 0;
+      while (!ended) {
+        const j = alpha.length;
+        if (j % 50 === 49) check();
+        const vr = bufRe[c];
+        const vi = bufIm ? bufIm[c] : null;
+        const pr = bufRe[p];
+        const pi = bufIm ? bufIm[p] : null;
+        const wr = bufRe[nx];
+        const wi = bufIm ? bufIm[nx] : null;
+        sparseMatVecInto(A, vr, vi, yr, yi);
+        sparseMatVecInto(AH, yr, yi, wr, wi);
+        let a = 0;
+        for (let i = 0; i < n; i++) a += vr[i] * wr[i];
+        if (vi && wi) for (let i = 0; i < n; i++) a += vi[i] * wi[i];
+        alpha.push(a);
+        let s = 0;
+        for (let i = 0; i < n; i++) {
+          const x = wr[i] - a * vr[i] - prevBeta * pr[i];
+          wr[i] = x;
+          s += x * x;
+        }
+        if (vi && wi && pi)
+          for (let i = 0; i < n; i++) {
+            const x = wi[i] - a * vi[i] - prevBeta * pi[i];
+            wi[i] = x;
+            s += x * x;
+          }
+        const b = Math.sqrt(s);
+        ended = b <= 1e-14 * Math.abs(a) || j + 1 >= 2000;
+        const checkNow = ended || j % 5 === 4;
+        if (checkNow) theta = tridiagonalMax(alpha, beta, Math.max(0, previous));
+        if (!ended) {
+          // the next Lanczos vector, so that a later run() resumes from a consistent state
+          beta.push(b);
+          const inv = 1 / b;
+          for (let i = 0; i < n; i++) wr[i] *= inv;
+          if (wi) for (let i = 0; i < n; i++) wi[i] *= inv;
+          prevBeta = b;
+          [p, c, nx] = [c, nx, p];
+        }
+        if (checkNow) {
+          calm = theta - previous <= stall * theta ? calm + 1 : 0;
+          previous = theta;
+          if (calm >= 3) break;
+        }
+      }
+      return Math.sqrt(Math.max(theta, 0));
+    },
+    steps: () => alpha.length,
+  };
+}
+
