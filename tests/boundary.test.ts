@@ -87,9 +87,11 @@ describe('supercell rules', () => {
     expect(sc.bars[0].wraps).toEqual([3, 0]);
     const R = rigidityMatrix(sc);
     const ang = 2 * Math.PI * 0.3;
-    // column 0 is u_x of the joint; p = (3, 0)
-    expect(R.re[0]).toBeCloseTo(3 * (Math.cos(ang) - 1), 14);
-    expect(R.im![0]).toBeCloseTo(3 * Math.sin(ang), 14);
+    // column 0 is u_x of the joint; p = (3, 0), assembled in units of lengthScale (here 4: the
+    // bar length 3 rounded to a power of two)
+    expect(sc.lengthScale).toBe(4);
+    expect(R.re[0]).toBeCloseTo((3 * (Math.cos(ang) - 1)) / sc.lengthScale, 14);
+    expect(R.im![0]).toBeCloseTo((3 * Math.sin(ang)) / sc.lengthScale, 14);
     // on a 2-cell supercell the same bar gives 2 rows, one per orbit, wrapping once and twice
     const sc2 = buildSupercell(chain([[3, 0]]), [2, 1], parseBoundary('x=twist:0.1,y=free'));
     expect(sc2.bars.map((b) => b.wraps[0]).sort()).toEqual([1, 2]);

@@ -488,7 +488,8 @@ function makeContext(sc: Supercell, analysis: FlexAnalysis, method: Ctx['method'
     n: R.cols,
     complex: R.im !== null,
     basisComplex: () => R.im !== null,
-    absTol: analysis.tolerance.absolute,
+    // R = analysis.matrix() is in units of lengthScale (a power of two: exact division)
+    absTol: analysis.tolerance.absolute / analysis.lengthScale,
     analysisFlexes: analysis.flexes,
     relative: analysis.tolerance.relative,
     memoryLimit: DENSE_MEMORY_LIMIT,
@@ -497,7 +498,7 @@ function makeContext(sc: Supercell, analysis: FlexAnalysis, method: Ctx['method'
     cellJoints,
     flexBasis,
     basisReady: () => basis !== undefined,
-    sigmaMax: analysis.sigmaMax,
+    sigmaMax: analysis.sigmaMax / analysis.lengthScale,
     method,
     used: { 'restricted-svd': 0, 'restricted-sparse': 0, 'kernel-intersection': 0 },
     kernels: new KernelCache(),

@@ -10,7 +10,7 @@
  */
 import { Matrix, SingularValueDecomposition } from 'ml-matrix';
 import { DENSE_MEMORY_LIMIT, type NullBasis } from '../linalg/dense.js';
-import { DEFAULT_RELATIVE_TOLERANCE, flagDecision, type Gap } from '../linalg/rank.js';
+import { DEFAULT_RELATIVE_TOLERANCE, flagDecision, type Gap, type RankDecision } from '../linalg/rank.js';
 import type { SparseMatrix } from '../linalg/sparse.js';
 import { rigidityApply, rigidityMatrix } from '../supercell/rigidity.js';
 import type { Supercell } from '../supercell/supercell.js';
@@ -23,6 +23,8 @@ export interface AnalysisOptions {
   tolerance?: number;
   /** Bytes a solver may use; default 1.5 GB. */
   memoryLimit?: number;
+  /** Run even when the size check's estimate exceeds the default memory (1.5 GB) or time limit (src/flex/estimate.ts). */
+  allowLarge?: boolean;
   /** Which solver; default 'auto' (picked by size and structure, reported in `solver`). */
   solver?: SolverChoice;
   onProgress?: (p: Progress) => void;
@@ -40,9 +42,18 @@ export interface FlexCounts {
   rigidMotionsTested: RigidMotion['name'][];
   selfStresses: number;
   rank: number;
+  /** Absolute figures (tolerance.absolute, sigmaMax, gap.kept/dropped) are in the framework's units of length. */
   tolerance: { relative: number; absolute: number };
   sigmaMax: number;
   gap: Gap;
+  /**
+   * The unit the solvers work in: R is assembled with bar vectors divided by it (the RMS bar
+   * length of the unit cell, a power of two; see lengthScaleOf), and the absolute figures above
+   * are multiplied back. matrix() returns R in these units: its σ are the reported ones / lengthScale.
+   * Informational (every figure here is already in the framework's units); optional because
+   * counts read back from a mode-data file (src/io/modes.ts) do not carry it.
+   */
+  lengthScale?: number;
   gapNote?: string;
   /**
    * How the count was decided and whether it is proved; `reasons` lists every doubt (an
@@ -61,7 +72,9 @@ export interface FlexCounts {
 }
 
 export interface FlexAnalysis extends FlexCounts {
-  /** The rigidity matrix R (assembled on first call: the Bloch solver works without it). */
+  /** Always present on a fresh analysis (see FlexCounts.lengthScale). */
+  lengthScale: number;
+  /** The rigidity matrix R in units of lengthScale (assembled on first call: the Bloch solver works without it). */
   matrix(): SparseMatrix;
   /** Orthonormal basis of the flexes (computed on first call). */
   flexBasis(): NullBasis;
@@ -71,16 +84,18 @@ export interface FlexAnalysis extends FlexCounts {
 
 /**
  * Number of independent columns of R·T for orthonormal rigid fields T, at the given absolute
- * tolerance (R·T formed bar by bar, without assembling R). The tall m×t product is reduced by
- * Householder QR to its t×t triangle (same singular values, to rounding), whose SVD is tiny.
+ * tolerance (R·T formed bar by bar, without assembling R). The m×t product is reduced by
+ * Householder QR to its min(m, t)×t triangle (same singular values, to rounding), whose SVD is tiny.
  */
 function rigidRank(sc: Supercell, motions: RigidMotion[], absTol: number): number {
   const t = motions.length;
   const m = sc.bars.length;
   if (t === 0 || m === 0) return 0;
   const cols = motions.map((mo) => rigidityApply(sc, mo.field));
-  const tri = new Matrix(t, t);
-  for (let k = 0; k < t; k++) {
+  // q×t upper triangle; q < t when there are fewer bars than motions (e.g. a 2×1 free square)
+  const q = Math.min(m, t);
+  const tri = new Matrix(q, t);
+  for (let k = 0; k < q; k++) {
     // Householder reflection zeroing column k below row k
     const x = cols[k];
     let norm = 0;
@@ -103,8 +118,19 @@ function rigidRank(sc: Supercell, motions: RigidMotion[], absTol: number): numbe
       tri.set(k, j, y[k]);
     }
   }
-  const s = new SingularValueDecomposition(tri, { computeLeftSingularVectors: false, computeRightSingularVectors: false }).diagonal;
+  const s = new SingularValueDecomposition(tri, { computeLeftSingularVectors: false, computeRightSingularVectors: false, autoTranspose: true }).diagonal;
   return s.filter((v) => v > absTol).length;
+}
+
+/** A decision's absolute figures multiplied by L (a power of two, so exactly). */
+function inLengthUnits(d: RankDecision, L: number): RankDecision {
+  const times = (v: number | null) => (v === null ? null : v * L);
+  return {
+    ...d,
+    tolerance: { relative: d.tolerance.relative, absolute: d.tolerance.absolute * L },
+    sigmaMax: d.sigmaMax * L,
+    gap: { ...d.gap, kept: times(d.gap.kept), dropped: times(d.gap.dropped) },
+  };
 }
 
 export function analyseSupercell(sc: Supercell, options: AnalysisOptions = {}): FlexAnalysis {
@@ -114,13 +140,13 @@ export function analyseSupercell(sc: Supercell, options: AnalysisOptions = {}): 
   const { solve, name, reason } = chooseSolver(sc, options.solver ?? 'auto');
   let R: SparseMatrix | null = name === 'bloch' ? null : rigidityMatrix(sc);
   const spaces = solve(sc, R, { relative, memoryLimit: options.memoryLimit ?? DENSE_MEMORY_LIMIT, onProgress: options.onProgress, signal: options.signal });
-  const flagged = flagDecision(spaces.decision, spaces.status.certified, spaces.status.reasons);
+  const flagged = flagDecision(inLengthUnits(spaces.decision, sc.lengthScale), spaces.status.certified, spaces.status.reasons);
   const decision = flagged.decision;
   const status: SolveStatus = { ...spaces.status, reasons: flagged.reasons };
   const flexes = n - decision.rank;
   const selfStresses = m - decision.rank;
   const motions = sc.real ? rigidMotions(sc) : [];
-  const trivialFlexes = motions.length - rigidRank(sc, motions, decision.tolerance.absolute);
+  const trivialFlexes = motions.length - rigidRank(sc, motions, spaces.decision.tolerance.absolute);
   return {
     joints: sc.jointCount,
     bars: m,
@@ -133,6 +159,7 @@ export function analyseSupercell(sc: Supercell, options: AnalysisOptions = {}): 
     tolerance: decision.tolerance,
     sigmaMax: decision.sigmaMax,
     gap: decision.gap,
+    lengthScale: sc.lengthScale,
     ...(spaces.gapNote ? { gapNote: spaces.gapNote } : {}),
     status,
     maxwellCalladine: { lhs: flexes - selfStresses, rhs: 2 * sc.jointCount - m, ok: flexes - selfStresses === 2 * sc.jointCount - m },

@@ -50,6 +50,6 @@ export function resolveBars(fw: Framework): ResolvedBar[] {
     const [s1, s2] = bar.shift;
     const pa = fw.joints[from].at;
     const pb = fw.joints[to].at;
-    return { from, to, shift: [s1, s2], vector: [pb[0] + s1 * a1[0] + s2 * a2[0] - pa[0], pb[1] + s1 * a1[1] + s2 * a2[1] - pa[1]] };
+    return { from, to, shift: [s1, s2], vector: [pb[0] - pa[0] + (s1 * a1[0] + s2 * a2[0]), pb[1] - pa[1] + (s1 * a1[1] + s2 * a2[1])] };
   });
 }

@@ -36,6 +36,9 @@
  *     when within 1e-9. Zero points farther than 1e-4 from every accepted line are the isolated
  *     points (merged within 1e-5). A curved zero set would show up as many isolated points.
  * Arrays are indexed i2·grid + i1 (θ1 varies fastest).
+ * Units: Φ is assembled with bar vectors divided by the framework's lengthScale (a power of
+ * two, see lengthScaleOf) and every σ figure of the result is multiplied back, so the map
+ * reports σ in the framework's own units of length (exactly, as the factor is a power of two).
  */
 import { InputError } from '../errors.js';
 import { throwIfAborted, type Progress } from '../flex/solver.js';
@@ -130,16 +133,22 @@ export interface PhaseMap {
 // ---------------------------------------------------------------------------------------------
 // Fast evaluation of the symbol's singular values
 
-/** Singular values and triplets of Φ(θ), assembled densely by SymbolAssembler (src/spectrum/symbol.ts). */
+/**
+ * Singular values and triplets of Φ(θ), assembled densely by SymbolAssembler (src/spectrum/symbol.ts),
+ * in units of its lengthScale (bar vectors divided by it).
+ */
 export class SymbolEvaluator {
   readonly rows: number;
   readonly cols: number;
+  /** The unit of the σ values returned here (the assembler's lengthScale). */
+  readonly lengthScale: number;
   private readonly phi: SymbolAssembler;
 
   constructor(fw: Framework) {
     this.phi = new SymbolAssembler(fw);
     this.rows = this.phi.rows;
     this.cols = this.phi.cols;
+    this.lengthScale = this.phi.lengthScale;
   }
 
   /** The `cols` singular values of Φ(θ) as a map on C^cols, ASCENDING (structural zeros first). */
@@ -195,9 +204,27 @@ export class SymbolEvaluator {
   }
 }
 
-/** The 2·joints singular values of Φ at one phase, ascending (structural zeros included). */
+/** The 2·joints singular values of Φ at one phase, ascending (structural zeros included), in the framework's units. */
 export function symbolSingularValues(fw: Framework, theta: [number, number]): Float64Array {
-  return new SymbolEvaluator(fw).sigma(theta[0], theta[1]);
+  const ev = new SymbolEvaluator(fw);
+  return ev.sigma(theta[0], theta[1]).map((v) => v * ev.lengthScale);
+}
+
+/** The map's σ figures multiplied by L (the evaluator's lengthScale, a power of two: exact). */
+function inLengthUnits(m: PhaseMap, L: number): PhaseMap {
+  if (L === 1) return m;
+  const times = (a: Float64Array) => a.map((v) => v * L);
+  const point = (z: ZeroPoint): ZeroPoint => ({ ...z, sigma: z.sigma * L });
+  return {
+    ...m,
+    tolerance: { relative: m.tolerance.relative, absolute: m.tolerance.absolute * L },
+    sigmaMax: m.sigmaMax * L,
+    smallest: m.smallest.map(times),
+    largest: times(m.largest),
+    sigmaMin: { min: m.sigmaMin.min * L, max: m.sigmaMin.max * L },
+    detection: m.detection && { ...m.detection, min: m.detection.min * L, max: m.detection.max * L },
+    zeroSet: { points: m.zeroSet.points.map(point), lines: m.zeroSet.lines, isolated: m.zeroSet.isolated.map(point) },
+  };
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -511,7 +538,7 @@ export function phaseMap(framework: Framework, opts: PhaseMapOptions): PhaseMap 
   const base = { grid: g, dof: n, bars: ev.rows, tolerance: { relative, absolute }, sigmaMax, smallest, largest, kernel, genericKernel: k0, sigmaMin };
   if (k0 >= n) {
     progress(1, 'done');
-    return { ...base, detection: null, zeroSet: { points: [], lines: [], isolated: [] } };
+    return inLengthUnits({ ...base, detection: null, zeroSet: { points: [], lines: [], isolated: [] } }, ev.lengthScale);
   }
   const F = new Float64Array(P);
   let dmin = Infinity;
@@ -632,7 +659,7 @@ export function phaseMap(framework: Framework, opts: PhaseMapOptions): PhaseMap 
   const rest = points.filter((z) => !lines.some((L) => onLine(z, L, LINE_MEMBER)));
   const isolated = dedupe(rest, ISOLATED_MERGE);
   progress(1, 'done');
-  return { ...base, detection: { index: k0 + 1, min: dmin, max: dmax }, zeroSet: { points, lines, isolated } };
+  return inLengthUnits({ ...base, detection: { index: k0 + 1, min: dmin, max: dmax }, zeroSet: { points, lines, isolated } }, ev.lengthScale);
 }
 
 /**

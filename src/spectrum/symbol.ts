@@ -8,12 +8,17 @@
  * counts are the shifts), which is how the Bloch solver uses it. SymbolAssembler writes it
  * densely, column by column, into reused buffers: the phase map and the Bloch solver evaluate
  * it at thousands of phases.
+ * Like rigidityMatrix, Φ holds the bar vectors of scaledBarVectors, in units of lengthScale
+ * (lengthScaleOf, the value the supercell carries), so the one-cell block equals the full R's
+ * block exactly.
  */
 import { resolveBars, type Framework } from '../framework/types.js';
 import { cis } from '../linalg/complex.js';
 import { singularValues } from '../linalg/dense.js';
 import { DEFAULT_RELATIVE_TOLERANCE } from '../linalg/rank.js';
 import type { SparseMatrix } from '../linalg/sparse.js';
+import { scaledBarVectors } from '../supercell/rigidity.js';
+import { lengthScaleOf } from '../supercell/supercell.js';
 
 /** A dense column-major matrix: entry (r, c) at c·ld + r, rows r ≥ `rows` are zero padding. */
 export interface DenseColumns {
@@ -30,7 +35,9 @@ export class SymbolAssembler {
   readonly cols: number;
   readonly from: Int32Array;
   readonly to: Int32Array;
-  /** The bar vector p (to − from, unwrapped), per bar. */
+  /** Divides every bar vector (see lengthScaleOf): Φ's singular values are in these units. */
+  readonly lengthScale: number;
+  /** The bar vector p (to − from, unwrapped) divided by lengthScale, per bar (scaledBarVectors). */
   readonly px: Float64Array;
   readonly py: Float64Array;
   /** Cell shift of each bar's `to` end. */
@@ -53,13 +60,15 @@ export class SymbolAssembler {
     this.s2 = new Int32Array(m);
     this.zr = new Float64Array(m);
     this.zi = new Float64Array(m);
+    this.lengthScale = lengthScaleOf(fw);
+    const p = scaledBarVectors(fw, this.lengthScale);
     resolveBars(fw).forEach((bar, r) => {
       this.from[r] = bar.from;
       this.to[r] = bar.to;
       this.s1[r] = bar.shift[0];
       this.s2[r] = bar.shift[1];
-      this.px[r] = bar.vector[0];
-      this.py[r] = bar.vector[1];
+      this.px[r] = p[2 * r];
+      this.py[r] = p[2 * r + 1];
     });
   }
 
@@ -125,6 +134,7 @@ export function denseToSparse(re: Float64Array, im: Float64Array, ld: number, ro
   return { rows, cols, rowPtr, colIdx: Int32Array.from(c), re: Float64Array.from(vr), im: complex ? Float64Array.from(vi) : null };
 }
 
+/** Φ(θ) with bar vectors in units of lengthScaleOf(fw), as rigidityMatrix. */
 export function symbolMatrix(fw: Framework, theta: [number, number]): SparseMatrix {
   return new SymbolAssembler(fw).sparse(theta[0], theta[1]);
 }
@@ -133,7 +143,7 @@ export interface SymbolKernel {
   theta: [number, number];
   kernel: number;
   cokernel: number;
-  /** Singular values of Φ, descending. */
+  /** Singular values of Φ, descending, in the framework's units of length (multiplied back by lengthScale). */
   sigma: Float64Array;
 }
 
@@ -142,8 +152,9 @@ export interface SymbolKernel {
  * (pass the supercell's σ_max to compare with a supercell count; default: Φ's own σ_max).
  */
 export function symbolKernel(fw: Framework, theta: [number, number], relative = DEFAULT_RELATIVE_TOLERANCE, scale?: number): SymbolKernel {
-  const phi = symbolMatrix(fw, theta);
-  const sigma = singularValues(phi);
+  const assembler = new SymbolAssembler(fw);
+  const phi = assembler.sparse(theta[0], theta[1]);
+  const sigma = singularValues(phi).map((v) => v * assembler.lengthScale);
   const smax = scale ?? (sigma.length ? sigma[0] : 0);
   const tol = relative * smax;
   let rank = 0;

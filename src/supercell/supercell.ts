@@ -14,6 +14,7 @@
 import { InputError } from '../errors.js';
 import { resolveBars, type Framework, type Vec2 } from '../framework/types.js';
 import { cis } from '../linalg/complex.js';
+import { scaledBarVectors } from './rigidity.js';
 import { boundaryIsReal, reduceTurns, type AxisRule, type Boundary } from './boundary.js';
 
 export interface SupercellBar {
@@ -55,6 +56,29 @@ export interface Supercell {
   grounded: number;
   /** True when every phase factor is real (each twist θ ≡ 0 or ½). */
   real: boolean;
+  /**
+   * The unit of length of R: every assembly of R divides bar vectors by it, so singular values
+   * are in units of lengthScale. See lengthScaleOf.
+   */
+  lengthScale: number;
+}
+
+/**
+ * The root-mean-square length of the unit cell's bar vectors, rounded to the nearest power of
+ * two (dividing by it and multiplying back are then exact); 1 when there are no bars or the
+ * value is 0 or not finite. Keeps R's entries near 1 at any input scale.
+ */
+export function lengthScaleOf(fw: Framework): number {
+  const p = scaledBarVectors(fw, 1, 0);
+  let big = 0;
+  for (const v of p) big = Math.max(big, Math.abs(v));
+  if (!(big > 0 && Number.isFinite(big))) return 1;
+  // scaled by the largest component first, so squares neither overflow nor underflow
+  let sum = 0;
+  for (const v of p) sum += (v / big) ** 2;
+  const rms = big * Math.sqrt(sum / (p.length / 2));
+  if (!(rms > 0 && Number.isFinite(rms))) return 1;
+  return 2 ** Math.min(1023, Math.max(-1022, Math.round(Math.log2(rms))));
 }
 
 export const MAX_CELLS_PER_AXIS = 100000;
@@ -115,40 +139,63 @@ export function buildSupercell(fw: Framework, cells: [number, number], boundary:
   const bars: SupercellBar[] = [];
   let dropped = 0;
   let grounded = 0;
-  // Range of `from` cells along an axis: all cells for a twisted axis (one orbit each), else
-  // every cell where at least one end lies inside.
-  const range = (N: number, shift: number, rule: AxisRule): [number, number] =>
-    rule.kind === 'twist' ? [0, N] : [Math.min(0, -shift), Math.max(N, N - shift)];
+  // Along an axis the `from` cells split into runs on which both ends keep their state (inside,
+  // or out through the low or high side): cut at 0, N, −shift and N − shift, so the work does not
+  // grow with the shift. A twisted axis is one run (every cell, one orbit each). Runs where both
+  // ends are out along the axis are left out: such bars never touch the supercell.
+  type Run = { lo: number; hi: number; from: 'low' | 'high' | null; to: 'low' | 'high' | null };
+  const runs = (N: number, shift: number, rule: AxisRule): Run[] => {
+    if (rule.kind === 'twist') return [{ lo: 0, hi: N, from: null, to: null }];
+    const cuts = [...new Set([0, N, -shift, N - shift])].sort((p, q) => p - q);
+    const out: Run[] = [];
+    for (let k = 0; k + 1 < cuts.length; k++) {
+      const from = place(cuts[k], N, rule).out;
+      const to = place(cuts[k] + shift, N, rule).out;
+      if (from === null || to === null) out.push({ lo: cuts[k], hi: cuts[k + 1], from, to });
+    }
+    return out;
+  };
 
   resolveBars(fw).forEach(({ from: sa, to: sb, shift: [s1, s2], vector }, source) => {
-    const [i0, i1] = range(N1, s1, boundary.x);
-    const [j0, j1] = range(N2, s2, boundary.y);
-    for (let j = j0; j < j1; j++) {
-      for (let i = i0; i < i1; i++) {
-        const fx = place(i, N1, boundary.x);
-        const fy = place(j, N2, boundary.y);
-        const tx = place(i + s1, N1, boundary.x);
-        const ty = place(j + s2, N2, boundary.y);
-        const fromOut = fx.out !== null || fy.out !== null;
-        const toOut = tx.out !== null || ty.out !== null;
+    const xRuns = runs(N1, s1, boundary.x);
+    for (const y of runs(N2, s2, boundary.y)) {
+      // runs of x whose cells give rows; the bars of the other runs are counted as dropped at once
+      const rowRuns: Run[] = [];
+      for (const x of xRuns) {
+        const fromOut = x.from !== null || y.from !== null;
+        const toOut = x.to !== null || y.to !== null;
         if (fromOut && toOut) continue;
-        const a = fromOut ? -1 : jointIndex(fx.idx, fy.idx, sa, N1, S);
-        const b = toOut ? -1 : jointIndex(tx.idx, ty.idx, sb, N1, S);
         if (fromOut || toOut) {
-          const [ox, oy] = fromOut ? [fx, fy] : [tx, ty];
-          const ok = (ox.out === null || pinned(boundary.x, ox.out)) && (oy.out === null || pinned(boundary.y, oy.out));
+          const [ox, oy] = fromOut ? [x.from, y.from] : [x.to, y.to];
+          const ok = (ox === null || pinned(boundary.x, ox)) && (oy === null || pinned(boundary.y, oy));
           if (!ok) {
-            dropped++;
+            dropped += (x.hi - x.lo) * (y.hi - y.lo);
             continue;
           }
-          grounded++;
         }
-        const w1 = tx.wraps;
-        const w2 = ty.wraps;
-        const phase = cis(theta1 * w1 + theta2 * w2);
-        bars.push({ a, b, vector, phase, wraps: [w1, w2], source, cell: [i, j], grounded: fromOut || toOut });
+        rowRuns.push(x);
+      }
+      if (rowRuns.length === 0) continue;
+      for (let j = y.lo; j < y.hi; j++) {
+        for (const x of rowRuns) {
+          for (let i = x.lo; i < x.hi; i++) {
+            const fx = place(i, N1, boundary.x);
+            const fy = place(j, N2, boundary.y);
+            const tx = place(i + s1, N1, boundary.x);
+            const ty = place(j + s2, N2, boundary.y);
+            const fromOut = fx.out !== null || fy.out !== null;
+            const toOut = tx.out !== null || ty.out !== null;
+            const a = fromOut ? -1 : jointIndex(fx.idx, fy.idx, sa, N1, S);
+            const b = toOut ? -1 : jointIndex(tx.idx, ty.idx, sb, N1, S);
+            if (fromOut || toOut) grounded++;
+            const w1 = tx.wraps;
+            const w2 = ty.wraps;
+            const phase = cis(theta1 * w1 + theta2 * w2);
+            bars.push({ a, b, vector, phase, wraps: [w1, w2], source, cell: [i, j], grounded: fromOut || toOut });
+          }
+        }
       }
     }
   });
-  return { framework: fw, cells: [N1, N2], boundary, sites: S, jointCount, positions, jointCells, jointSites, bars, dropped, grounded, real: boundaryIsReal(boundary) };
+  return { framework: fw, cells: [N1, N2], boundary, sites: S, jointCount, positions, jointCells, jointSites, bars, dropped, grounded, real: boundaryIsReal(boundary), lengthScale: lengthScaleOf(fw) };
 }
