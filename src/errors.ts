@@ -29,10 +29,16 @@ export class InputError extends Error {
 export class TooLargeError extends Error {
   readonly bytesNeeded: number;
   readonly bytesAllowed: number;
-  constructor(message: string, bytesNeeded: number, bytesAllowed: number) {
+  /** The estimated time, when the size check before a run made the estimate (src/flex/estimate.ts). */
+  readonly secondsNeeded?: number;
+  /** The largest cells of the same aspect that fit, when known (null: not even 1×1). */
+  readonly largestCells?: [number, number] | null;
+  constructor(message: string, bytesNeeded: number, bytesAllowed: number, extra: { secondsNeeded?: number; largestCells?: [number, number] | null } = {}) {
     super(message);
     this.name = 'TooLargeError';
     this.bytesNeeded = bytesNeeded;
     this.bytesAllowed = bytesAllowed;
+    this.secondsNeeded = extra.secondsNeeded;
+    this.largestCells = extra.largestCells;
   }
 }

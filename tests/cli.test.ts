@@ -7,6 +7,10 @@ import { describe, expect, it } from 'vitest';
 import { main, readTextFile } from '../src/cli/main.js';
 import { progressLine } from '../src/cli/progress.js';
 import { DENSE_MEMORY_LIMIT, denseMemoryBytes } from '../src/linalg/dense.js';
+import { TooLargeError } from '../src/errors.js';
+import { checkRunSize } from '../src/flex/estimate.js';
+import { buildGallery } from '../src/framework/gallery.js';
+import { parseBoundary } from '../src/supercell/boundary.js';
 
 async function run(argv: string[]) {
   let out = '';
@@ -110,14 +114,19 @@ describe('help and errors', () => {
     const r = await run(['count', 'gallery:kagome', '--cells', '200x200', '--bc', 'twist:0.1,0.2', '--solver', 'dense']);
     expect(r.code).toBe(3);
     expect(r.err).toMatch(/about [\d.]+ GB/);
-    // the nearest size named must itself fit: dense memory grows like (N1·N2)²
-    const m = /about (\d+)x(\d+) would fit/.exec(r.err);
+    // the size check before the run (src/flex/estimate.ts) names the largest size that fits
+    // its memory and time limits: that size passes the check, two cells more per side do not
+    const m = /use about (\d+)x(\d+) cells or fewer/.exec(r.err);
     expect(m).not.toBeNull();
-    // periodic kagome: 6 bars and 6 columns per cell
-    const cells = Number(m![1]) * Number(m![2]);
+    expect(r.err).toContain('--cells 200x200');
+    const named: [number, number] = [Number(m![1]), Number(m![2])];
+    const fw = buildGallery('gallery:kagome');
+    const bc = parseBoundary('twist:0.1,0.2');
+    expect(() => checkRunSize(fw, named, bc, { solver: 'dense' })).not.toThrow();
+    expect(() => checkRunSize(fw, [named[0] + 2, named[1] + 2], bc, { solver: 'dense' })).toThrow(TooLargeError);
+    // periodic kagome: 6 bars and 6 columns per cell; the named size's dense SVD fits memory
+    const cells = named[0] * named[1];
     expect(denseMemoryBytes(6 * cells, 6 * cells, true, false)).toBeLessThanOrEqual(DENSE_MEMORY_LIMIT);
-    const bigger = (Number(m![1]) + 2) * (Number(m![2]) + 2);
-    expect(denseMemoryBytes(6 * bigger, 6 * bigger, true, false)).toBeGreaterThan(DENSE_MEMORY_LIMIT);
     expect(r.err).not.toMatch(/\n\s+at /);
   });
 });

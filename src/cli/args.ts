@@ -79,9 +79,12 @@ export function parseCells(text: string, flag = '--cells'): [number, number] {
   return [n1, n2];
 }
 
+/** A plain decimal number such as 1e-9, 0.5 or 3 (Number() alone also takes 0x10, 0b1, Infinity). */
+const DECIMAL = /^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/;
+
 export function parseNumberFlag(text: string, flag: string, check: (v: number) => boolean, range: string): number {
-  const v = Number(text);
-  if (text.trim() === '' || !Number.isFinite(v) || !check(v)) {
+  const v = DECIMAL.test(text.trim()) ? Number(text) : NaN;
+  if (!Number.isFinite(v) || !check(v)) {
     throw new InputError(`The value of ${flag} cannot be used:`, [{ where: flag, what: `"${text}" is not ${range}`, fix: `write ${flag} followed by ${range}` }]);
   }
   return v;

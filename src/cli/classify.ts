@@ -10,7 +10,7 @@ import { buildSupercell, type Supercell } from '../supercell/supercell.js';
 import { parseNumberFlag, type FlagSpec, type ParsedArgs } from './args.js';
 import { progressLine, type ProgressLine } from './progress.js';
 import type { Command } from './command.js';
-import { BOUNDARY_HELP, fmt, FRAMEWORK_HELP, readSupercellArgs, SUPERCELL_FLAGS, table, type SupercellArgs } from './common.js';
+import { BOUNDARY_HELP, checkSize, fmt, FRAMEWORK_HELP, readSupercellArgs, safeJson, safeText, SUPERCELL_FLAGS, table, titleOf, type SupercellArgs } from './common.js';
 
 export const CLASSIFY_FLAGS: FlagSpec[] = [
   { name: '--window', value: 'W', help: 'largest window (W×W cells) for local flexes', default: String(DEFAULT_WINDOW) },
@@ -45,9 +45,10 @@ export function readClassifyFlags(args: ParsedArgs): { window: number; strip: nu
 }
 
 export function runClassification(a: SupercellArgs, opts: { window: number; strip: number }, progress?: ProgressLine): ClassifyRun {
+  checkSize(a, true);
   const supercell = buildSupercell(a.framework, a.cells, a.boundary);
   const onProgress = progress?.report;
-  const analysis = analyseSupercell(supercell, { tolerance: a.tolerance, solver: a.solver, onProgress });
+  const analysis = analyseSupercell(supercell, { tolerance: a.tolerance, solver: a.solver, memoryLimit: a.memoryLimit, onProgress });
   const classification = classifyFlexes(supercell, analysis, { ...opts, onProgress });
   progress?.done();
   return { supercell, analysis, classification };
@@ -126,10 +127,10 @@ export const classifyCommand: Command = {
     const c = r.classification;
     if (outPath !== undefined) writeOutFile(outPath, JSON.stringify(outputObject(a, r, true)) + '\n');
     if (args.flags.has('--json')) {
-      io.out(JSON.stringify({ ...outputObject(a, r, false), ...(outPath !== undefined ? { out: outPath } : {}) }, null, 2) + '\n');
+      io.out(safeJson(JSON.stringify({ ...outputObject(a, r, false), ...(outPath !== undefined ? { out: outPath } : {}) }, null, 2)) + '\n');
       return 0;
     }
-    const title = a.framework.name ? `${a.framework.name} (${a.spec})` : a.spec;
+    const title = titleOf(a.framework.name, a.spec);
     const lines: string[] = [];
     lines.push(`shimmy classify: ${title}`, `  supercell ${a.cells[0]}×${a.cells[1]} cells, ${describeBoundary(a.boundary)}`, '');
     lines.push(
@@ -153,7 +154,7 @@ export const classifyCommand: Command = {
       const widths = rows[0].map((_, col) => Math.max(...rows.map((row) => row[col].length)));
       for (const row of rows) lines.push('  ' + row.map((cell, col) => (col === row.length - 1 ? cell : cell.padEnd(widths[col]))).join('  ').trimEnd());
     }
-    if (outPath !== undefined) lines.push('', `Wrote the full classification with vectors to ${outPath}.`);
+    if (outPath !== undefined) lines.push('', `Wrote the full classification with vectors to ${safeText(outPath)}.`);
     lines.push('', CAUTION, '');
     io.out(lines.join('\n'));
     return 0;

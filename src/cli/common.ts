@@ -6,6 +6,9 @@ import { parseBoundary, type Boundary } from '../supercell/boundary.js';
 import { parseCells, parseNumberFlag, type FlagSpec, type ParsedArgs } from './args.js';
 import type { CliIO } from './command.js';
 import { SOLVER_CHOICES, type SolverChoice } from '../flex/solver.js';
+import { checkRunSize, MIN_RELATIVE_TOLERANCE, type RunEstimate } from '../flex/estimate.js';
+import { totalmem } from 'node:os';
+import { getHeapStatistics } from 'node:v8';
 
 export const FRAMEWORK_HELP = [
   'FRAMEWORK is a framework file (JSON, see schema/framework.schema.json) or a built-in lattice',
@@ -26,6 +29,7 @@ export const SUPERCELL_FLAGS: FlagSpec[] = [
   { name: '--bc', value: 'SPEC', help: 'boundary rules, see below', default: 'free' },
   { name: '--tol', value: 'T', help: 'relative rank tolerance: σ counts as zero when σ ≤ T·σ_max', default: '1e-9' },
   { name: '--solver', value: 'NAME', help: 'auto | dense | bloch | sparse (auto picks by size and structure and says which)', default: 'auto' },
+  { name: '--allow-large', help: 'run even when the size estimate is over 1.5 GB or 10 minutes (still refused beyond this machine\'s memory)' },
 ];
 
 export interface SupercellArgs {
@@ -36,6 +40,10 @@ export interface SupercellArgs {
   bcText: string;
   tolerance: number;
   solver: SolverChoice;
+  /** --allow-large: the memory limit becomes this machine's memory and the time limit goes. */
+  allowLarge: boolean;
+  /** Bytes a run may use: the machine's memory with --allow-large, else undefined (the default). */
+  memoryLimit?: number;
 }
 
 export function frameworkArg(args: ParsedArgs, command: string): string {
@@ -67,8 +75,66 @@ export function readSupercellArgs(args: ParsedArgs, io: CliIO, command: string):
     boundary: parseBoundary(bcText),
     bcText,
     solver: solverText as SolverChoice,
-    tolerance: tolText === undefined ? 1e-9 : parseNumberFlag(tolText, '--tol', (v) => v >= 0 && v < 1, 'a number from 0 up to (not including) 1, e.g. 1e-9'),
+    tolerance: tolText === undefined ? 1e-9 : parseTolerance(tolText),
+    allowLarge: args.flags.has('--allow-large'),
+    memoryLimit: args.flags.has('--allow-large') ? totalmem() : undefined,
   };
+}
+
+/** --tol: a decimal number from MIN_RELATIVE_TOLERANCE (1e-15) up to, not including, 1. */
+export function parseTolerance(text: string, flag = '--tol'): number {
+  return parseNumberFlag(text, flag, (v) => v >= MIN_RELATIVE_TOLERANCE && v < 1, `a number from ${MIN_RELATIVE_TOLERANCE} up to (not including) 1, e.g. 1e-9 (smaller cuts fall inside rounding noise)`);
+}
+
+/**
+ * The size check before a run, worded for the command line (--cells, --allow-large); `bases`
+ * when the command also computes the flex basis. With --allow-large the JavaScript heap, which
+ * holds the supercell's bar objects, is the other limit.
+ */
+export function checkSize(a: SupercellArgs, bases: boolean, cells: [number, number] = a.cells): RunEstimate {
+  return checkRunSize(a.framework, cells, a.boundary, {
+    solver: a.solver,
+    bases,
+    allowLarge: a.allowLarge,
+    memoryLimit: a.memoryLimit,
+    heapLimit: a.allowLarge ? getHeapStatistics().heap_size_limit : undefined,
+    labels: { cells: '--cells', allow: `add --allow-large to run it anyway (up to this machine's ${formatGB(totalmem())})` },
+  });
+}
+
+function formatGB(bytes: number): string {
+  return `${(bytes / 1024 ** 3).toFixed(1)} GB`;
+}
+
+/** Control characters (C0, DEL, C1), bidi controls and line separators a terminal would act on. */
+const UNSAFE_CHARS = /[\u0000-\u001f\u007f-\u009f\u061c\u200e\u200f\u2028-\u202e\u2066-\u2069]/g;
+/** The same without the line break \n (for multi-line text). */
+const UNSAFE_IN_LINES = /[\u0000-\u0009\u000b-\u001f\u007f-\u009f\u061c\u200e\u200f\u2028-\u202e\u2066-\u2069]/g;
+/** What JSON.stringify leaves raw inside strings: DEL, C1 and bidi controls, U+2028/2029. */
+const UNSAFE_IN_JSON = /[\u007f-\u009f\u061c\u200e\u200f\u2028-\u202e\u2066-\u2069]/g;
+
+function escapeChar(c: string): string {
+  return `\\u${c.charCodeAt(0).toString(16).padStart(4, '0')}`;
+}
+
+/** Text from the user (a name, a joint id, a path) made safe to print: control characters as \u001b etc. */
+export function safeText(s: string): string {
+  return s.replace(UNSAFE_CHARS, escapeChar);
+}
+
+/** Multi-line text made safe to print: line breaks kept, every other control character escaped. */
+export function safeLines(s: string): string {
+  return s.replace(UNSAFE_IN_LINES, escapeChar);
+}
+
+/** JSON text made safe to print; still valid JSON that parses to the same values. */
+export function safeJson(text: string): string {
+  return text.replace(UNSAFE_IN_JSON, escapeChar);
+}
+
+/** "name (spec)" or the spec alone, safe to print. */
+export function titleOf(name: string | undefined, spec: string): string {
+  return name ? `${safeText(name)} (${safeText(spec)})` : safeText(spec);
 }
 
 export function fmt(x: number | null, digits = 4): string {

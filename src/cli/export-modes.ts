@@ -10,7 +10,7 @@ import { MODE_CSV_COLUMNS, modeDataOfRun, modesToCsv, modesToJson, type ModeData
 import type { Command } from './command.js';
 import { progressLine } from './progress.js';
 import { CLASSIFY_DETAILS, CLASSIFY_FLAGS, readClassifyFlags, runClassification, writeOutFile, type ClassifyRun } from './classify.js';
-import { readSupercellArgs, SUPERCELL_FLAGS, type SupercellArgs } from './common.js';
+import { readSupercellArgs, safeJson, safeLines, safeText, SUPERCELL_FLAGS, type SupercellArgs } from './common.js';
 
 /** The CSV columns (the shared mode-data format's). */
 export const CSV_COLUMNS = MODE_CSV_COLUMNS;
@@ -71,8 +71,8 @@ export const exportModesCommand: Command = {
     const outPath = args.flags.get('--out') as string | undefined;
     if (outPath !== undefined) {
       writeOutFile(outPath, text);
-      io.out(`Wrote ${r.classification.modes.length} modes of ${r.supercell.jointCount} joints as ${json ? 'JSON' : 'CSV'} to ${outPath}.\n`);
-    } else io.out(text);
+      io.out(`Wrote ${r.classification.modes.length} modes of ${r.supercell.jointCount} joints as ${json ? 'JSON' : 'CSV'} to ${safeText(outPath)}.\n`);
+    } else io.out(json ? safeJson(text) : safeLines(text));
     return 0;
   },
 };

@@ -1,11 +1,13 @@
 /**
  * The shimmy command line: a thin shell over the computational core.
- * Exit codes: 0 success, 2 bad input (flags, sizes, files), 3 too large for memory, 1 internal error.
+ * Exit codes: 0 success, 2 bad input (flags, sizes, files), 3 too large for memory, 4 a failed
+ * self-check (count --verify), 1 internal error.
  */
 import { readFileSync } from 'node:fs';
 import { InputError, TooLargeError } from '../errors.js';
 import { parseArgs, suggest } from './args.js';
 import { commandHelp, type CliIO, type Command } from './command.js';
+import { safeLines, safeText } from './common.js';
 import { countCommand } from './count.js';
 import { galleryCommand } from './gallery.js';
 import { spectrumCommand } from './spectrum.js';
@@ -65,7 +67,7 @@ export async function main(argv: string[], io: CliIO = nodeIO): Promise<number> 
   }
   const command = COMMANDS.find((c) => c.name === name);
   if (!command) {
-    io.err(`shimmy: "${name}" is not a command${suggest(name, COMMANDS.map((c) => c.name))}. Commands: ${COMMANDS.map((c) => c.name).join(', ')}. Run shimmy --help for usage.\n`);
+    io.err(`shimmy: "${safeText(name)}" is not a command${suggest(name, COMMANDS.map((c) => c.name))}. Commands: ${COMMANDS.map((c) => c.name).join(', ')}. Run shimmy --help for usage.\n`);
     return 2;
   }
   try {
@@ -77,15 +79,15 @@ export async function main(argv: string[], io: CliIO = nodeIO): Promise<number> 
     return await command.run(args, io);
   } catch (e) {
     if (e instanceof InputError) {
-      io.err(`shimmy ${command.name}: ${e.message}\nRun shimmy ${command.name} --help for usage.\n`);
+      io.err(`shimmy ${command.name}: ${safeLines(e.message)}\nRun shimmy ${command.name} --help for usage.\n`);
       return 2;
     }
     if (e instanceof TooLargeError) {
-      io.err(`shimmy ${command.name}: ${e.message}\n`);
+      io.err(`shimmy ${command.name}: ${safeLines(e.message)}\n`);
       return 3;
     }
     const msg = e instanceof Error ? e.message : String(e);
-    io.err(`shimmy ${command.name}: internal error: ${msg}\nThis is a bug in shimmy; please report it with the command line you ran.${process.env.SHIMMY_DEBUG ? `\n${(e as Error).stack}` : ''}\n`);
+    io.err(`shimmy ${command.name}: internal error: ${safeLines(msg)}\nThis is a bug in shimmy; please report it with the command line you ran.${process.env.SHIMMY_DEBUG ? `\n${(e as Error).stack}` : ''}\n`);
     return 1;
   }
 }

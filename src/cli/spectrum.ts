@@ -9,7 +9,7 @@ import { loadFramework } from '../framework/load.js';
 import { MAX_GRID, phaseMap, type PhaseMap, type ZeroLine, type ZeroPoint } from '../spectrum/phasemap.js';
 import { parseNumberFlag } from './args.js';
 import type { Command } from './command.js';
-import { fmt, FRAMEWORK_HELP, frameworkArg, table } from './common.js';
+import { fmt, FRAMEWORK_HELP, frameworkArg, parseTolerance, safeJson, safeText, table, titleOf } from './common.js';
 
 const DEFAULT_GRID = 64;
 
@@ -30,7 +30,7 @@ function pointText(z: ZeroPoint): string {
 }
 
 function summary(spec: string, name: string | undefined, m: PhaseMap): string {
-  const title = name ? `${name} (${spec})` : spec;
+  const title = titleOf(name, spec);
   const zs = m.zeroSet;
   const rows: [string, string][] = [
     ['Φ', `${m.bars} bars × ${m.dof} columns (2 per joint of the unit cell)`],
@@ -76,7 +76,7 @@ function summary(spec: string, name: string | undefined, m: PhaseMap): string {
 function csv(spec: string, m: PhaseMap): string {
   const g = m.grid;
   const out: string[] = [
-    `# shimmy spectrum ${spec}: grid ${g}x${g}, relative tolerance ${m.tolerance.relative} (absolute ${m.tolerance.absolute}). ${CAUTION_SHORT}`,
+    `# shimmy spectrum ${safeText(spec)}: grid ${g}x${g}, relative tolerance ${m.tolerance.relative} (absolute ${m.tolerance.absolute}). ${CAUTION_SHORT}`,
     'theta1,theta2,sigma1,sigma2,sigma3,sigmaMax,kernel',
   ];
   const cell = (k: number, i: number) => (k < m.smallest.length ? String(m.smallest[k][i]) : '');
@@ -143,11 +143,11 @@ export const spectrumCommand: Command = {
       throw new InputError('the output format is ambiguous:', [{ where: '--csv', what: '--csv and --json cannot be combined', fix: 'give one of --csv or --json (or neither, for the summary)' }]);
     }
     const grid = gridText === undefined ? DEFAULT_GRID : parseNumberFlag(gridText, '--grid', (v) => Number.isInteger(v) && v >= 2 && v <= MAX_GRID, `a whole number from 2 to ${MAX_GRID}, e.g. 64`);
-    const tolerance = tolText === undefined ? 1e-9 : parseNumberFlag(tolText, '--tol', (v) => v >= 0 && v < 1, 'a number from 0 up to (not including) 1, e.g. 1e-9');
+    const tolerance = tolText === undefined ? 1e-9 : parseTolerance(tolText);
     const framework = loadFramework(spec, io.readText);
     const m = phaseMap(framework, { grid, tolerance });
     if (args.flags.has('--csv')) io.out(csv(spec, m));
-    else if (args.flags.has('--json')) io.out(json(spec, framework.name, m));
+    else if (args.flags.has('--json')) io.out(safeJson(json(spec, framework.name, m)));
     else io.out(summary(spec, framework.name, m));
     return 0;
   },

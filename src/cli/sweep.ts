@@ -6,7 +6,7 @@ import { describeBoundary } from '../supercell/boundary.js';
 import { progressLine } from './progress.js';
 import type { Command } from './command.js';
 import { CLASSIFY_DETAILS, CLASSIFY_FLAGS, readClassifyFlags } from './classify.js';
-import { fmt, readSupercellArgs, SUPERCELL_FLAGS } from './common.js';
+import { checkSize, fmt, readSupercellArgs, safeJson, SUPERCELL_FLAGS, titleOf } from './common.js';
 
 const RANGE_HELP =
   'write N, N1xN2, A..B[:STEP] (square sizes A×A up to B×B) or A1xA2..B1xB2[:STEP], or a comma list of these, e.g. --cells 4..16:4 or --cells 4x8..16x32';
@@ -110,10 +110,11 @@ export const sweepCommand: Command = {
     flags.set('--cells', first); // the sizes are parsed above; this only satisfies the shared reader
     const a = readSupercellArgs({ positional: args.positional, flags }, io, 'sweep');
     const opts = readClassifyFlags(args);
+    for (const size of sizes) checkSize(a, true, size);
     const mode = args.flags.has('--csv') ? 'csv' : args.flags.has('--json') ? 'json' : 'table';
     const widths = COLUMNS.map((k) => Math.max(k.length, 6));
     if (mode === 'table') {
-      const title = a.framework.name ? `${a.framework.name} (${a.spec})` : a.spec;
+      const title = titleOf(a.framework.name, a.spec);
       io.out(`shimmy sweep: ${title}\n  ${describeBoundary(a.boundary)}; ${sizes.length} size${sizes.length === 1 ? '' : 's'}\n\n`);
       io.out('  ' + COLUMNS.map((k, i) => k.padStart(widths[i])).join(' ') + '\n');
     }
@@ -124,6 +125,7 @@ export const sweepCommand: Command = {
       boundary: a.bcText,
       tolerance: a.tolerance,
       solver: a.solver,
+      memoryLimit: a.memoryLimit,
       window: opts.window,
       strip: opts.strip,
       onProgress: progress.report,
@@ -134,7 +136,7 @@ export const sweepCommand: Command = {
     });
     progress.done();
     if (mode === 'json') {
-      io.out(JSON.stringify({ framework: a.spec, name: a.framework.name ?? null, ...result }, null, 2) + '\n');
+      io.out(safeJson(JSON.stringify({ framework: a.spec, name: a.framework.name ?? null, ...result }, null, 2)) + '\n');
       return 0;
     }
     if (mode === 'csv') io.err(fitLines(result).join('\n') + '\n');

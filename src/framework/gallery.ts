@@ -650,7 +650,7 @@ export function parseGallerySpec(spec: string): { name: string; params: Record<s
     else params[key] = v;
   }
   if (problems.length > 0) throw new InputError(context, problems);
-  for (const p of def.params) if (!(p.key in params)) params[p.key] = p.default;
+  for (const p of def.params) if (!Object.prototype.hasOwnProperty.call(params, p.key)) params[p.key] = p.default;
   return { name: def.name, params };
 }
 

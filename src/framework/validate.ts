@@ -69,6 +69,11 @@ const SYNONYMS: Record<string, readonly string[]> = {
 const SPAN_TOL = 1e-12;
 const ZERO_BAR_TOL = 1e-12;
 const COINCIDE_TOL = 1e-9;
+/**
+ * A computed length at most this times the size of the terms summed to get it (|positions| +
+ * |shift|·|lattice vectors|) is rounding error: the ends coincide (64 units of double rounding).
+ */
+const ROUNDING_TOL = 64 * Number.EPSILON;
 
 // ---------------------------------------------------------------------------------------------
 // Small helpers
@@ -128,7 +133,9 @@ function describe(v: unknown): string {
 
 
 function suggestField(key: string, known: readonly string[]): string | undefined {
-  const syn = (SYNONYMS[key.toLowerCase()] ?? []).find((c) => known.includes(c));
+  // own keys only: a field named "constructor" or "__proto__" must not reach Object.prototype
+  const lower = key.toLowerCase();
+  const syn = (Object.prototype.hasOwnProperty.call(SYNONYMS, lower) ? SYNONYMS[lower] : []).find((c) => known.includes(c));
   return syn ?? closest(key, known);
 }
 
@@ -585,12 +592,23 @@ function checkBars(
           const [a1, a2] = lattice;
           const dx = q[0] + s[0] * a1[0] + s[1] * a2[0] - p[0];
           const dy = q[1] + s[0] * a1[1] + s[1] * a2[1] - p[1];
-          const scale = Math.max(norm(a1), norm(a2));
-          if (Math.hypot(dx, dy) <= ZERO_BAR_TOL * scale) {
+          // the scale of the numbers involved: lattice vectors and the two end positions
+          const scale = norm(a1) + norm(a2) + norm(p) + norm(q);
+          const len = Math.hypot(dx, dy);
+          const terms = norm(p) + norm(q) + Math.abs(s[0]) * norm(a1) + Math.abs(s[1]) * norm(a2);
+          if (len <= ROUNDING_TOL * terms) {
             problems.push({
               where: base,
               what: `this bar from ${quote(info.from)} to ${quote(info.to)} with shift ${fmtVec(s)} has zero length, because both ends land on the same point`,
               fix: 'remove the bar, or move one of the two joints so that its ends are apart',
+            });
+          } else if (len <= ZERO_BAR_TOL * scale) {
+            problems.push({
+              where: base,
+              what:
+                `this bar from ${quote(info.from)} to ${quote(info.to)} with shift ${fmtVec(s)} is ${shortNum(len)} long, but the lattice vectors and ` +
+                `positions reach ${shortNum(scale)}: at a ratio under ${ZERO_BAR_TOL} the computation loses the bar to rounding (doubles keep about 16 digits)`,
+              fix: 'check the lattice vectors and positions for a wrong exponent or unit; bars and lattice vectors must be of comparable size, e.g. rescale all coordinates by one factor',
             });
           }
         }
@@ -622,16 +640,66 @@ function checkBars(
   }
 }
 
+/** A short form of a length for messages: 1.00e+13 rather than 10000000000001. */
+function shortNum(x: number): string {
+  return Math.abs(x) >= 1e6 || (x !== 0 && Math.abs(x) < 1e-4) ? x.toExponential(2) : fmtNum(Number(x.toPrecision(6)));
+}
+
+/**
+ * Candidate pairs (i < j) for checkCoincidentJoints, each j's candidates ascending: joints whose
+ * positions reduced modulo the lattice fall in neighbouring buckets of width h (in lattice
+ * coordinates, wrapping at 1). Two joints the exact test accepts differ by an integer to within
+ * COINCIDE_TOL ≪ h, so no accepted pair is missed; the work grows like the number of joints
+ * instead of its square. Returns null when positions are too far out for the reduction to be
+ * exact enough (every pair is then tried).
+ */
+function coincidenceCandidates(infos: JointInfo[], lattice: [Vec2, Vec2]): Map<number, number[]> | null {
+  const [a1, a2] = lattice;
+  const det = a1[0] * a2[1] - a1[1] * a2[0];
+  const frac: (Vec2 | undefined)[] = infos.map((info) => {
+    const p = info.at;
+    if (p === undefined) return undefined;
+    return [(p[0] * a2[1] - p[1] * a2[0]) / det, (a1[0] * p[1] - a1[1] * p[0]) / det];
+  });
+  let big = 0;
+  for (const f of frac) if (f) big = Math.max(big, Math.abs(f[0]), Math.abs(f[1]));
+  const h = Math.max(1e-6, 1e3 * Number.EPSILON * big);
+  if (!(h <= 0.1)) return null;
+  const M = Math.floor(1 / h);
+  const bucket = (t: number) => Math.min(M - 1, Math.floor((t - Math.floor(t)) * M));
+  const buckets = new Map<number, number[]>();
+  const out = new Map<number, number[]>();
+  frac.forEach((f, j) => {
+    if (!f) return;
+    const b1 = bucket(f[0]);
+    const b2 = bucket(f[1]);
+    const found: number[] = [];
+    for (let d1 = -1; d1 <= 1; d1++)
+      for (let d2 = -1; d2 <= 1; d2++) {
+        const key = (((b1 + d1 + M) % M) * M + ((b2 + d2 + M) % M));
+        for (const i of buckets.get(key) ?? []) if (!found.includes(i)) found.push(i);
+      }
+    if (found.length) out.set(j, found.sort((x, y) => x - y));
+    const own = b1 * M + b2;
+    const list = buckets.get(own);
+    if (list) list.push(j);
+    else buckets.set(own, [j]);
+  });
+  return out;
+}
+
 /** Joints i ≠ j with at_j − at_i = n1·a1 + n2·a2 for whole numbers n1, n2. */
 function checkCoincidentJoints(infos: JointInfo[], lattice: [Vec2, Vec2], problems: Problem[]): void {
   const [a1, a2] = lattice;
   const det = a1[0] * a2[1] - a1[1] * a2[0];
   const scale = Math.max(norm(a1), norm(a2));
   const reported = new Set<number>();
+  const candidates = coincidenceCandidates(infos, lattice);
+  const allBefore = (j: number) => Array.from({ length: j }, (_, i) => i);
   for (let j = 1; j < infos.length; j++) {
     const q = infos[j].at;
     if (q === undefined) continue;
-    for (let i = 0; i < j; i++) {
+    for (const i of candidates ? (candidates.get(j) ?? []) : allBefore(j)) {
       const p = infos[i].at;
       if (p === undefined || reported.has(i)) continue;
       const dx = q[0] - p[0];
@@ -644,17 +712,22 @@ function checkCoincidentJoints(infos: JointInfo[], lattice: [Vec2, Vec2], proble
       if (!(Math.abs(n1 - r1) <= COINCIDE_TOL && Math.abs(n2 - r2) <= COINCIDE_TOL)) continue;
       const ex = dx - r1 * a1[0] - r2 * a2[0];
       const ey = dy - r1 * a1[1] - r2 * a2[1];
-      if (!(Math.hypot(ex, ey) <= COINCIDE_TOL * scale)) continue;
+      const apart = Math.hypot(ex, ey);
+      if (!(apart <= COINCIDE_TOL * scale)) continue;
       const a = jointLabel(i, infos[i]);
       const b = jointLabel(j, infos[j]);
-      const what =
-        r1 === 0 && r2 === 0
-          ? `${b} at ${fmtVec(q)} is at the same place as ${a} at ${fmtVec(p)}`
-          : `${b} at ${fmtVec(q)} is at the same place as the copy of ${a} at ${fmtVec(p)} in cell [${fmtNum(r1 + 0)}, ${fmtNum(r2 + 0)}]`;
+      const copy = r1 === 0 && r2 === 0 ? a : `the copy of ${a}`;
+      const cell = r1 === 0 && r2 === 0 ? '' : ` in cell [${fmtNum(r1 + 0)}, ${fmtNum(r2 + 0)}]`;
+      const terms = norm(p) + norm(q) + Math.abs(r1) * norm(a1) + Math.abs(r2) * norm(a2);
+      // apart beyond rounding: distinct points, but closer than the tolerance relative to the cell
+      const exact = apart <= ROUNDING_TOL * terms;
+      const what = exact
+        ? `${b} at ${fmtVec(q)} is at the same place as ${copy} at ${fmtVec(p)}${cell}`
+        : `${b} at ${fmtVec(q)} is only ${shortNum(apart)} from ${copy} at ${fmtVec(p)}${cell}, under ${COINCIDE_TOL} of the lattice scale ${shortNum(scale)}, so the two count as the same place`;
       problems.push({
         where: `joints[${j}].at`,
         what,
-        fix: `move one of the two joints, or remove joints[${j}] and let its bars use ${a} with the cell shift changed by [${fmtNum(-r1 + 0)}, ${fmtNum(-r2 + 0)}]`,
+        fix: `move one of the two joints, or remove joints[${j}] and let its bars use ${a} with the cell shift changed by [${fmtNum(-r1 + 0)}, ${fmtNum(-r2 + 0)}]${exact ? '' : '; if the lattice vectors are not meant to be that long, correct them'}`,
       });
       reported.add(j);
       break;

@@ -53,14 +53,31 @@ const GRAMMAR =
   'write free, pinned, periodic, twist:θ1,θ2, or a comma list such as x=twist:0.25,y=free,top=pinned ' +
   '(keys x, y, left, right, bottom, top; values free, pinned, periodic, twist:θ with θ in turns)';
 
+/** A plain decimal number such as 0.25, -1, .5 or 2e-3 (no hex, binary, octal or Infinity). */
+const DECIMAL = /^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/;
+
+/**
+ * Largest |θ| accepted, in turns: below 2^20 a double keeps θ's fraction of a turn to 2^-32,
+ * so reducing θ modulo 1 keeps the phase the user wrote; far above it the fraction is lost.
+ */
+export const MAX_TWIST_TURNS = 2 ** 20;
+
 function parseTheta(text: string, where: string, problems: Problem[]): number | undefined {
   const t = text.trim();
-  const v = t === '' ? NaN : Number(t);
+  const v = DECIMAL.test(t) ? Number(t) : NaN;
   if (!Number.isFinite(v)) {
-    problems.push({ where, what: `the twist phase "${text}" is not a finite number`, fix: 'give θ in turns, e.g. twist:0.25 (θ = 0 is periodic)' });
+    problems.push({ where, what: `the twist phase "${text}" is not a plain decimal number`, fix: 'give θ in turns as a decimal number, e.g. twist:0.25 (θ = 0 is periodic)' });
     return undefined;
   }
-  return v;
+  if (Math.abs(v) >= MAX_TWIST_TURNS) {
+    problems.push({
+      where,
+      what: `the twist phase ${t} is too large: at |θ| ≥ ${MAX_TWIST_TURNS} turns its fraction of a turn is not kept exactly`,
+      fix: 'give θ reduced to one turn (only θ modulo 1 matters), e.g. twist:0.25',
+    });
+    return undefined;
+  }
+  return v + 0;
 }
 
 function parseAxisRule(value: string, where: string, problems: Problem[]): AxisRule | undefined {
