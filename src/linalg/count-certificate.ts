@@ -89,7 +89,7 @@ export function certifyCount(input: CertificateInput): CountCertificate {
   const base = { inertia: k, upper, residual: 0, lowestAbove: null as number | null };
   const reasons: string[] = [];
   if (!(upper > tol)) {
-    reasons.push(`the inertia count's rounding bound ${inertiaError.toPrecision(2)} leaves no room between the cut and the shift`);
+    reasons.push(`the inertia count's rounding bound ${(inertiaError / (sigmaMax * sigmaMax)).toPrecision(2)}·σ_max² leaves no room between the cut and the shift`);
     return { ...base, certified: false, provenNull: 0, provenAbove: 0, reasons };
   }
   // 2. L: the longest head of the Ritz vectors with ‖A V_L‖_F ≤ tol
@@ -205,9 +205,10 @@ export function certifyCount(input: CertificateInput): CountCertificate {
   const lo = mu[0] - rho;
   const hi = mu[r - 1] + rho;
   if (lo > tol && hi < upper) return { ...base, certified: true, provenNull: L, provenAbove: r, residual: rho, lowestAbove: lo, reasons };
+  const rel = (v: number) => `${(v / sigmaMax).toPrecision(3)}·σ_max`;
   reasons.push(
-    `${r} singular value${r === 1 ? '' : 's'} between the cut and √τ could not be proved there: estimates ${mu[0].toPrecision(3)}…${mu[r - 1].toPrecision(3)} ± ${rho.toPrecision(2)}` +
-      ` against the cut ${tol.toPrecision(3)} and √(τ − e) = ${upper.toPrecision(3)}`,
+    `${r} singular value${r === 1 ? '' : 's'} between the cut and √τ could not be proved there: estimates ${rel(mu[0])}…${rel(mu[r - 1])} ± ${rel(rho)}` +
+      ` against the cut ${rel(tol)} and √(τ − e) = ${rel(upper)}`,
   );
   return { ...base, certified: false, provenNull: L, provenAbove: 0, residual: rho, lowestAbove: null, reasons };
 }

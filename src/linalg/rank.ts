@@ -172,12 +172,14 @@ export function flagDecision(d: RankDecision, certified: boolean, uncertifiedRea
 export function certifyFromSingularValues(d: RankDecision, backwardError: number): { certified: boolean; reasons: string[] } {
   const tol = d.tolerance.absolute;
   const reasons: string[] = [];
+  // relative figures: the caller may work in scaled units
+  const rel = (v: number) => `${(d.sigmaMax > 0 ? v / d.sigmaMax : v).toPrecision(3)}·σ_max`;
   if (d.gap.kept !== null && d.gap.kept - tol <= backwardError) {
-    reasons.push(`the smallest kept σ ${d.gap.kept.toPrecision(3)} is within the rounding bound ${backwardError.toPrecision(2)} of the cut`);
+    reasons.push(`the smallest kept σ ${rel(d.gap.kept)} is within the rounding bound ${rel(backwardError)} of the cut`);
   }
   if (d.gap.dropped !== null && d.gap.dropped > 0 && tol - d.gap.dropped <= backwardError) {
-    reasons.push(`the largest dropped σ ${d.gap.dropped.toPrecision(3)} is within the rounding bound ${backwardError.toPrecision(2)} of the cut`);
+    reasons.push(`the largest dropped σ ${rel(d.gap.dropped)} is within the rounding bound ${rel(backwardError)} of the cut`);
   }
-  if (tol <= backwardError && d.sigmaMax > 0) reasons.push(`the cut ${tol.toPrecision(3)} is below the rounding bound ${backwardError.toPrecision(2)} of the singular values: raise --tol`);
+  if (tol <= backwardError && d.sigmaMax > 0) reasons.push(`the cut ${rel(tol)} is below the rounding bound ${rel(backwardError)} of the singular values: raise --tol`);
   return { certified: reasons.length === 0, reasons };
 }
