@@ -113,7 +113,7 @@ describe('3. sizes are checked as a whole, before anything is built', () => {
       const r = await run(['count', 'gallery:square', '--cells', '46341x46341', ...extra]);
       expectRefusal(r, 3, '--cells 46341x46341');
       expect(r.err).toContain('2^31');
-      const m = /about (\d+)x(\d+) cells/.exec(r.err)!;
+      const m = /about (\d+)x(\d+)/.exec(r.err)!;
       // the free square grid on a×b cells has a(b − 1) + b(a − 1) bars; 4·bars must stay under 2^31
       const bars = (a: number, b: number) => a * (b - 1) + b * (a - 1);
       const [a, b] = [Number(m[1]), Number(m[2])];
@@ -128,7 +128,7 @@ describe('3. sizes are checked as a whole, before anything is built', () => {
     expectRefusal(r, 3, '--cells 1000x1000');
     expect(r.err).toContain('--allow-large');
     expect(r.err).toMatch(/about [\d.]+ GB/);
-    const m = /use about (\d+)x(\d+) cells or fewer/.exec(r.err)!;
+    const m = /use fewer cells \(about (\d+)x(\d+) would fit\)/.exec(r.err)!;
     const fw = buildGallery('gallery:square');
     const named: [number, number] = [Number(m[1]), Number(m[2])];
     expect(named[0]).toBe(named[1]); // the aspect is kept

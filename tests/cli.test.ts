@@ -116,7 +116,7 @@ describe('help and errors', () => {
     expect(r.err).toMatch(/about [\d.]+ GB/);
     // the size check before the run (src/flex/estimate.ts) names the largest size that fits
     // its memory and time limits: that size passes the check, two cells more per side do not
-    const m = /use about (\d+)x(\d+) cells or fewer/.exec(r.err);
+    const m = /use fewer cells \(about (\d+)x(\d+) would fit\)/.exec(r.err);
     expect(m).not.toBeNull();
     expect(r.err).toContain('--cells 200x200');
     const named: [number, number] = [Number(m![1]), Number(m![2])];

@@ -91,7 +91,7 @@ export interface SizeCheckOptions extends EstimateOptions {
   labels?: { cells: string; allow: string };
 }
 
-const API_LABELS = { cells: 'cells', allow: 'pass allowLarge: true (and a memoryLimit) to run it anyway' };
+const API_LABELS = { cells: 'cells', allow: 'ask for a large run explicitly (allowLarge: true and a memoryLimit in the API, --allow-large on the command line)' };
 
 /** Cells along an axis from which a bar with this shift has both ends inside (or wraps). */
 function axisCounts(N: number, shift: number, rule: AxisRule): { both: number } {
@@ -254,7 +254,7 @@ export function checkRunSize(fw: Framework, cells: [number, number], boundary: B
     const fit = largestFitting(cells, (c) => !est(c).overflows);
     throw new TooLargeError(
       `${size}: ${e.joints} joints and about ${e.bars} bars are too many to index: 2·joints and 4·bars must stay under 2^31. ` +
-        `Fix: use ${fit ? `about ${fit[0]}x${fit[1]} cells or fewer` : 'a smaller unit cell'} (this limit holds even for large runs).`,
+        `Fix: use fewer cells${fit ? ` (about ${fit[0]}x${fit[1]})` : ', or a smaller unit cell'}: this limit holds even for large runs.`,
       e.bytes,
       0,
       { secondsNeeded: e.seconds, largestCells: fit },
@@ -274,7 +274,7 @@ export function checkRunSize(fw: Framework, cells: [number, number], boundary: B
   throw new TooLargeError(
     `${size} is too large for one run: the ${e.solver} solver (${e.path}) would need about ${formatBytes(e.bytes)} ` +
       `and roughly ${formatSeconds(e.seconds)} (a rough estimate), ${over.join(' and ')}. ` +
-      `Fix: use ${fit ? `about ${fit[0]}x${fit[1]} cells or fewer` : 'a smaller unit cell'}, or ${labels.allow}.`,
+      `Fix: use fewer cells${fit ? ` (about ${fit[0]}x${fit[1]} would fit)` : ', or a smaller unit cell'}, or ${labels.allow}.`,
     e.bytes,
     Number.isFinite(memoryLimit) ? memoryLimit : e.bytes,
     { secondsNeeded: e.seconds, largestCells: fit },
