@@ -33,22 +33,7 @@ function randomUnitary(n: number, complex: boolean, seed: number): { re: Float64
       a[i] = rand();
       b[i] = complex ? rand() : 0;
     }
-    for (let pass = 0; pass < 2; pass++)
-      for (const u of q) {
-        let cr = 0;
-        let ci = 0;
-        for (let i = 0; i < n; i++) {
-          cr += u.re[i] * a[i] + u.im[i] * b[i];
-          ci += u.re[i] * b[i] - u.im[i] * a[i];
-        }
-        for (let i = 0; i < n; i++) {
-          a[i] -= cr * u.re[i] - ci * u.im[i];
-          b[i] -= cr * u.im[i] + ci * u.re[i];
-        }
-      }
-    let s = 0;
-    for (let i = 0; i < n; i++) s += a[i] * a[i] + b[i] * b[i];
-    s = Math.sqrt(s);
+    const s = removeSpan(a, b, q);
     for (let i = 0; i < n; i++) {
       a[i] /= s;
       b[i] /= s;
@@ -129,22 +114,7 @@ function numericalRank(r: ReturnType<typeof hermitianEigen>, n: number): number 
       a[i] = r.vre[i * n + j];
       b[i] = vi[i * n + j];
     }
-    for (let pass = 0; pass < 2; pass++)
-      for (const u of basis) {
-        let cr = 0;
-        let ci = 0;
-        for (let i = 0; i < n; i++) {
-          cr += u.re[i] * a[i] + u.im[i] * b[i];
-          ci += u.re[i] * b[i] - u.im[i] * a[i];
-        }
-        for (let i = 0; i < n; i++) {
-          a[i] -= cr * u.re[i] - ci * u.im[i];
-          b[i] -= cr * u.im[i] + ci * u.re[i];
-        }
-      }
-    let s = 0;
-    for (let i = 0; i < n; i++) s += a[i] * a[i] + b[i] * b[i];
-    s = Math.sqrt(s);
+    const s = removeSpan(a, b, basis);
     if (s < 0.5) continue;
     basis.push({ re: a.map((x) => x / s), im: b.map((x) => x / s) });
   }
@@ -336,6 +306,27 @@ H = np.array(d["re"]).reshape(n, n) + 1j * np.array(d["im"]).reshape(n, n)
 w, V = np.linalg.eigh(H)
 json.dump({"w": w.tolist(), "vre": V.real.ravel().tolist(), "vim": V.imag.ravel().tolist()}, sys.stdout)
 `;
+
+/** (a + ib) minus its projection on the orthonormal vectors (two Gram–Schmidt passes); returns the norm left. */
+function removeSpan(a: Float64Array, b: Float64Array, basis: readonly { re: ArrayLike<number>; im: ArrayLike<number> }[]): number {
+  const n = a.length;
+  for (let pass = 0; pass < 2; pass++)
+    for (const u of basis) {
+      let cr = 0;
+      let ci = 0;
+      for (let i = 0; i < n; i++) {
+        cr += u.re[i] * a[i] + u.im[i] * b[i];
+        ci += u.re[i] * b[i] - u.im[i] * a[i];
+      }
+      for (let i = 0; i < n; i++) {
+        a[i] -= cr * u.re[i] - ci * u.im[i];
+        b[i] -= cr * u.im[i] + ci * u.re[i];
+      }
+    }
+  let s = 0;
+  for (let i = 0; i < n; i++) s += a[i] * a[i] + b[i] * b[i];
+  return Math.sqrt(s);
+}
 
 describe('hermitianEigen against numpy.linalg.eigh', () => {
   it.skipIf(!hasNumpy)(`eigenvalues and eigenspace projectors agree (complex n = 90, multiplicities 30 and 20)${numpyNote}`, () => {
