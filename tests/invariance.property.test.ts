@@ -33,11 +33,12 @@ const GALLERY = [
 const BOUNDARIES = ['free', 'pinned', 'periodic', 'twist:0.25,0', 'x=periodic,y=free'];
 const RUNS = 40;
 /**
- * Largest translation tried, in cell sizes. Validation (src/framework/validate.ts) refuses a bar
- * shorter than 1e-12 times the size of the coordinates, since they then carry fewer than ~4 of
- * its digits; the gallery's shortest bars (~0.12 cells) reach that near 5e10 cell sizes.
+ * Largest translation tried, in cell sizes (the issue's requirement). Validation judges a bar
+ * against the lattice vectors and the distance between its ends, not against its absolute
+ * position, so a far-away placement is accepted; the translated input is itself rounded at the
+ * offset's size, so each case is compared with that rounded input moved back exactly.
  */
-const MAX_OFFSET = 1e10;
+const MAX_OFFSET = 1e12;
 
 const frameworkArb = fc.constantFrom(...GALLERY);
 const boundaryArb = fc.constantFrom(...BOUNDARIES);

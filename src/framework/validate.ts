@@ -592,8 +592,10 @@ function checkBars(
           const [a1, a2] = lattice;
           const dx = q[0] + s[0] * a1[0] + s[1] * a2[0] - p[0];
           const dy = q[1] + s[0] * a1[1] + s[1] * a2[1] - p[1];
-          // the scale of the numbers involved: lattice vectors and the two end positions
-          const scale = norm(a1) + norm(a2) + norm(p) + norm(q);
+          // the scale of the numbers the bar vector is formed from: (q − p) is exact for nearby
+          // ends wherever the sample sits, then the lattice vectors are added (R is built that way),
+          // so a far-away placement loses nothing more than the input's own rounding
+          const scale = norm(a1) + norm(a2) + Math.hypot(q[0] - p[0], q[1] - p[1]);
           const len = Math.hypot(dx, dy);
           const terms = norm(p) + norm(q) + Math.abs(s[0]) * norm(a1) + Math.abs(s[1]) * norm(a2);
           if (len <= ROUNDING_TOL * terms) {
@@ -607,7 +609,7 @@ function checkBars(
               where: base,
               what:
                 `this bar from ${quote(info.from)} to ${quote(info.to)} with shift ${fmtVec(s)} is ${shortNum(len)} long, but the lattice vectors and ` +
-                `positions reach ${shortNum(scale)}: at a ratio under ${ZERO_BAR_TOL} the computation loses the bar to rounding (doubles keep about 16 digits)`,
+                `the distance between its ends reach ${shortNum(scale)}: at a ratio under ${ZERO_BAR_TOL} the computation loses the bar to rounding (doubles keep about 16 digits)`,
               fix: 'check the lattice vectors and positions for a wrong exponent or unit; bars and lattice vectors must be of comparable size, e.g. rescale all coordinates by one factor',
             });
           }
