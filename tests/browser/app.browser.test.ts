@@ -64,7 +64,7 @@ describe.skipIf(!available)('browser app', () => {
   }
 
   async function shown(page: Page): Promise<Record<string, string>> {
-    const ids = ['count-flexes', 'count-trivial', 'count-self-stresses', 'count-local', 'count-line', 'count-decaying', 'count-bulk'];
+    const ids = ['count-flexes', 'count-trivial', 'count-self-stresses', 'count-local', 'count-line', 'count-decaying', 'count-bulk', 'certified'];
     const out: Record<string, string> = {};
     for (const id of ids) out[id] = (await page.getByTestId(id).textContent()) ?? '';
     return out;
@@ -87,6 +87,7 @@ describe.skipIf(!available)('browser app', () => {
       'count-line': String(c.counts.line),
       'count-decaying': String(c.counts.decaying),
       'count-bulk': String(c.counts.bulk),
+      certified: analysis.status.certified ? (analysis.status.fallback ? `yes (after falling back from the ${analysis.status.fallback.from} solver)` : 'yes') : 'no: see the warning below',
     };
   }
 

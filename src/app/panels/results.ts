@@ -46,6 +46,7 @@ export function buildResultsPanel(app: App): ResultsPanel {
     mc: h('span', { 'data-testid': 'maxwell-calladine' }, '—'),
     rank: h('span', null, '—'),
     gap: h('span', { 'data-testid': 'gap' }, '—'),
+    certified: h('span', { 'data-testid': 'certified' }, '—'),
     size: h('span', null, '—'),
     solver: h('span', null, '—'),
   };
@@ -61,6 +62,7 @@ export function buildResultsPanel(app: App): ResultsPanel {
     row('Maxwell–Calladine', c.mc, 'flexes − self-stresses = 2·joints − bars, an identity of the counts'),
     row('rank', c.rank),
     row('singular-value gap', c.gap, 'smallest kept σ / largest dropped σ; under 10⁴ the rank is ambiguous'),
+    row('certified', c.certified, 'whether the count is proved: from every singular value (dense, Bloch) or from an inertia count matched by proved null vectors (sparse)'),
     row('supercell', c.size),
     row('solver', c.solver),
   );
@@ -215,6 +217,9 @@ export function buildResultsPanel(app: App): ResultsPanel {
     c.rank.textContent = `${k.rank} of ${k.dof} columns (${k.real ? 'real' : 'complex'} matrix), tol ${fmt(k.tolerance.relative)}·σ_max = ${fmt(k.tolerance.absolute)}`;
     c.gap.textContent = `kept σ ${fmt(k.gap.kept)}, dropped σ ${fmt(k.gap.dropped)}, ratio ${k.gap.ratio === null ? 'unbounded' : fmt(k.gap.ratio, 3)}${k.gapNote ? ` (${k.gapNote})` : ''}`;
     c.gap.className = k.gap.ambiguous ? 'bad' : '';
+    const st = k.status;
+    c.certified.textContent = !st ? '—' : st.certified ? `yes${st.fallback ? ` (after falling back from the ${st.fallback.from} solver)` : ''}` : 'no: see the warning below';
+    c.certified.className = st && !st.certified ? 'bad' : '';
     gapWarning.hidden = !k.gap.ambiguous;
     const why = k.status?.reasons.length ? k.status.reasons.join('; ') : `the gap ratio ${fmt(k.gap.ratio, 3)} is under 10⁴`;
     gapWarning.textContent = k.gap.ambiguous ? `⚠ The count may be wrong at this tolerance (${s.tolerance}): ${why}. Try another tolerance and compare.` : '';
