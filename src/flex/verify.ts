@@ -5,6 +5,7 @@
  * count claims: dim ker R = columns − rank, dim ker Rᴴ = rows − rank. A solver that returned too
  * few, too many or wrong vectors fails it. It costs both bases, so it runs only when asked.
  */
+import { orthonormalityDefect } from '../linalg/block.js';
 import type { CVec } from '../linalg/complex.js';
 import { conjugateTranspose, sparseMatVecInto, type SparseMatrix } from '../linalg/sparse.js';
 import type { FlexAnalysis } from './spaces.js';
@@ -14,7 +15,7 @@ export interface SpaceCheck {
   dimension: { returned: number; expected: number };
   /** Largest ‖A v‖ over the basis (R for flexes, Rᴴ for self-stresses), in units of lengthScale. */
   worstResidual: number;
-  /** ‖VᴴV − I‖_max over the basis. */
+  /** ‖VᴴV − I‖_F over the basis. */
   orthonormality: number;
 }
 
@@ -30,25 +31,6 @@ export interface SelfCheck {
   failures: string[];
 }
 
-/** Largest |(VᴴV − I)_ij|. */
-function orthonormalityDefect(vs: readonly CVec[]): number {
-  let worst = 0;
-  for (let a = 0; a < vs.length; a++) {
-    for (let b = a; b < vs.length; b++) {
-      let re = 0;
-      let im = 0;
-      const x = vs[a];
-      const y = vs[b];
-      for (let i = 0; i < x.re.length; i++) {
-        re += x.re[i] * y.re[i] + x.im[i] * y.im[i];
-        im += x.re[i] * y.im[i] - x.im[i] * y.re[i];
-      }
-      worst = Math.max(worst, Math.hypot(re - (a === b ? 1 : 0), im));
-    }
-  }
-  return worst;
-}
-
 function checkSpace(A: SparseMatrix, vs: readonly CVec[], expected: number): SpaceCheck {
   let worst = 0;
   const yr = new Float64Array(A.rows);
@@ -59,7 +41,8 @@ function checkSpace(A: SparseMatrix, vs: readonly CVec[], expected: number): Spa
     for (let i = 0; i < A.rows; i++) s += yr[i] * yr[i] + yi[i] * yi[i];
     worst = Math.max(worst, Math.sqrt(s));
   }
-  return { dimension: { returned: vs.length, expected }, worstResidual: worst, orthonormality: orthonormalityDefect(vs) };
+  const block = { len: A.cols, re: vs.map((x) => x.re), im: vs.map((x) => x.im) };
+  return { dimension: { returned: vs.length, expected }, worstResidual: worst, orthonormality: orthonormalityDefect(block, vs.length) };
 }
 
 /**

@@ -310,3 +310,27 @@ export function divide(x: Float64Array, d: number, n: number): void {
   for (let t = 0; t < n; t++) x[t] /= d;
 }
 
+/** ‖QᴴQ − I‖_F over the first `cols` columns of a block (the one orthonormality measure). */
+export function orthonormalityDefect(Q: Block, cols: number): number {
+  let s = 0;
+  for (let a = 0; a < cols; a++) {
+    for (let b = a; b < cols; b++) {
+      let re = 0;
+      let im = 0;
+      const ar = Q.re[a];
+      const br = Q.re[b];
+      const ai = Q.im ? Q.im[a] : null;
+      const bi = Q.im ? Q.im[b] : null;
+      for (let i = 0; i < Q.len; i++) {
+        re += ar[i] * br[i];
+        if (ai && bi) {
+          re += ai[i] * bi[i];
+          im += ar[i] * bi[i] - ai[i] * br[i];
+        }
+      }
+      const d = (re - (a === b ? 1 : 0)) ** 2 + im * im;
+      s += a === b ? d : 2 * d;
+    }
+  }
+  return Math.sqrt(s);
+}

@@ -19,7 +19,7 @@
  * the Frobenius norm, widened by the measured loss of orthonormality of U and V times σ_max and
  * a rounding allowance for the products (16ε·σ_max).
  */
-import { matvec, norm2, orthonormalDrop, type Block } from './block.js';
+import { matvec, norm2, orthonormalDrop, orthonormalityDefect, type Block } from './block.js';
 import { hermitianEigen } from './hermitian-eig.js';
 import { EPS } from './rank.js';
 import type { SparseMatrix } from './sparse.js';
@@ -56,31 +56,6 @@ export interface CertificateInput {
   /** Backward-error bound e of that count (absolute, in K's units). */
   inertiaError: number;
   sigmaMax: number;
-}
-
-/** ‖QᴴQ − I‖_F of a block (cheap for the few vectors it is used on). */
-function orthonormalityDefect(Q: Block, cols: number): number {
-  let s = 0;
-  for (let a = 0; a < cols; a++) {
-    for (let b = a; b < cols; b++) {
-      let re = 0;
-      let im = 0;
-      const ar = Q.re[a];
-      const br = Q.re[b];
-      const ai = Q.im ? Q.im[a] : null;
-      const bi = Q.im ? Q.im[b] : null;
-      for (let i = 0; i < Q.len; i++) {
-        re += ar[i] * br[i];
-        if (ai && bi) {
-          re += ai[i] * bi[i];
-          im += ar[i] * bi[i] - ai[i] * br[i];
-        }
-      }
-      const d = (re - (a === b ? 1 : 0)) ** 2 + im * im;
-      s += a === b ? d : 2 * d;
-    }
-  }
-  return Math.sqrt(s);
 }
 
 export function certifyCount(input: CertificateInput): CountCertificate {
