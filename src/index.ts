@@ -23,6 +23,8 @@ export { chooseSolver, availableSolvers } from './flex/solvers.js';
 export { CancelledError, type SolverChoice, type SolverName, type SolvedSpaces, type SpaceSolver, type Progress } from './flex/solver.js';
 export { classifyFlexes } from './flex/classify.js';
 export { sweep, growthFit, type SweepOptions, type SweepResult } from './flex/sweep.js';
+export { polynomialFit, type PolynomialFit } from './flex/growth-fit.js';
+export { sideWeights, type SideWeights } from './flex/side-weights.js';
 export { FLEX_CLASSES, type FlexClass, type Classification, type ClassifiedMode, type ClassifyOptions, type Anchor } from './flex/classes.js';
 export { decideRank, DEFAULT_RELATIVE_TOLERANCE, AMBIGUOUS_RATIO, type Gap, type RankDecision } from './linalg/rank.js';
 export type { SparseMatrix } from './linalg/sparse.js';

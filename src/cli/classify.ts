@@ -4,6 +4,7 @@ import { CAUTION } from '../caution.js';
 import { InputError } from '../errors.js';
 import { FLEX_CLASSES, type Classification, type ClassifiedMode } from '../flex/classes.js';
 import { classifyFlexes, DEFAULT_STRIP, DEFAULT_WINDOW } from '../flex/classify.js';
+import { sideWeights, type SideWeights } from '../flex/side-weights.js';
 import { analyseSupercell, type FlexAnalysis } from '../flex/spaces.js';
 import { describeBoundary } from '../supercell/boundary.js';
 import { buildSupercell, type Supercell } from '../supercell/supercell.js';
@@ -80,7 +81,7 @@ export function modeWhere(m: ClassifiedMode): string {
   return m.region ?? '';
 }
 
-function outputObject(a: SupercellArgs, r: ClassifyRun, withVectors: boolean): Record<string, unknown> {
+function outputObject(a: SupercellArgs, r: ClassifyRun, withVectors: boolean, sides: SideWeights): Record<string, unknown> {
   const c = r.classification;
   return {
     framework: a.spec,
@@ -93,6 +94,7 @@ function outputObject(a: SupercellArgs, r: ClassifyRun, withVectors: boolean): R
     trivialFlexes: c.trivialFlexes,
     selfStresses: r.analysis.selfStresses,
     counts: c.counts,
+    sideWeights: sides,
     shortStripFlexes: c.shortStripFlexes ?? 0,
     thresholds: c.thresholds,
     solver: r.analysis.solver,
@@ -125,9 +127,10 @@ export const classifyCommand: Command = {
     const outPath = args.flags.get('--out') as string | undefined;
     const r = runClassification(a, opts, progressLine(io, 'classify'));
     const c = r.classification;
-    if (outPath !== undefined) writeOutFile(outPath, JSON.stringify(outputObject(a, r, true)) + '\n');
+    const sides = sideWeights(r.supercell, r.analysis);
+    if (outPath !== undefined) writeOutFile(outPath, JSON.stringify(outputObject(a, r, true, sides)) + '\n');
     if (args.flags.has('--json')) {
-      io.out(safeJson(JSON.stringify({ ...outputObject(a, r, false), ...(outPath !== undefined ? { out: outPath } : {}) }, null, 2)) + '\n');
+      io.out(safeJson(JSON.stringify({ ...outputObject(a, r, false, sides), ...(outPath !== undefined ? { out: outPath } : {}) }, null, 2)) + '\n');
       return 0;
     }
     const title = titleOf(a.framework.name, a.spec);
@@ -137,6 +140,7 @@ export const classifyCommand: Command = {
       table([
         ['flexes', `${c.flexes} (${c.trivialFlexes} of them trivial: rigid motions the boundary allows, not removed)`],
         ...FLEX_CLASSES.map((k) => [k, String(c.counts[k])] as [string, string]),
+        ['side weights', `bottom ${fmt(sides.bottom, 4)}, top ${fmt(sides.top, 4)}, left ${fmt(sides.left, 4)}, right ${fmt(sides.right, 4)} (non-trivial flexes by nearest side; — on a twisted or periodic axis)`],
         ['short strip pieces', `${c.shortStripFlexes ?? 0} (in no window and on under 2/3 of a strip; counted as decaying or bulk)`],
         ['solver', `${r.analysis.solver} (${r.analysis.solverReason})`],
       ]).trimEnd(),

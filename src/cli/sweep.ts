@@ -67,8 +67,23 @@ function cell(row: SweepRow, k: keyof SweepRow): string {
   return String(v);
 }
 
+function polynomialLines(r: SweepResult): string[] {
+  const lines = [`Polynomial fits, count ≈ a2·N² + a1·N + a0 with N = ${r.linearSize} (least squares over all sizes):`];
+  for (const q of SWEEP_QUANTITIES) {
+    const f = r.polynomialFits[q];
+    if (f.a2 === null || f.a1 === null || f.a0 === null) {
+      lines.push(`  ${q.padEnd(9)} no fit (needs 3 distinct sizes)`);
+      continue;
+    }
+    const coeffs = `a2 ${fmt(f.a2, 4)}, a1 ${fmt(f.a1, 4)}, a0 ${fmt(f.a0, 4)}, residual ${fmt(f.residual, 3)} over ${f.points} sizes`;
+    const exact = f.exact ? `${f.exact.formula} exactly${f.freedom === 0 ? ' (3 sizes: interpolation, not a test)' : ''}; ` : 'not an exact polynomial; ';
+    lines.push(`  ${q.padEnd(9)} ${exact}${coeffs}`);
+  }
+  return lines;
+}
+
 function fitLines(r: SweepResult): string[] {
-  const lines = [`Growth with the linear size N = ${r.linearSize} (least squares of ln count against ln N, sizes with count > 0):`];
+  const lines = [...polynomialLines(r), `Growth with the linear size N = ${r.linearSize} (secondary figure: least squares of ln count against ln N, sizes with count > 0):`];
   for (const q of SWEEP_QUANTITIES) {
     const f = r.fits[q];
     lines.push(`  ${q.padEnd(9)} ${f.exponent === null ? `no fit (${f.points} usable size${f.points === 1 ? '' : 's'})` : `exponent ${fmt(f.exponent, 3)}, R² ${fmt(f.r2, 4)} over ${f.points} sizes`}`);
@@ -85,7 +100,7 @@ export const sweepCommand: Command = {
     ...SUPERCELL_FLAGS.filter((f) => f.name !== '--cells'),
     ...CLASSIFY_FLAGS,
     { name: '--csv', help: 'print the rows as CSV on stdout (header first); the growth fits go to stderr, so a redirected file stays plain CSV' },
-    { name: '--json', help: 'print one JSON object: rows, fits and thresholds' },
+    { name: '--json', help: 'print one JSON object: rows, polynomialFits, fits and thresholds' },
     { name: '--help', help: 'show this help' },
   ],
   maxPositional: 1,
@@ -95,7 +110,9 @@ export const sweepCommand: Command = {
     '(so 4x8..16x32 gives N1 = 4…16 with N2 = 2·N1); with A1 = B1 only N2 steps. Sizes may be listed with commas.',
     'Columns: N1, N2, joints, bars, flexes, trivial (rigid motions among the flexes), selfStresses, the four',
     'class counts and seconds (solve and classification). The fits use the side that varies as N',
-    '(N1 or N2), or √(N1·N2) when both do. Every size runs the full analysis, so the time grows',
+    '(N1 or N2), or √(N1·N2) when both do: each count is fitted to a2·N² + a1·N + a0 (area, edge and',
+    'corner terms; exact fractions where they reproduce every count), with the log-log exponent as a',
+    'secondary figure. Every size runs the full analysis, so the time grows',
     'quickly with size for the dense solver.',
     '',
     ...CLASSIFY_DETAILS,

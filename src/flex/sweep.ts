@@ -6,7 +6,9 @@
  * every size has the same N1, and √(N1·N2) otherwise (when both sides scale together, a fixed
  * aspect ratio, the exponent against √(N1·N2) equals the exponent against N1). The growth
  * exponent of a count c is the slope of the least-squares line through (ln N, ln c) over the
- * sizes where c > 0, with its R²; it needs at least two distinct sizes.
+ * sizes where c > 0, with its R²; it needs at least two distinct sizes. The primary figure is the
+ * polynomial fit c ≈ a2·N² + a1·N + a0 (src/flex/growth-fit.ts), which separates area, edge and
+ * corner terms; the exponent is kept as a secondary figure.
  */
 import { InputError } from '../errors.js';
 import type { Framework } from '../framework/types.js';
@@ -15,6 +17,7 @@ import { parseBoundary, type Boundary } from '../supercell/boundary.js';
 import { buildSupercell, checkCells } from '../supercell/supercell.js';
 import { FLEX_CLASSES, type Classification, type FlexClass } from './classes.js';
 import { classifyFlexes } from './classify.js';
+import { EXACT_TOLERANCE, MAX_DENOMINATOR, polynomialFit, type PolynomialFit } from './growth-fit.js';
 import { throwIfAborted, type SolverChoice } from './solver.js';
 import { analyseSupercell } from './spaces.js';
 
@@ -69,6 +72,8 @@ export interface SweepResult {
   boundary: string;
   rows: SweepRow[];
   fits: Record<SweepQuantity, GrowthFit>;
+  /** Least-squares a2·N² + a1·N + a0 of each count (all sizes), with exact fractions where they fit. */
+  polynomialFits: Record<SweepQuantity, PolynomialFit>;
   /** Which linear size N the fits use: 'N1', 'N2' or '√(N1·N2)'. */
   linearSize: 'N1' | 'N2' | '√(N1·N2)';
   /** What N means and the classification thresholds of the last size. */
@@ -142,11 +147,18 @@ export function sweep(fw: Framework, options: SweepOptions): SweepResult {
   options.onProgress?.({ fraction: 1, stage: 'done' });
   const { sizes: N, rule } = linearSizes(rows);
   const fits = Object.fromEntries(SWEEP_QUANTITIES.map((q) => [q, growthFit(N, rows.map((r) => r[q]))])) as Record<SweepQuantity, GrowthFit>;
+  const polynomialFits = Object.fromEntries(SWEEP_QUANTITIES.map((q) => [q, polynomialFit(N, rows.map((r) => r[q]))])) as Record<SweepQuantity, PolynomialFit>;
   return {
     boundary: typeof options.boundary === 'string' ? options.boundary : JSON.stringify(options.boundary),
     rows,
     fits,
+    polynomialFits,
     linearSize: rule,
-    thresholds: { ...(last?.thresholds ?? {}), linearSize: rule, exponent: 'least-squares slope of ln(count) against ln(N) over the sizes with count > 0' },
+    thresholds: {
+      ...(last?.thresholds ?? {}),
+      linearSize: rule,
+      exponent: 'least-squares slope of ln(count) against ln(N) over the sizes with count > 0',
+      polynomialFit: `least squares of count against a2·N² + a1·N + a0 over all sizes (at least 3 distinct N); exact when fractions with denominator ≤ ${MAX_DENOMINATOR} reproduce every count to ${EXACT_TOLERANCE}`,
+    },
   };
 }
