@@ -10,6 +10,7 @@ import { describe, expect, it } from 'vitest';
 import { count } from '../src/analysis.js';
 import { denseFallback } from '../src/flex/solve-dense.js';
 import { sparseSpaces } from '../src/flex/solve-sparse.js';
+import { buildGallery } from '../src/framework/gallery.js';
 import { parseFramework } from '../src/framework/validate.js';
 import type { Block } from '../src/linalg/block.js';
 import { certifyCount } from '../src/linalg/count-certificate.js';
@@ -190,5 +191,24 @@ describe('the sparse solver when its evidence cannot be matched', () => {
     expect(s.status.fallback?.from).toBe('sparse');
     expect(s.status.certified).toBe(true);
     expect(R.cols - s.decision.rank).toBe(dense.flexes);
+  });
+});
+
+describe("gap: 'bound' spares the Lanczos run and reports a certified lower bound", () => {
+  it.each([
+    ['gallery:kagome', 'free'],
+    ['gallery:twisted-kagome?twist=15', 'free'],
+    ['gallery:square', 'pinned'],
+  ])('%s %s at 12×12: same counts, kept bound ≤ measured kept σ', (spec, bc) => {
+    const framework = buildGallery(spec);
+    const value = count({ framework, cells: [12, 12], boundary: bc, solver: 'sparse' }).analysis;
+    const bound = count({ framework, cells: [12, 12], boundary: bc, solver: 'sparse', gap: 'bound' }).analysis;
+    expect(bound.flexes).toBe(value.flexes);
+    expect(bound.selfStresses).toBe(value.selfStresses);
+    expect(value.status.keptSigma).toBe('measured');
+    expect(bound.status.certified).toBe(true);
+    expect(bound.status.keptSigma).toBe('lower-bound');
+    expect(bound.gap.kept!).toBeLessThanOrEqual(value.gap.kept! * (1 + 1e-12));
+    expect(bound.gap.kept!).toBeGreaterThan(bound.tolerance.absolute);
   });
 });

@@ -1,6 +1,7 @@
 /** `shimmy count`: flexes, trivial flexes, self-stresses and the rank evidence of one supercell. */
 import { count } from '../analysis.js';
 import { CAUTION } from '../caution.js';
+import { InputError } from '../errors.js';
 import type { SolveStatus } from '../flex/solver.js';
 import { countsOf } from '../flex/spaces.js';
 import { selfCheck, type SelfCheck } from '../flex/verify.js';
@@ -8,7 +9,7 @@ import { AMBIGUOUS_RATIO } from '../linalg/rank.js';
 import { describeBoundary } from '../supercell/boundary.js';
 import type { Command } from './command.js';
 import { progressLine } from './progress.js';
-import { BOUNDARY_HELP, checkSize, fmt, FRAMEWORK_HELP, readSupercellArgs, safeJson, SUPERCELL_FLAGS, table, titleOf } from './common.js';
+import { BOUNDARY_HELP, checkSize, fmt, safeText, FRAMEWORK_HELP, readSupercellArgs, safeJson, SUPERCELL_FLAGS, table, titleOf } from './common.js';
 
 export const countCommand: Command = {
   name: 'count',
@@ -16,6 +17,7 @@ export const countCommand: Command = {
   usage: 'shimmy count FRAMEWORK [--cells 8x8] [--bc SPEC] [--tol 1e-9] [--verify] [--json]',
   flags: [
     ...SUPERCELL_FLAGS,
+    { name: '--gap', value: 'value|bound', help: 'value: measure the smallest kept σ on every path; bound: where the count is certified by an inertia count, report its certified lower bound instead (faster)', default: 'bound' },
     { name: '--verify', help: 'also compute both bases and check them independently: ‖R v‖ and ‖Rᴴ w‖ within the tolerance, orthonormal, as many as the count claims (exit code 4 when the check fails)' },
     { name: '--json', help: 'print one JSON object instead of a table (with `seconds`, the time the count took)' },
     { name: '--help', help: 'show this help' },
@@ -27,7 +29,13 @@ export const countCommand: Command = {
     checkSize(a, args.flags.has('--verify')); // --verify computes both bases
     const progress = progressLine(io, 'count');
     const started = performance.now();
-    const { analysis } = count({ framework: a.framework, cells: a.cells, boundary: a.boundary, tolerance: a.tolerance, solver: a.solver, allowLarge: a.allowLarge, memoryLimit: a.memoryLimit, onProgress: progress.report });
+    const gapText = (args.flags.get('--gap') as string | undefined) ?? 'bound';
+    if (gapText !== 'value' && gapText !== 'bound') {
+      throw new InputError('The --gap value cannot be used:', [{ where: '--gap', what: `"${safeText(gapText)}" is not a choice`, fix: 'give --gap value (measure the smallest kept σ) or --gap bound (its certified lower bound, faster)' }]);
+    }
+    // --verify computes both bases: then the Lanczos run for the kept σ is cheap beside them
+    const gap = args.flags.has('--verify') ? 'value' : gapText;
+    const { analysis } = count({ framework: a.framework, cells: a.cells, boundary: a.boundary, tolerance: a.tolerance, solver: a.solver, allowLarge: a.allowLarge, memoryLimit: a.memoryLimit, gap, onProgress: progress.report });
     const seconds = (performance.now() - started) / 1000;
     progress.done();
     const c = countsOf(analysis);
@@ -69,7 +77,9 @@ export const countCommand: Command = {
           ['rank', `${c.rank} of ${c.dof} columns, ${c.real ? 'real' : 'complex'} matrix`],
           ['solver', `${c.solver} (${c.solverReason})`],
           ['tolerance', `σ ≤ ${c.tolerance.relative} × σ_max = ${fmt(c.tolerance.absolute)} counts as zero`],
-          ['gap', `smallest kept σ ${fmt(c.gap.kept)}, largest dropped σ ${fmt(c.gap.dropped)}, ratio ${c.gap.ratio === null ? 'unbounded' : fmt(c.gap.ratio, 3)}`],
+          c.status.keptSigma === 'lower-bound'
+            ? ['gap', `smallest kept σ ≥ ${fmt(c.gap.kept)} (certified bound; --gap value measures it), largest dropped σ ${fmt(c.gap.dropped)}, ratio ${c.gap.ratio === null ? 'unbounded' : `≥ ${fmt(c.gap.ratio, 3)}`}`]
+            : ['gap', `smallest kept σ ${fmt(c.gap.kept)}, largest dropped σ ${fmt(c.gap.dropped)}, ratio ${c.gap.ratio === null ? 'unbounded' : fmt(c.gap.ratio, 3)}`],
           ['certified', certificationText(c.status)],
           ...(check ? [['self-check', selfCheckText(check)] as [string, string]] : []),
         ]) +

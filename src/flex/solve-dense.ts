@@ -38,7 +38,7 @@ export function denseSpaces(R: SparseMatrix, options: SolveOptions, advice: (nee
   return {
     solver: 'dense',
     decision,
-    status: { certified: cert.certified, criterion: 'singular-values', converged: true, fallback: null, reasons: cert.reasons },
+    status: { certified: cert.certified, criterion: 'singular-values', converged: true, fallback: null, reasons: cert.reasons, keptSigma: 'measured' },
     flexBasis() {
       if (!flexCache) {
         checkDenseFits(m, n, complex, true, options.memoryLimit, advice(denseMemoryBytes(m, n, complex, true), options.memoryLimit));

@@ -190,7 +190,7 @@ export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): Solv
     return {
       solver: 'sparse',
       decision,
-      status: { certified: true, criterion: 'singular-values', converged: true, fallback: null, reasons: [] },
+      status: { certified: true, criterion: 'singular-values', converged: true, fallback: null, reasons: [], keptSigma: 'measured' },
       gapNote: 'the rigidity matrix has no nonzero entry: every singular value is 0',
       flexBasis: () => unitBasis(n, n, complex),
       selfStressBasis: () => unitBasis(m, m, complex),
@@ -214,7 +214,7 @@ export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): Solv
   // indefinite K − τI, whose inverse amplifies the values near τ as much as the null vectors).
   const reuse = kCount === 0 && first.growth <= GROWTH_LIMIT;
   const F = q0 >= side.dim ? null : reuse ? first.F : choleskyShifted(side, delta0, tau, ctx, 0.45, 0.85).F;
-  const it = certifiedIteration(side, F, q0, evidence, tol, sigmaMax, ctx, 0.85, 1, options.maxSweeps ?? 60);
+  const it = certifiedIteration(side, F, q0, evidence, tol, sigmaMax, ctx, 0.85, 1, options.maxSweeps ?? 60, options.gap !== 'bound');
   let certificate = it.certificate;
   const counts = [`${kCount} eigenvalues of ${countSide.gramName} below τ = (${c}·σ_max)²${first.retries ? ` (moved to (${(Math.sqrt(first.shift) / sigmaMax).toPrecision(4)}·σ_max)² after a zero pivot)` : ''}`];
   // Values near τ that the iteration could not resolve: count again at lower shifts, as long as
@@ -265,7 +265,7 @@ export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): Solv
     F
       ? `σ from ‖${side.opName} v‖ of Ritz vectors of K = ${side.gramName}: ${
           it.sweeps === 0 ? 'none at or below the cut (the inertia count puts no eigenvalue below τ)' : `${nullCount} at or below the cut by subspace iteration (${it.sweeps} sweeps on ${q0}+ vectors)`
-        }, the smallest above it by Lanczos (${it.lanczosSteps ?? 0} steps, an upper bound), with ${operator}`
+        }, ${it.keptIsBound ? 'the smallest above it not measured (its certified lower bound is reported)' : `the smallest above it by Lanczos (${it.lanczosSteps ?? 0} steps, an upper bound)`}, with ${operator}`
       : `σ from ‖${side.opName} v‖ of the eigenvectors of K = ${side.gramName} (a full Rayleigh–Ritz: the side has only ${side.dim} dimensions)`,
     `inertia counts: ${counts.join(', ')}; rounding bound e = ${(evidence.error / (sigmaMax * sigmaMax)).toExponential(1)}·σ_max² (growth ${first.growth.toPrecision(3)})`,
     given !== undefined ? 'σ_max given by the caller' : `σ_max by Lanczos (${lz.steps} steps)`,
@@ -277,6 +277,7 @@ export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): Solv
     converged: it.converged,
     fallback: null,
     reasons: certificate.certified ? [] : certificate.reasons,
+    keptSigma: it.keptIsBound ? 'lower-bound' : 'measured',
   };
   report(1, 'done');
 

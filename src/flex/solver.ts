@@ -24,6 +24,8 @@ export interface SolveOptions {
   relative: number;
   /** Bytes the solver may allocate. */
   memoryLimit: number;
+  /** 'bound': a certified lower bound may stand in for the smallest kept σ (faster counts); default 'value'. */
+  gap?: 'value' | 'bound';
   onProgress?: (p: Progress) => void;
   signal?: AbortSignal;
 }
@@ -47,6 +49,12 @@ export interface SolveStatus {
   fallback: { from: SolverName; to: SolverName; reason: string } | null;
   /** Why the count is not certified or is flagged ambiguous; empty when neither. */
   reasons: string[];
+  /**
+   * What gap.kept is: the smallest kept singular value as computed (dense, Bloch, and the sparse
+   * path by default), or a certified lower bound of it (the sparse path when only the count was
+   * asked for: `gap: 'bound'`), which spares the Lanczos run that measures it.
+   */
+  keptSigma: 'measured' | 'lower-bound';
 }
 
 export interface SolvedSpaces {

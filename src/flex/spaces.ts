@@ -25,6 +25,12 @@ export interface AnalysisOptions {
   memoryLimit?: number;
   /** Run even when the size check's estimate exceeds the default memory (1.5 GB) or time limit (src/flex/estimate.ts). */
   allowLarge?: boolean;
+  /**
+   * 'bound': when only the counts are needed, a certified lower bound may stand in for the
+   * smallest kept σ (status.keptSigma says which), sparing the sparse path a Lanczos run;
+   * default 'value' (measured on every path).
+   */
+  gap?: 'value' | 'bound';
   /** Which solver; default 'auto' (picked by size and structure, reported in `solver`). */
   solver?: SolverChoice;
   onProgress?: (p: Progress) => void;
@@ -139,7 +145,7 @@ export function analyseSupercell(sc: Supercell, options: AnalysisOptions = {}): 
   const n = 2 * sc.jointCount;
   const { solve, name, reason } = chooseSolver(sc, options.solver ?? 'auto');
   let R: SparseMatrix | null = name === 'bloch' ? null : rigidityMatrix(sc);
-  const spaces = solve(sc, R, { relative, memoryLimit: options.memoryLimit ?? DENSE_MEMORY_LIMIT, onProgress: options.onProgress, signal: options.signal });
+  const spaces = solve(sc, R, { relative, memoryLimit: options.memoryLimit ?? DENSE_MEMORY_LIMIT, gap: options.gap, onProgress: options.onProgress, signal: options.signal });
   const flagged = flagDecision(inLengthUnits(spaces.decision, sc.lengthScale), spaces.status.certified, spaces.status.reasons);
   const decision = flagged.decision;
   const status: SolveStatus = { ...spaces.status, reasons: flagged.reasons };

@@ -557,10 +557,10 @@ function readCounts(r: Reader, v: unknown, p: string): FlexCounts | undefined {
 }
 
 /** Files written before counts carried a status read as uncertified, saying why. */
-const UNRECORDED_STATUS: SolveStatus = { certified: false, criterion: 'singular-values', converged: true, fallback: null, reasons: ['this file does not record how the count was decided'] };
+const UNRECORDED_STATUS: SolveStatus = { certified: false, criterion: 'singular-values', converged: true, fallback: null, reasons: ['this file does not record how the count was decided'], keptSigma: 'measured' };
 
 function readStatus(r: Reader, v: unknown, p: string): SolveStatus | undefined {
-  const o = r.record(v, p, ['certified', 'criterion', 'converged', 'fallback', 'reasons']);
+  const o = r.record(v, p, ['certified', 'criterion', 'converged', 'fallback', 'reasons'], ['keptSigma']);
   if (!o) return undefined;
   const q = (k: string) => at(p, k);
   const solvers = ['dense', 'bloch', 'sparse'] as const;
@@ -574,6 +574,7 @@ function readStatus(r: Reader, v: unknown, p: string): SolveStatus | undefined {
     converged: r.bool(o.converged, q('converged')),
     fallback,
     reasons: r.list(o.reasons, q('reasons'), (x, w) => r.str(x, w)),
+    keptSigma: o.keptSigma === undefined ? 'measured' : r.oneOf(o.keptSigma, q('keptSigma'), ['measured', 'lower-bound'] as const),
   });
 }
 

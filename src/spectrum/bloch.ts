@@ -597,7 +597,7 @@ function blochStatus(blocks: BlochBlock[], paths: BlockPath[], sparse: (SolvedSp
       for (const r of s.status.reasons) reasons.push(`strip block at phase (${phase}): ${r}`);
     }
   });
-  return { certified, criterion: sparse.some((s) => s) ? 'inertia-and-residuals' : 'singular-values', converged, fallback: null, reasons };
+  return { certified, criterion: sparse.some((s) => s) ? 'inertia-and-residuals' : 'singular-values', converged, fallback: null, reasons, keptSigma: 'measured' };
 }
 
 /** How the gap figures were found when strip blocks went to the sparse solver, with any block's caveats. */

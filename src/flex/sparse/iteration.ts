@@ -32,6 +32,8 @@ export interface SubspaceResult {
   certificate: CountCertificate;
   /** The phase-1 Ritz block and its σ (ascending), for certificates at other shifts. */
   ritz: { X: Block; sigma: Float64Array };
+  /** The σ after the null ones is the certificate's lower bound, not a measured value. */
+  keptIsBound?: boolean;
 }
 
 /**
@@ -165,6 +167,8 @@ export function certifiedIteration(
   p0: number,
   p1: number,
   sweepLimit: number,
+  /** Measure the smallest kept σ by Lanczos; when false and the count is certified, its certified lower bound stands in. */
+  measureKept = true,
 ): SubspaceResult {
   const dim = side.dim;
   const complex = ctx.complex;
@@ -249,6 +253,10 @@ export function certifiedIteration(
   else while (nNull < sigma.length && sigma[nNull] <= tol) nNull++;
   const locked: Block = { len: dim, re: X.re.slice(0, nNull), im: X.im ? X.im.slice(0, nNull) : null };
   const lockedSigma = Array.from(sigma.slice(0, nNull));
+  if (!measureKept && certificate.certified) {
+    const bound = certificate.lowestAbove ?? certificate.upper;
+    return { X: locked, sigma: Float64Array.from([...lockedSigma, bound]), sweeps, converged, lanczosSteps: 0, certificate, ritz: { X: phase1, sigma: phase1Sigma }, keptIsBound: true };
+  }
   const start: Block = { len: dim, re: X.re.slice(nNull, nNull + 1), im: X.im ? X.im.slice(nNull, nNull + 1) : null };
   const kept = lanczosSmallestKept(side, F, locked, lockedSigma, start, tol, ctx, p0 + (p1 - p0) * 0.4, p1, true);
   if (locked.re.length > nNull && certificate.certified) {
