@@ -14,8 +14,9 @@ import { spectrumCommand } from './spectrum.js';
 import { classifyCommand } from './classify.js';
 import { sweepCommand } from './sweep.js';
 import { exportModesCommand } from './export-modes.js';
+import { edgesCommand } from './edges.js';
 
-export const COMMANDS: Command[] = [countCommand, classifyCommand, sweepCommand, spectrumCommand, exportModesCommand, galleryCommand];
+export const COMMANDS: Command[] = [countCommand, classifyCommand, sweepCommand, spectrumCommand, edgesCommand, exportModesCommand, galleryCommand];
 
 const VERSION = '0.1.0';
 

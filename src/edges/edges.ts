@@ -1,0 +1,163 @@
+/**
+ * `edges()`: edge physics from the symbol in one call. Decay spectra of both edge directions at
+ * one edge phase, the winding numbers and polarisation, the predicted zero modes per free edge,
+ * a table ξ(θ) over a grid of edge phases, and a strip count as an independent check.
+ */
+import { InputError, type Problem } from '../errors.js';
+import type { Framework } from '../framework/types.js';
+import { checkFramework } from '../framework/validate.js';
+import { decaySpectrum, DEFAULT_UNIT_TOLERANCE, type DecaySpectrum, type EdgeRoot, type Side } from './spectrum.js';
+import type { EdgeAxis } from './laurent.js';
+import { polarisation, type AxisWinding } from './winding.js';
+import { DEFAULT_STRIP_WIDTH, stripCount, type StripCount } from './strip.js';
+
+export interface EdgesRequest {
+  framework: Framework;
+  /** Edge phase θ in turns along the edge (default 0.25). */
+  phase?: number;
+  /** Which edge direction gets the roots, the ξ(θ) table and the strip (default a1). */
+  along?: EdgeAxis;
+  /** Edge phases k/grid, k = 0 … grid − 1, for the ξ(θ) table (default 16; 0 for none). */
+  grid?: number;
+  /** Width in cells of the strip count (default 40; 0 for none). */
+  strip?: number;
+  /** ||z| − 1| at or below this is a bulk root (default 1e-6). */
+  unitTolerance?: number;
+}
+
+export interface SideReport {
+  /** Zero modes per edge wave number on this free edge at the phase: roots on this side (null when undefined). */
+  predicted: number | null;
+  /** Strip count: the flex projector's weight on this half of the strip (null: not this edge direction or no strip). */
+  counted: number | null;
+  /** ξ in cells along the normal, one per root on this side, ascending. */
+  decayLengths: number[];
+  /** The same in units of length (times the row spacing). */
+  decayLengthsInLength: number[];
+  /** From the windings: n2 − lo (bottom), hi − n2 (top), n1 − lo (left), hi − n1 (right); null when undefined. */
+  fromWinding: number | null;
+}
+
+export interface GridRow {
+  theta: number;
+  /** ξ (cells) of the roots on the low and high side, ascending. */
+  low: number[];
+  high: number[];
+  bulk: number;
+  predictedLow: number | null;
+  predictedHigh: number | null;
+}
+
+export interface EdgesResult {
+  along: EdgeAxis;
+  /** The edge phase as given (every computation uses it modulo 1). */
+  phase: number;
+  rows: number;
+  cols: number;
+  square: boolean;
+  /** [n1, n2] when both are defined, else null (see windingNote). */
+  winding: [number, number] | null;
+  windingNote: string | null;
+  windingByAxis: [AxisWinding, AxisWinding];
+  /** R_T = n1 a1 + n2 a2 in framework units; depends on the choice of unit cell. */
+  polarisation: [number, number] | null;
+  polarisationNote: string;
+  sides: Record<Side, SideReport>;
+  /** The roots of the `along` edge at the phase, by modulus. */
+  roots: EdgeRoot[];
+  spectra: { a1: DecaySpectrum; a2: DecaySpectrum };
+  grid: GridRow[];
+  strip: StripCount | null;
+  unitTolerance: number;
+}
+
+export const DEFAULT_EDGE_PHASE = 0.25;
+export const DEFAULT_EDGE_GRID = 16;
+export const MAX_EDGE_GRID = 1024;
+export const MAX_STRIP_WIDTH = 400;
+
+export const POLARISATION_NOTE =
+  'R_T = n1 a1 + n2 a2 in the cell gauge: it changes when a joint or a bar is assigned to another cell; the per-edge counts (sides) do not.';
+
+function checkRequest(req: EdgesRequest): Problem[] {
+  const problems: Problem[] = [];
+  if (req.phase !== undefined && !(typeof req.phase === 'number' && Number.isFinite(req.phase)))
+    problems.push({ where: 'phase', what: `${String(req.phase)} is not a finite number`, fix: 'give the edge phase in turns, e.g. 0.25' });
+  if (req.along !== undefined && req.along !== 'a1' && req.along !== 'a2')
+    problems.push({ where: 'along', what: `"${String(req.along)}" is not an edge direction`, fix: 'give a1 (bottom/top edges) or a2 (left/right edges)' });
+  if (req.grid !== undefined && !(Number.isInteger(req.grid) && req.grid >= 0 && req.grid <= MAX_EDGE_GRID))
+    problems.push({ where: 'grid', what: `${String(req.grid)} is not a whole number from 0 to ${MAX_EDGE_GRID}`, fix: 'give the number of edge phases for the table, e.g. 16 (0 for none)' });
+  if (req.strip !== undefined && !(Number.isInteger(req.strip) && (req.strip === 0 || (req.strip >= 4 && req.strip <= MAX_STRIP_WIDTH))))
+    problems.push({ where: 'strip', what: `${String(req.strip)} is not 0 or a whole number from 4 to ${MAX_STRIP_WIDTH}`, fix: 'give the strip width in cells, e.g. 40 (0 for no strip count)' });
+  if (req.unitTolerance !== undefined && !(typeof req.unitTolerance === 'number' && req.unitTolerance > 0 && req.unitTolerance <= 0.1))
+    problems.push({ where: 'unitTolerance', what: `${String(req.unitTolerance)} is not a number in (0, 0.1]`, fix: 'give a small tolerance on ||z| − 1|, e.g. 1e-6' });
+  return problems;
+}
+
+function sideReport(s: DecaySpectrum, side: Side, fromWinding: number | null, counted: number | null): SideReport {
+  const mine = s.roots.filter((r) => r.side === side);
+  const low = side === 'bottom' || side === 'left';
+  const cells = mine.map((r) => r.decayCells as number).sort((a, b) => a - b);
+  return {
+    predicted: low ? s.predictedLow : s.predictedHigh,
+    counted,
+    decayLengths: cells,
+    decayLengthsInLength: cells.map((x) => x * s.rowSpacing),
+    fromWinding,
+  };
+}
+
+export function edges(req: EdgesRequest): EdgesResult {
+  const problems = checkRequest(req);
+  if (problems.length) throw new InputError('The edge request cannot be used:', problems);
+  const fw = checkFramework(req.framework);
+  const phase = req.phase ?? DEFAULT_EDGE_PHASE;
+  // only θ mod 1 matters; reduced, the strip's twist text stays exact
+  const theta = phase - Math.floor(phase);
+  const along = req.along ?? 'a1';
+  const grid = req.grid ?? DEFAULT_EDGE_GRID;
+  const width = req.strip ?? DEFAULT_STRIP_WIDTH;
+  const unitTolerance = req.unitTolerance ?? DEFAULT_UNIT_TOLERANCE;
+  const opts = { unitTolerance };
+  const a1 = decaySpectrum(fw, 'a1', theta, opts);
+  const a2 = decaySpectrum(fw, 'a2', theta, opts);
+  const strip = width > 0 ? stripCount(fw, along, theta, width) : null;
+  const cnt = (ax: EdgeAxis, low: boolean) => (strip && ax === along ? (low ? strip.weightLow : strip.weightHigh) : null);
+  const pol = polarisation(fw);
+  const n1 = pol.byAxis[0].value;
+  const n2 = pol.byAxis[1].value;
+  const fromW = (s: DecaySpectrum, w: number | null, low: boolean): number | null =>
+    w === null || s.span === null ? null : low ? w - s.span[0] : s.span[1] - w;
+  const sides: Record<Side, SideReport> = {
+    bottom: sideReport(a1, 'bottom', fromW(a1, n2, true), cnt('a1', true)),
+    top: sideReport(a1, 'top', fromW(a1, n2, false), cnt('a1', false)),
+    left: sideReport(a2, 'left', fromW(a2, n1, true), cnt('a2', true)),
+    right: sideReport(a2, 'right', fromW(a2, n1, false), cnt('a2', false)),
+  };
+  const main = along === 'a1' ? a1 : a2;
+  const [lowSide, highSide] = along === 'a1' ? (['bottom', 'top'] as const) : (['left', 'right'] as const);
+  const table: GridRow[] = [];
+  for (let k = 0; k < grid; k++) {
+    const s = decaySpectrum(fw, along, k / grid, opts);
+    const xi = (side: Side) => s.roots.filter((r) => r.side === side).map((r) => r.decayCells as number).sort((a, b) => a - b);
+    table.push({ theta: k / grid, low: xi(lowSide), high: xi(highSide), bulk: s.bulk, predictedLow: s.predictedLow, predictedHigh: s.predictedHigh });
+  }
+  return {
+    along,
+    phase,
+    rows: a1.rows,
+    cols: a1.cols,
+    square: a1.square,
+    winding: pol.winding,
+    windingNote: pol.note,
+    windingByAxis: pol.byAxis,
+    polarisation: pol.polarisation,
+    polarisationNote: POLARISATION_NOTE,
+    sides,
+    roots: main.roots,
+    spectra: { a1, a2 },
+    grid: table,
+    strip,
+    unitTolerance,
+  };
+}
