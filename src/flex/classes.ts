@@ -13,7 +13,11 @@ export interface ClassifyOptions {
   window?: number;
   /** Largest strip width (cells) for line flexes; default 2. */
   strip?: number;
-  /** Lattice directions (p, q) of the strips; default (1,0), (0,1), (1,1), (1,−1). */
+  /**
+   * Lattice directions (p, q) of the strips; default: every direction of a straight chain of
+   * bars in the framework (src/flex/classify/line-directions.ts). Directions carrying no such
+   * chain are left out with a warning.
+   */
   directions?: [number, number][];
   /**
    * How flexes supported on a joint set are found: a dense SVD of the restricted matrix, the
@@ -70,6 +74,11 @@ export interface Classification {
    * (short strip pieces); they are part of the rest and counted as decaying or bulk.
    */
   shortStripFlexes?: number;
+  /**
+   * Window flexes at the corners of a free sample whose number had not saturated at the
+   * largest window (they went to the rest), counted cumulatively for windows 1…window.
+   */
+  windowDependence?: { window: number; cornerConfined: number }[];
   /** Seconds spent per stage (windows, strips, lines, rest, localise). */
   timings?: Record<string, number>;
   /** Reasons to distrust the split (tolerance inconsistencies, an ambiguous rank). */

@@ -15,12 +15,17 @@
  *    absolute tolerance (relative × σ_max of the whole R) as zero, so their decisions agree
  *    with the global count.
  *  - line: flexes supported inside a strip at most s cells wide (default s = 2) along a
- *    lattice direction (p, q) (default (1,0), (0,1), (1,1), (1,−1)) whose support runs along
+ *    lattice direction (p, q) of a straight chain of bars of the framework
+ *    (src/flex/classify/line-directions.ts; none for the twisted kagome) whose support runs along
  *    at least 2/3 of the strip's length inside the supercell. For each strip S with ℓ cells
  *    along it, the short pieces are ker_T for the sub-segments T of S shorter than 2/3·ℓ;
  *    with M = L + Σ_S Σ_T ker_T (local plus short pieces), the line span is
  *    (M + Σ_S ker_S) ⊖ M, i.e. ker_S modulo (L + short pieces), summed over strips. Strips
  *    along twisted axes wrap into closed lines whose sub-segments are arcs.
+ *    Strips are taken narrowest first (short pieces of a width, then its lines), and a window
+ *    flex that is a whole straight line of the sample (a short corner line) is a line.
+ *    Corner windows of a free sample that keep adding flexes up to the largest window
+ *    (not saturated) send those flexes to the rest; `windowDependence` counts them.
  *  - A window or strip holding every cell of the supercell is not used: in a supercell at
  *    most w (or s) cells across every flex would otherwise be local (or a line).
  *  - decaying and bulk split the rest, ker R ⊖ (L ⊕ lines) (short pieces belong to it).
@@ -72,6 +77,7 @@ import { hermitianEigen as denseHermitianEigen } from '../linalg/hermitian-eig.j
 import type { SparseMatrix } from '../linalg/sparse.js';
 import type { Supercell } from '../supercell/supercell.js';
 import type { Anchor, Classification, ClassifiedMode, ClassifyOptions, FlexClass } from './classes.js';
+import { frameworkLineDirections } from './classify/line-directions.js';
 import { sparseSpaces } from './solve-sparse.js';
 import { throwIfAborted } from './solver.js';
 import type { FlexAnalysis } from './spaces.js';
@@ -81,12 +87,6 @@ import type { FlexAnalysis } from './spaces.js';
 
 export const DEFAULT_WINDOW = 3;
 export const DEFAULT_STRIP = 2;
-export const DEFAULT_DIRECTIONS: readonly [number, number][] = [
-  [1, 0],
-  [0, 1],
-  [1, 1],
-  [1, -1],
-];
 /** A strip flex is a line when its support runs along at least this fraction of the strip. */
 export const LINE_COVERAGE = 2 / 3;
 /**
@@ -1559,7 +1559,14 @@ function expand(n: number, dofs: Int32Array, v: { re: Float64Array; im: Float64A
  */
 export function classifyFlexes(sc: Supercell, analysis: FlexAnalysis, options: ClassifyOptions = {}): Classification {
   const { window, strip } = checkOptions(options);
-  const directions = (options.directions ?? DEFAULT_DIRECTIONS).map((d) => [d[0], d[1]] as [number, number]);
+  const warnings: string[] = [];
+  // line directions come from the framework: the lattice directions of its straight bar chains
+  const frameworkLines = frameworkLineDirections(sc.framework).map((l) => l.direction);
+  const carriesLine = (d: [number, number]) => frameworkLines.some((e) => (e[0] === d[0] && e[1] === d[1]) || (e[0] === -d[0] && e[1] === -d[1]));
+  const asked = (options.directions ?? frameworkLines).map((d) => [d[0], d[1]] as [number, number]);
+  const directions = asked.filter(carriesLine);
+  for (const d of asked)
+    if (!carriesLine(d)) warnings.push(`direction (${d[0]}, ${d[1]}) carries no straight line of bars in this framework, so no line flex can run along it; it was not used`);
   const progress = options.onProgress;
   const signal = options.signal;
   const ctx = makeContext(sc, analysis, options.restrictedSolve ?? 'auto');
@@ -1567,7 +1574,6 @@ export function classifyFlexes(sc: Supercell, analysis: FlexAnalysis, options: C
   const ax = geo.ax;
   const n = ctx.n;
   const J = sc.jointCount;
-  const warnings: string[] = [];
   const f = analysis.flexes;
 
   const span = new Span(n, ctx.spanTol);
@@ -1581,6 +1587,19 @@ export function classifyFlexes(sc: Supercell, analysis: FlexAnalysis, options: C
   };
   const windows = windowsOf(ax, window);
   const strips = directions.flatMap((d) => stripsOf(ax, d, strip)).sort((a, b) => a.width - b.width);
+  const stripsByCell = indexStrips(strips, ax);
+  const cornerFinds: { corner: string; size: number; index: number; mode: ClassifiedMode }[] = [];
+  const cornerCells: [string, number][] =
+    ax.px || ax.py
+      ? []
+      : [
+          ['bottom-left', 0],
+          ['bottom-right', ax.N1 - 1],
+          ['top-left', (ax.N2 - 1) * ax.N1],
+          ['top-right', ax.N2 * ax.N1 - 1],
+        ];
+  /** The corner of a free sample a window holds (the first, when it holds several), or null. */
+  const cornerOf = (win: Region): string | null => cornerCells.find(([, c]) => win.cells.includes(c))?.[0] ?? null;
   const totalSteps = windows.length + 2 * strips.length + 1;
   let step = 0;
   const tick = (stage: string) => {
@@ -1593,91 +1612,136 @@ export function classifyFlexes(sc: Supercell, analysis: FlexAnalysis, options: C
   for (const win of windows) {
     if (span.dim < f) {
       const block = restrictedKernel(ctx, jointsOfCells(ctx, win.cells));
-      for (const v of span.extend(block)) {
+      const base = span.dim;
+      for (const [t, v] of span.extend(block).entries()) {
         const full = expand(n, block.dofs, v);
         const w = jointWeights(full, J);
-        modes.push({ class: 'local', vector: full, ...basicMetrics(geo, w), region: win.label });
+        // a window flex that is a whole straight line of the sample (a short line cutting a
+        // corner) is a line: how many such lines fit in a window depends on the window only
+        const line = wholeLineOf(stripsByCell, geo, w);
+        if (line) modes.push({ class: 'line', vector: full, ...basicMetrics(geo, w), direction: line.direction, region: `${win.label}, whole ${line.label}` });
+        else {
+          const mode: ClassifiedMode = { class: 'local', vector: full, ...basicMetrics(geo, w), region: win.label };
+          modes.push(mode);
+          const corner = cornerOf(win);
+          if (corner) cornerFinds.push({ corner, size: win.width, index: base + t, mode });
+        }
       }
     }
     tick('local windows');
   }
-  const nLocal = span.dim;
+  // corner windows: when every corner window from size w0 up to the largest adds flexes, the
+  // count at that corner has not saturated; the flexes found from w0 on are pieces of a
+  // boundary family (how many fit depends on the window) and go to the rest, where they are
+  // localised and tested for decay like every boundary mode
+  const confinedIdx = new Set<number>();
+  const windowDependence: { window: number; cornerConfined: number }[] = [];
+  {
+    // per corner, the sizes from which every larger corner window still added a flex
+    const from = new Map<string, number>();
+    for (const corner of new Set(cornerFinds.map((c) => c.corner))) {
+      let w0 = window + 1;
+      while (w0 > 1 && cornerFinds.some((c) => c.corner === corner && c.size === w0 - 1)) w0--;
+      from.set(corner, w0);
+    }
+    const confined = cornerFinds.filter((c) => c.size >= from.get(c.corner)!);
+    for (const c of confined) confinedIdx.add(c.index);
+    const drop = new Set(confined.map((c) => c.mode));
+    for (let t = modes.length - 1; t >= 0; t--) if (drop.has(modes[t])) modes.splice(t, 1);
+    for (let size = 1; size <= window; size++) windowDependence.push({ window: size, cornerConfined: confined.filter((c) => c.size <= size).length });
+  }
   lap('windows');
 
-  // 2. strips: kernels and their short sub-segments; M = L + short pieces
-  const stripKernels: { region: Region; block: Block }[] = [];
-  for (const s of strips) {
-    if (span.dim < f) {
-      const block = restrictedKernel(ctx, jointsOfCells(ctx, s.cells));
-      if (block.vectors.length) {
-        stripKernels.push({ region: s, block });
-        // sub-segment kernels inside ker_S: candidates small outside T (≤ SPAN_TOLERANCE),
-        // cut to T and kept by the rank rule, like every restricted kernel
-        const jointPos = new Map<number, number>();
-        block.dofs.forEach((d, t) => {
-          if (t % 2 === 0) jointPos.set(d >> 1, t >> 1);
-        });
-        const cellOfJoint = (j: number) => geo.jointCell[j];
-        for (const seg of shortSegments(s)) {
-          const segCells = new Set(seg.map((t) => s.cells[t]));
-          const outside: number[] = [];
-          for (const [j, t] of jointPos) if (!segCells.has(cellOfJoint(j))) outside.push(t);
-          const k = block.vectors.length;
-          const Hre = new Float64Array(k * k);
-          const Him = block.vectors.some((v) => v.im.some((x) => x !== 0)) ? new Float64Array(k * k) : null;
-          for (const t of outside)
-            for (const comp of [2 * t, 2 * t + 1])
-              for (let a = 0; a < k; a++) {
-                const ar = block.vectors[a].re[comp];
-                const ai = block.vectors[a].im[comp];
-                for (let b = 0; b < k; b++) {
-                  const br = block.vectors[b].re[comp];
-                  const bi = block.vectors[b].im[comp];
-                  Hre[a * k + b] += ar * br + ai * bi;
-                  if (Him) Him[a * k + b] += ar * bi - ai * br;
-                }
-              }
-          const eig = hermitianEigen(Hre, Him, k);
-          const short: { re: Float64Array; im: Float64Array }[] = [];
-          eig.values.forEach((lam, t) => {
-            if (lam > ctx.spanTol ** 2) return;
-            const v = combine(block.vectors, eig.vectors[t]);
-            for (const tt of outside) v.re[2 * tt] = v.re[2 * tt + 1] = v.im[2 * tt] = v.im[2 * tt + 1] = 0;
-            const nv = norm(v);
-            if (nv > 0.5) {
-              scaleInPlace(v, 1 / nv);
-              short.push(v);
-            }
+  // 2. strips, narrowest first; for each width: the strips' kernels and their short
+  //    sub-segments (M grows by the short pieces), then the lines of that width, ker_S ⊖ M.
+  //    Narrower lines are known before wider strips are cut, so a whole short line (at a
+  //    corner) is never taken as a short piece of a wider strip.
+  const shortIdx = new Set<number>();
+  const widths = [...new Set(strips.map((s) => s.width))].sort((a, b) => a - b);
+  const stripTime = { strips: 0, lines: 0 };
+  for (const width of widths) {
+    const stripKernels: { region: Region; block: Block }[] = [];
+    let t0 = performance.now();
+    for (const s of strips) {
+      if (s.width !== width) continue;
+      if (span.dim < f) {
+        const block = restrictedKernel(ctx, jointsOfCells(ctx, s.cells));
+        if (block.vectors.length) {
+          stripKernels.push({ region: s, block });
+          // sub-segment kernels inside ker_S: candidates small outside T (≤ SPAN_TOLERANCE),
+          // cut to T and kept by the rank rule, like every restricted kernel
+          const jointPos = new Map<number, number>();
+          block.dofs.forEach((d, t) => {
+            if (t % 2 === 0) jointPos.set(d >> 1, t >> 1);
           });
-          const pieces = certify(ctx, block.dofs, short);
-          if (pieces.length) span.extend({ dofs: block.dofs, vectors: pieces });
+          const cellOfJoint = (j: number) => geo.jointCell[j];
+          for (const seg of shortSegments(s)) {
+            const segCells = new Set(seg.map((t) => s.cells[t]));
+            const outside: number[] = [];
+            for (const [j, t] of jointPos) if (!segCells.has(cellOfJoint(j))) outside.push(t);
+            const k = block.vectors.length;
+            const Hre = new Float64Array(k * k);
+            const Him = block.vectors.some((v) => v.im.some((x) => x !== 0)) ? new Float64Array(k * k) : null;
+            for (const t of outside)
+              for (const comp of [2 * t, 2 * t + 1])
+                for (let a = 0; a < k; a++) {
+                  const ar = block.vectors[a].re[comp];
+                  const ai = block.vectors[a].im[comp];
+                  for (let b = 0; b < k; b++) {
+                    const br = block.vectors[b].re[comp];
+                    const bi = block.vectors[b].im[comp];
+                    Hre[a * k + b] += ar * br + ai * bi;
+                    if (Him) Him[a * k + b] += ar * bi - ai * br;
+                  }
+                }
+            const eig = hermitianEigen(Hre, Him, k);
+            const short: { re: Float64Array; im: Float64Array }[] = [];
+            eig.values.forEach((lam, t) => {
+              if (lam > ctx.spanTol ** 2) return;
+              const v = combine(block.vectors, eig.vectors[t]);
+              for (const tt of outside) v.re[2 * tt] = v.re[2 * tt + 1] = v.im[2 * tt] = v.im[2 * tt + 1] = 0;
+              const nv = norm(v);
+              if (nv > 0.5) {
+                scaleInPlace(v, 1 / nv);
+                short.push(v);
+              }
+            });
+            const pieces = certify(ctx, block.dofs, short);
+            if (pieces.length) {
+              const before = span.dim;
+              span.extend({ dofs: block.dofs, vectors: pieces });
+              for (let t = before; t < span.dim; t++) shortIdx.add(t);
+            }
+          }
         }
       }
+      tick('strips');
     }
-    tick('strips');
-  }
-  const nShort = span.dim - nLocal;
-  lap('strips');
-  const shortEnd = span.dim;
-
-  // 3. lines: strip kernels modulo M, narrowest strips first
-  for (const { region, block } of stripKernels) {
-    if (span.dim < f) {
-      for (const v of span.extend(block)) {
-        const full = expand(n, block.dofs, v);
-        const w = jointWeights(full, J);
-        modes.push({ class: 'line', vector: full, ...basicMetrics(geo, w), direction: region.direction, region: region.label });
+    stripTime.strips += (performance.now() - t0) / 1000;
+    t0 = performance.now();
+    // lines of this width: strip kernels modulo M
+    for (const { region, block } of stripKernels) {
+      if (span.dim < f) {
+        for (const v of span.extend(block)) {
+          const full = expand(n, block.dofs, v);
+          const w = jointWeights(full, J);
+          modes.push({ class: 'line', vector: full, ...basicMetrics(geo, w), direction: region.direction, region: region.label });
+        }
       }
+      tick('lines');
     }
-    tick('lines');
+    stripTime.lines += (performance.now() - t0) / 1000;
   }
-  lap('lines');
+  const nShort = shortIdx.size;
+  timings.strips = stripTime.strips;
+  timings.lines = stripTime.lines;
+  clock = performance.now();
   if (span.dim > f) warnings.push(`the local, short and line spans have ${span.dim} dimensions, more than the ${f} flexes: the rank tolerance is not consistent between the restricted problems and the whole matrix`);
   // keep the counts summing to the flexes even then: drop the last line (then local) modes found
   while (modes.length > f) modes.pop();
 
   // 4. the rest: ker R ⊖ (L ⊕ lines)
-  const takenIndices = Array.from({ length: span.dim }, (_, t) => t).filter((t) => t < nLocal || t >= shortEnd).slice(0, f);
+  const takenIndices = Array.from({ length: span.dim }, (_, t) => t).filter((t) => !shortIdx.has(t) && !confinedIdx.has(t)).slice(0, f);
   const restDim = Math.max(0, f - takenIndices.length);
   const taken = restDim > 0 ? span.orthonormal(takenIndices) : [];
   // the global flex basis is needed only for a rest (the count f is known without it)
@@ -1765,8 +1829,11 @@ export function classifyFlexes(sc: Supercell, analysis: FlexAnalysis, options: C
     thresholds: {
       window,
       strip,
-      directions: directions.map((d) => `(${d[0]},${d[1]})`).join(' '),
+      directions: directions.map((d) => `(${d[0]},${d[1]})`).join(' ') || 'none (no straight line of bars)',
+      lineDirections: 'lattice directions of straight chains of collinear bars, found from the unit cell',
       windowsTried: 'square, 1×1 up to window×window cells, every position',
+      windowDependence: windowDependence.map((x) => `${x.window}:${x.cornerConfined}`).join(' '),
+      cornerConfined: 'flexes of corner windows of sizes w0…window at a corner where each of those sizes added flexes (not saturated) go to the rest; windowDependence counts them by window size',
       lineCoverage: LINE_COVERAGE,
       rankToleranceRelative: analysis.tolerance.relative,
       rankToleranceAbsolute: analysis.tolerance.absolute,
@@ -1785,9 +1852,60 @@ export function classifyFlexes(sc: Supercell, analysis: FlexAnalysis, options: C
     },
     modes,
     shortStripFlexes: nShort,
+    windowDependence,
     timings,
     ...(warnings.length ? { warnings } : {}),
   };
+}
+
+/** The strips holding each cell, narrowest first. */
+function indexStrips(strips: Region[], ax: Axes): Region[][] {
+  const out: Region[][] = Array.from({ length: ax.N1 * ax.N2 }, () => []);
+  for (const s of [...strips].sort((a, b) => a.width - b.width)) for (const c of s.cells) out[c].push(s);
+  return out;
+}
+
+/**
+ * The strip of which the vector (joint weights w) is a whole line: its support lies in the
+ * strip and runs along at least LINE_COVERAGE of the strip's length. Null when none.
+ */
+function wholeLineOf(stripsByCell: Region[][], geo: Geometry, w: Float64Array): Region | null {
+  let top = 0;
+  for (const x of w) top = Math.max(top, x);
+  const cells = new Set<number>();
+  const joints: number[] = [];
+  for (let k = 0; k < w.length; k++)
+    if (w[k] > 1e-20 * top) {
+      cells.add(geo.jointCell[k]);
+      joints.push(k);
+    }
+  if (joints.length < 2) return null;
+  const first = cells.values().next().value as number;
+  for (const s of stripsByCell[first]) {
+    const alongOf = new Map<number, number>();
+    s.cells.forEach((c, t) => alongOf.set(c, s.along![t]));
+    const ks: number[] = [];
+    let inside = true;
+    for (const c of cells) {
+      const k = alongOf.get(c);
+      if (k === undefined) {
+        inside = false;
+        break;
+      }
+      ks.push(k);
+    }
+    if (!inside) continue;
+    const covered = s.closed ? new Set(ks).size : Math.max(...ks) - Math.min(...ks) + 1;
+    if (covered >= LINE_COVERAGE * s.length! && onOneLine(geo, joints, s.direction!)) return s;
+  }
+  return null;
+}
+
+/** Whether the joints lie on one straight line along lattice direction d (fractional coordinates). */
+function onOneLine(geo: Geometry, joints: number[], d: [number, number]): boolean {
+  const off = (k: number) => d[0] * geo.frac[2 * k + 1] - d[1] * geo.frac[2 * k];
+  const o0 = off(joints[0]);
+  return joints.every((k) => Math.abs(off(k) - o0) <= 1e-9 * (1 + Math.abs(o0)));
 }
 
 /** Relative margin of the near/far comparison of mean distances (see splitByBoundaryDistance). */
@@ -1943,8 +2061,9 @@ function addScaled(v: Cx, p: Cx, wr: number, wi: number, real = false): void {
 }
 
 /**
- * SCDM (Damle, Lin & Ying 2015): column-pivoted QR of Ψᴴ picks r degrees of freedom C; the
- * orthonormal localised basis is Ψ·polar(Ψ(C,:)ᴴ).
+ * SCDM (Damle, Lin & Ying 2015) on joint blocks: a column-pivoted QR of Ψᴴ whose candidate
+ * columns are, per joint, the velocity component along the block's top direction (so the
+ * choice turns with the drawing); the orthonormal localised basis is Ψ·polar(Ψ(C,:)ᴴ).
  */
 /**
  * The order in which SCDM scans the dofs for its pivot, so that exact ties (symmetric
@@ -1960,6 +2079,21 @@ function pivotOrder(sc: Supercell): Int32Array {
     return ((sc.jointSites[k] * N2 + sc.jointCells[2 * k + 1]) * N1 + sc.jointCells[2 * k]) * 2 + (d & 1);
   };
   return Int32Array.from({ length: 2 * J }, (_, d) => d).sort((x, y) => key(x) - key(y));
+}
+
+/** Σ_c X[i][c]·conj(X[j][c]) for rows i, j of the row-major n×r matrix X (complex). */
+function rowDot(Xre: Float64Array, Xim: Float64Array, i: number, j: number, r: number): [number, number] {
+  let sr = 0;
+  let si = 0;
+  for (let c = 0; c < r; c++) {
+    const ar = Xre[i * r + c];
+    const ai = Xim[i * r + c];
+    const br = Xre[j * r + c];
+    const bi = Xim[j * r + c];
+    sr += ar * br + ai * bi;
+    si += ai * br - ar * bi;
+  }
+  return [sr, si];
 }
 
 function scdm(psi: { re: Float64Array; im: Float64Array }[], complex: boolean, order: Int32Array): { re: Float64Array; im: Float64Array }[] {
@@ -1979,33 +2113,78 @@ function scdm(psi: { re: Float64Array; im: Float64Array }[], complex: boolean, o
     for (let a = 0; a < r; a++) s += Xre[j * r + a] ** 2 + Xim[j * r + a] ** 2;
     res[j] = s;
   }
-  const pivots: number[] = [];
-  const done = new Uint8Array(n);
+  // joint blocks: both coordinates of a joint together, so that turning the drawing (which
+  // mixes x and y at every joint) selects the same columns. A step takes the joint whose
+  // residual block B (rows x, y of Ψᴴ) has the largest top singular value, and the column
+  // uᴴB along B's top left singular vector u (a direction in the plane, turning with the
+  // drawing); that column is then eliminated from every row. A joint may be taken twice.
   const qre = new Float64Array(r);
   const qim = new Float64Array(r);
+  const J = n >> 1;
+  const jointOrder = Int32Array.from(order.filter((d) => (d & 1) === 0), (d) => d >> 1);
+  const taken = new Uint8Array(J);
+  const top = new Float64Array(J);
+  const topOf = (k: number) => {
+    const a = res[2 * k];
+    const d = res[2 * k + 1];
+    const [br, bi] = rowDot(Xre, Xim, 2 * k, 2 * k + 1, r);
+    return (a + d) / 2 + Math.sqrt(((a - d) / 2) ** 2 + br * br + bi * bi);
+  };
+  for (let k = 0; k < J; k++) top[k] = topOf(k);
+  // column selected at each step: u_x·Ψᴴ[:, 2k] + u_y·Ψᴴ[:, 2k+1] (of the original Ψ in M)
+  const sel: { k: number; uxr: number; uxi: number; uyr: number; uyi: number }[] = [];
   for (let step = 0; step < r; step++) {
-    const p = pickPivot(order, done, res);
-    pivots.push(p);
-    done[p] = 1;
-    // orthonormal direction from the current residual of column p
+    const k = pickPivot(jointOrder, taken, top);
+    if (k < 0) break;
+    // top eigenvector u of the 2×2 Gram [[a, b], [conj b, d]] of the residual block
+    const a = res[2 * k];
+    const d = res[2 * k + 1];
+    const [br, bi] = rowDot(Xre, Xim, 2 * k, 2 * k + 1, r);
+    const lam = top[k];
+    let u: [number, number, number, number]; // ux re, ux im, uy re, uy im
+    if (Math.hypot(br, bi) > 1e-14 * lam) u = [br, -bi, lam - a, 0];
+    else u = a >= d ? [1, 0, 0, 0] : [0, 0, 1, 0];
+    const nu = Math.hypot(...u);
+    u = [u[0] / nu, u[1] / nu, u[2] / nu, u[3] / nu];
+    sel.push({ k, uxr: u[0], uxi: u[1], uyr: u[2], uyi: u[3] });
+    // q = u_x·row_x + u_y·row_y of the residual, normalised
     let nq = 0;
-    for (let a = 0; a < r; a++) nq += Xre[p * r + a] ** 2 + Xim[p * r + a] ** 2;
-    nq = Math.sqrt(nq);
-    if (nq === 0) continue;
-    for (let a = 0; a < r; a++) {
-      qre[a] = Xre[p * r + a] / nq;
-      qim[a] = Xim[p * r + a] / nq;
+    for (let c = 0; c < r; c++) {
+      const xr = Xre[2 * k * r + c];
+      const xi = Xim[2 * k * r + c];
+      const yr = Xre[(2 * k + 1) * r + c];
+      const yi = Xim[(2 * k + 1) * r + c];
+      qre[c] = u[0] * xr - u[1] * xi + u[2] * yr - u[3] * yi;
+      qim[c] = u[0] * xi + u[1] * xr + u[2] * yi + u[3] * yr;
+      nq += qre[c] ** 2 + qim[c] ** 2;
     }
-    for (let j = 0; j < n; j++) if (!done[j]) res[j] = eliminateRow(Xre, Xim, j, r, qre, qim, !complex);
+    nq = Math.sqrt(nq);
+    if (nq === 0) {
+      taken[k] = 1;
+      continue;
+    }
+    for (let c = 0; c < r; c++) {
+      qre[c] /= nq;
+      qim[c] /= nq;
+    }
+    for (let j = 0; j < n; j++) res[j] = eliminateRow(Xre, Xim, j, r, qre, qim, !complex);
+    for (let kk = 0; kk < J; kk++) if (!taken[kk]) top[kk] = topOf(kk);
+    if (sel.filter((x) => x.k === k).length === 2) taken[k] = 1;
   }
-  // M = Ψ(C,:)ᴴ: M[a][b] = conj(ψ_a[c_b])
+  // M = Ψ(C,:)ᴴ for the selected columns: M[a][b] = u_x·conj(ψ_a[2k]) + u_y·conj(ψ_a[2k+1])
   const Mre = new Float64Array(r * r);
   const Mim = complex ? new Float64Array(r * r) : null;
   for (let a = 0; a < r; a++)
-    for (let b = 0; b < r; b++) {
-      Mre[a * r + b] = psi[a].re[pivots[b]];
-      if (Mim) Mim[a * r + b] = -psi[a].im[pivots[b]];
-    }
+    sel.forEach((c, b) => {
+      const xr = psi[a].re[2 * c.k];
+      const xi = psi[a].im[2 * c.k];
+      const yr = psi[a].re[2 * c.k + 1];
+      const yi = psi[a].im[2 * c.k + 1];
+      const zr = c.uxr * xr + c.uxi * xi + c.uyr * yr + c.uyi * yi;
+      const zi = c.uxr * xi - c.uxi * xr + c.uyr * yi - c.uyi * yr;
+      Mre[a * r + b] = zr;
+      if (Mim) Mim[a * r + b] = -zi;
+    });
   const W = polarFactor(Mre, Mim, r);
   const out: { re: Float64Array; im: Float64Array }[] = [];
   for (let b = 0; b < r; b++) {
