@@ -1,3 +1,4 @@
+/// <reference types="vitest/config" />
 /** Vite serves and builds the browser app (index.html → src/app/main.ts, worker in src/worker). */
 import { defineConfig } from 'vite';
 
@@ -7,4 +8,7 @@ export default defineConfig({
   worker: { format: 'es' },
   build: { target: 'es2022', outDir: 'dist', chunkSizeWarningLimit: 2000 },
   optimizeDeps: { include: ['pixi.js', 'd3-scale', 'gif.js', 'ml-matrix'] },
+  // numerical tests of a few seconds can pass 5 s when test files share two cores: a time limit
+  // here only catches hangs (speed targets live in the benchmark)
+  test: { testTimeout: 60_000 },
 });

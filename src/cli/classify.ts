@@ -81,7 +81,10 @@ export function modeWhere(m: ClassifiedMode): string {
   return m.region ?? '';
 }
 
-function outputObject(a: SupercellArgs, r: ClassifyRun, withVectors: boolean, sides: SideWeights): Record<string, unknown> {
+/** Up to this many columns the side weights are always computed (the full flex basis is cheap). */
+const SIDE_WEIGHTS_ALWAYS_DOF = 2400;
+
+function outputObject(a: SupercellArgs, r: ClassifyRun, withVectors: boolean, sides: SideWeights | null): Record<string, unknown> {
   const c = r.classification;
   return {
     framework: a.spec,
@@ -95,6 +98,7 @@ function outputObject(a: SupercellArgs, r: ClassifyRun, withVectors: boolean, si
     selfStresses: r.analysis.selfStresses,
     counts: c.counts,
     sideWeights: sides,
+    ...(sides ? {} : { sideWeightsNote: sideWeightsSkipped(r) }),
     shortStripFlexes: c.shortStripFlexes ?? 0,
     thresholds: c.thresholds,
     solver: r.analysis.solver,
@@ -115,6 +119,7 @@ export const classifyCommand: Command = {
   flags: [
     ...SUPERCELL_FLAGS,
     ...CLASSIFY_FLAGS,
+    { name: '--side-weights', help: `compute the side weights even above ${SIDE_WEIGHTS_ALWAYS_DOF} columns (they need the whole flex basis, which the classifier otherwise avoids)` },
     { name: '--json', help: 'print one JSON object (counts, thresholds, modes without vectors)' },
     { name: '--out', value: 'FILE', help: 'also write the full JSON, vectors included, to FILE' },
     { name: '--help', help: 'show this help' },
@@ -127,7 +132,7 @@ export const classifyCommand: Command = {
     const outPath = args.flags.get('--out') as string | undefined;
     const r = runClassification(a, opts, progressLine(io, 'classify'));
     const c = r.classification;
-    const sides = sideWeights(r.supercell, r.analysis);
+    const sides = args.flags.has('--side-weights') || r.analysis.dof <= SIDE_WEIGHTS_ALWAYS_DOF ? sideWeights(r.supercell, r.analysis) : null;
     if (outPath !== undefined) writeOutFile(outPath, JSON.stringify(outputObject(a, r, true, sides)) + '\n');
     if (args.flags.has('--json')) {
       io.out(safeJson(JSON.stringify({ ...outputObject(a, r, false, sides), ...(outPath !== undefined ? { out: outPath } : {}) }, null, 2)) + '\n');
@@ -140,7 +145,12 @@ export const classifyCommand: Command = {
       table([
         ['flexes', `${c.flexes} (${c.trivialFlexes} of them trivial: rigid motions the boundary allows, not removed)`],
         ...FLEX_CLASSES.map((k) => [k, String(c.counts[k])] as [string, string]),
-        ['side weights', `bottom ${fmt(sides.bottom, 4)}, top ${fmt(sides.top, 4)}, left ${fmt(sides.left, 4)}, right ${fmt(sides.right, 4)} (non-trivial flexes by nearest side; — on a twisted or periodic axis)`],
+        [
+          'side weights',
+          sides
+            ? `bottom ${fmt(sides.bottom, 4)}, top ${fmt(sides.top, 4)}, left ${fmt(sides.left, 4)}, right ${fmt(sides.right, 4)} (non-trivial flexes by nearest side; — on a twisted or periodic axis)`
+            : sideWeightsSkipped(r),
+        ],
         ['short strip pieces', `${c.shortStripFlexes ?? 0} (in no window and on under 2/3 of a strip; counted as decaying or bulk)`],
         ['solver', `${r.analysis.solver} (${r.analysis.solverReason})`],
       ]).trimEnd(),
@@ -164,3 +174,7 @@ export const classifyCommand: Command = {
     return 0;
   },
 };
+
+function sideWeightsSkipped(r: ClassifyRun): string {
+  return `not computed: ${r.analysis.dof} columns is over ${SIDE_WEIGHTS_ALWAYS_DOF}, and they need the whole flex basis (pass --side-weights)`;
+}
