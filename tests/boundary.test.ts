@@ -158,3 +158,30 @@ describe('pinned and mixed boundaries: counts derived by hand', () => {
     expect([c.flexes, c.trivialFlexes, c.selfStresses]).toEqual([3, 0, 0]);
   });
 });
+
+describe('--bc contradictions', () => {
+  // a twisted axis wraps onto itself and has no sides, so naming one of its sides contradicts it
+  it.each([
+    ['x=periodic,left=pinned', '--bc left'],
+    ['left=pinned,x=periodic', '--bc left'],
+    ['y=twist:0.25,top=free', '--bc top'],
+    ['bottom=pinned,y=twist:0.5', '--bc bottom'],
+  ])('refuses "%s", naming %s and the fix', (spec, where) => {
+    try {
+      parseBoundary(spec);
+      expect.unreachable();
+    } catch (e) {
+      expect(e).toBeInstanceOf(InputError);
+      const p = (e as InputError).problems;
+      expect(p).toHaveLength(1);
+      expect(p[0].where).toBe(where);
+      expect(p[0].what).toMatch(/contradicts/);
+      expect(p[0].fix).toMatch(/free/);
+    }
+  });
+  it('still reads sides on the other axis and an axis untwisted again', () => {
+    expect(parseBoundary('x=periodic,bottom=pinned').y).toEqual({ kind: 'sides', low: 'pinned', high: 'free' });
+    expect(parseBoundary('x=periodic,x=free,left=pinned').x).toEqual({ kind: 'sides', low: 'pinned', high: 'free' });
+    expect(parseBoundary('y=periodic,left=pinned,right=free').x).toEqual({ kind: 'sides', low: 'pinned', high: 'free' });
+  });
+});

@@ -4,6 +4,7 @@
  */
 import { CAUTION_SHORT } from '../caution.js';
 import { InputError, TooLargeError, type Problem } from '../errors.js';
+import { checkRunSize, type RunEstimate } from '../flex/estimate.js';
 import { checkFramework, parseFramework } from '../framework/validate.js';
 import { describeBoundary, parseBoundary } from '../supercell/boundary.js';
 import { checkCells } from '../supercell/supercell.js';
@@ -22,6 +23,7 @@ import { buildExtrasPanel, type ExtrasPanel } from './panels/extras.js';
 import { buildFrameworkPanel, type FrameworkPanel } from './panels/framework.js';
 import { buildMessages, type Message, type MessagesView } from './panels/messages.js';
 import { buildResultsPanel, type ResultsPanel } from './panels/results.js';
+import { buildSizeGuard, type SizeGuard } from './panels/size-guard.js';
 import { buildStagePanel, type StagePanel } from './panels/stage-panel.js';
 import { buildSupercellPanel, type SupercellPanel } from './panels/supercell.js';
 import { buildScene, fieldOf, stressValues, viewFor, type SceneModel } from './stage/scene.js';
@@ -42,8 +44,21 @@ import {
   type FrameworkSource,
 } from './state.js';
 
-/** Problems bigger than this (columns of R) are not run automatically on every change. */
+/** Problems bigger than this (columns of R) are not run automatically on every change: the size guard asks first. */
 export const AUTO_RUN_MAX_DOF = 1200;
+
+/**
+ * A size from a link or a state file waits for confirmation above any of these: columns of R
+ * (the drawing and the classifier grow with them; the estimate leaves the classifier out),
+ * estimated seconds, or estimated bytes.
+ */
+export const GUARD_LIMITS = { dof: 20_000, seconds: 10, bytes: 256 * 2 ** 20 };
+
+/** How a refusal names the cells and the way out in the app. */
+const SIZE_LABELS = { cells: 'cells', allow: 'run it from the command line with --allow-large' };
+
+/** What the size check says about the current settings. */
+export type SizeVerdict = { kind: 'ok'; estimate: RunEstimate } | { kind: 'refused'; error: TooLargeError } | { kind: 'invalid' };
 
 export type RunStatus =
   | { kind: 'idle' }
@@ -70,6 +85,9 @@ export class App {
   private exportPanel!: ExportPanel;
   private extrasPanel!: ExtrasPanel;
   private about!: HTMLDialogElement;
+  private guard!: SizeGuard;
+  /** A settings change waits for the automatic run (debounced, or held while editing N1/N2). */
+  private autoPending = false;
   private hashTimer = 0;
   private autoTimer = 0;
   private progressTimer = 0;
@@ -122,7 +140,8 @@ export class App {
     this.bindDrop();
     void this.client.features().then((f) => this.extrasPanel.setFeatures(f));
     this.pendingView = cloneState(this.state).view;
-    this.run();
+    if (this.demo) this.run();
+    else this.requestRun('link');
   }
 
   // ---- layout ---------------------------------------------------------------------------------
@@ -136,6 +155,7 @@ export class App {
     this.exportPanel = buildExportPanel(this);
     this.extrasPanel = buildExtrasPanel(this);
     this.about = buildAboutDialog();
+    this.guard = buildSizeGuard();
     const header = h(
       'header',
       { class: 'topbar' },
@@ -143,7 +163,7 @@ export class App {
       h('div', { class: 'topbar-actions' }, h('button', { type: 'button', class: 'ghost', onclick: () => this.openAbout(), 'data-testid': 'about' }, 'About & caution')),
     );
     const left = h('aside', { class: 'column left', 'aria-label': 'Framework and supercell' }, this.frameworkPanel.el, this.supercellPanel.el);
-    const centre = h('section', { class: 'column centre', 'aria-label': 'Stage' }, this.messages.el, this.stagePanel.el, this.extrasPanel.el);
+    const centre = h('section', { class: 'column centre', 'aria-label': 'Stage' }, this.messages.el, this.guard.el, this.stagePanel.el, this.extrasPanel.el);
     const right = h('aside', { class: 'column right', 'aria-label': 'Results and exports' }, this.resultsPanel.el, this.exportPanel.el);
     const dropHint = h('div', { class: 'drop-hint', 'aria-hidden': 'true' }, h('div', null, 'Drop a framework file (JSON) or a saved state file'));
     this.root.append(header, h('main', { class: 'workbench' }, left, centre, right), dropHint, this.about);
@@ -165,7 +185,9 @@ export class App {
       const [first] = e.message.split('\n');
       this.message(source, { kind: 'error', title: context ?? first, problems: e.problems, ...(context ? { detail: first } : {}) });
     } else if (e instanceof TooLargeError) {
-      this.message(source, { kind: 'error', title: 'Too large for memory', detail: e.message });
+      const fit = e.largestCells;
+      const title = e.secondsNeeded === undefined ? 'Too large for memory' : `Too large for one run${fit ? `: at most about ${fit[0]}×${fit[1]} cells fit` : ''}`;
+      this.message(source, { kind: 'error', title, detail: e.message });
     } else if (e instanceof RunError) {
       const err = e.error;
       if (err.kind === 'cancelled') this.message(source, { kind: 'info', title: `${err.message} The previous result is still shown.` });
@@ -181,6 +203,8 @@ export class App {
 
   setFramework(src: FrameworkSource): void {
     this.state.framework = src;
+    // a note about the old lattice's list (e.g. a flex that does not exist) no longer applies
+    this.message('selection', null);
     this.frameworkPanel.refresh();
     this.settingsChanged();
   }
@@ -192,10 +216,82 @@ export class App {
     this.syncHash();
     if (this.autoRun) {
       clearTimeout(this.autoTimer);
-      this.autoTimer = window.setTimeout(() => {
-        if (this.estimateDof() <= AUTO_RUN_MAX_DOF) this.run();
-      }, 300);
+      this.autoPending = true;
+      this.autoTimer = window.setTimeout(() => this.autoRunNow(false), 300);
     }
+  }
+
+  /**
+   * The debounced automatic run. While the focus is inside a `[data-hold-run]` group (N1 and
+   * N2) it waits, so that typing N1 then N2 never runs the size in between; `commitSettings`
+   * runs it when the focus leaves the group or Enter is pressed.
+   */
+  private autoRunNow(committed: boolean): void {
+    if (!this.autoRun || !this.autoPending) return;
+    if (!committed && document.activeElement?.closest('[data-hold-run]')) return;
+    this.autoPending = false;
+    // settings changed back to the shown result: nothing to run, unless another run is under way
+    if (!this.isStale() && this.status.kind !== 'running') return;
+    if (this.estimateDof() <= AUTO_RUN_MAX_DOF) this.run();
+    else this.requestRun('auto');
+  }
+
+  /** Called by a `[data-hold-run]` group when its edit is finished. */
+  commitSettings(): void {
+    if (!this.autoPending) return;
+    clearTimeout(this.autoTimer);
+    this.autoTimer = window.setTimeout(() => this.autoRunNow(true), 0);
+  }
+
+  /** The core's size check (src/flex/estimate.ts, as in the CLI) for these settings. */
+  sizeVerdict(s: AppState = this.state): SizeVerdict {
+    let fw;
+    let boundary;
+    try {
+      fw = frameworkOf(s.framework);
+      boundary = parseBoundary(s.bc);
+    } catch {
+      return { kind: 'invalid' };
+    }
+    try {
+      // the worker always computes the flex basis, so the estimate includes the bases
+      return { kind: 'ok', estimate: checkRunSize(fw, [s.cells[0], s.cells[1]], boundary, { solver: s.solver, bases: true, labels: SIZE_LABELS }) };
+    } catch (e) {
+      if (e instanceof TooLargeError) return { kind: 'refused', error: e };
+      return { kind: 'invalid' };
+    }
+  }
+
+  /**
+   * Runs the current settings unless they are large: a size from a link or a state file above
+   * GUARD_LIMITS, or an input change above AUTO_RUN_MAX_DOF, waits for the size guard; a size
+   * that cannot fit is refused with the largest that would.
+   */
+  requestRun(origin: 'link' | 'auto'): void {
+    const v = this.sizeVerdict();
+    if (v.kind !== 'ok') {
+      this.run();
+      return;
+    }
+    const e = v.estimate;
+    const large = origin === 'auto' ? 2 * e.joints > AUTO_RUN_MAX_DOF : 2 * e.joints > GUARD_LIMITS.dof || e.seconds > GUARD_LIMITS.seconds || e.bytes > GUARD_LIMITS.bytes;
+    if (!large) {
+      this.run();
+      return;
+    }
+    clearTimeout(this.autoTimer);
+    const what = origin === 'link' ? 'The link or file asks for' : 'These settings ask for';
+    this.guard.ask(
+      what,
+      e,
+      () => this.run(),
+      () => {
+        this.pendingView = null;
+        this.message('run', { kind: 'info', title: `Not run: ${e.cells[0]}×${e.cells[1]} cells waits for you. Press Run when you want it.` });
+        if (!this.result) this.stagePanel.setEmpty('Nothing computed yet: press Run to compute these settings.');
+      },
+    );
+    if (!this.result) this.stagePanel.setEmpty('Waiting for your confirmation of a large run (above the stage).');
   }
 
   /** Called by panels after they changed a view setting in `state.view`. */
@@ -241,8 +337,9 @@ export class App {
     this.exportPanel.refresh();
     this.applyViewToStage();
     this.pendingView = cloneState(s).view;
+    this.message('selection', null);
     this.syncHash();
-    this.run();
+    this.requestRun('link');
   }
 
   openHash(hash: string): void {
@@ -310,11 +407,20 @@ export class App {
 
   run(): void {
     clearTimeout(this.autoTimer);
+    this.autoPending = false;
+    this.guard.hide();
     let job: AnalyseJob;
     try {
       job = this.job();
     } catch (e) {
       this.reportError('run', e);
+      return;
+    }
+    const size = this.sizeVerdict();
+    if (size.kind === 'refused') {
+      this.pendingView = null;
+      this.reportError('run', size.error);
+      if (!this.result) this.stagePanel.setEmpty('No result yet: see the message above, change the settings and press Run.');
       return;
     }
     const seq = ++this.runSeq;
@@ -333,6 +439,8 @@ export class App {
     this.client
       .analyse(job, (fraction, stage) => {
         if (seq !== this.runSeq || this.status.kind !== 'running') return;
+        // progress only moves forward: a stage that restarts its own count does not move it back
+        if (fraction < this.status.fraction) return;
         this.status.fraction = fraction;
         this.status.stage = stage;
         if (this.status.showProgress) this.resultsPanel.refreshStatus();
@@ -422,6 +530,7 @@ export class App {
   }
 
   private selectNone(): void {
+    this.message('selection', null);
     this.stage.setField(null);
     this.resultsPanel.refreshSelection();
     this.stagePanel.refreshLegend();

@@ -63,6 +63,12 @@ export function sliderField(o: {
   integer?: boolean;
   /** Show the unit only in the tooltip (compact toolbars). */
   compact?: boolean;
+  /**
+   * Call onChange only when a drag settles (the slider's change event, on release or a key
+   * press); while dragging, onInput sees each value. For settings that start a computation.
+   */
+  settle?: boolean;
+  onInput?: (v: number) => void;
   onChange: (v: number) => void;
 }): NumberControl {
   const id = newId('f');
@@ -74,7 +80,14 @@ export function sliderField(o: {
     else range.value = String(v);
     o.onChange(v);
   };
-  range.addEventListener('input', () => apply(Number(range.value), 'range'));
+  range.addEventListener('input', () => {
+    if (!o.settle) apply(Number(range.value), 'range');
+    else {
+      num.value = range.value;
+      o.onInput?.(Number(range.value));
+    }
+  });
+  if (o.settle) range.addEventListener('change', () => apply(Number(range.value), 'range'));
   num.addEventListener('change', () => {
     const v = Number(num.value);
     const ok = num.value.trim() !== '' && Number.isFinite(v) && v >= o.min && v <= o.max && (!o.integer || Number.isInteger(v));

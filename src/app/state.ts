@@ -7,7 +7,7 @@ import { InputError, type Problem } from '../errors.js';
 import { GALLERY, galleryEntry, gallerySpec, parseGallerySpec } from '../framework/gallery.js';
 import type { Framework } from '../framework/types.js';
 import { checkFramework, parseFramework } from '../framework/validate.js';
-import { formatBoundary, parseBoundary } from '../supercell/boundary.js';
+import { formatBoundary, parseBoundary, type Boundary } from '../supercell/boundary.js';
 import { MAX_CELLS_PER_AXIS } from '../supercell/supercell.js';
 import { SOLVER_CHOICES, type SolverChoice } from '../flex/solver.js';
 import type { ArrowMode } from './stage/scene.js';
@@ -178,9 +178,23 @@ function cellsText(text: string, where: string, problems: Problem[]): [number, n
   return a !== undefined && b !== undefined ? [a, b] : undefined;
 }
 
+/** The app's boundary text: the `--bc` canonical form, with both axes periodic written `periodic`. */
+export function boundaryText(b: Boundary): string {
+  return b.x.kind === 'twist' && b.y.kind === 'twist' && b.x.theta === 0 && b.y.theta === 0 ? 'periodic' : formatBoundary(b);
+}
+
+/** boundaryText of a `--bc` string, or the string itself when it does not parse. */
+export function displayBoundary(text: string): string {
+  try {
+    return boundaryText(parseBoundary(text));
+  } catch {
+    return text;
+  }
+}
+
 function bcText(text: string, where: string, problems: Problem[]): string | undefined {
   try {
-    return formatBoundary(parseBoundary(text, where));
+    return boundaryText(parseBoundary(text, where));
   } catch (e) {
     if (e instanceof InputError) problems.push(...e.problems);
     else throw e;

@@ -8,7 +8,8 @@
  *   free | pinned | twist:θ1,θ2 | periodic
  *   or a comma list of  x=RULE | y=RULE | left=SIDE | right=SIDE | bottom=SIDE | top=SIDE
  *   with RULE = free | pinned | twist:θ | periodic and SIDE = free | pinned.
- * Later entries override earlier ones; anything unspecified is free.
+ * Later entries override earlier ones; anything unspecified is free. A side named on an axis
+ * that the same list twists (x=periodic,left=pinned) is refused: a twisted axis has no sides.
  */
 import { InputError, type Problem } from '../errors.js';
 
@@ -119,6 +120,14 @@ export function parseBoundary(spec: string, flag = '--bc'): Boundary {
     }
   } else {
     // A comma list of key=value entries. "twist:θ" values contain no commas in this form.
+    const sideNamed: Record<'x' | 'y', string | null> = { x: null, y: null };
+    const twistNamed: Record<'x' | 'y', string | null> = { x: null, y: null };
+    const contradiction = (axis: 'x' | 'y', side: string, twist: string) =>
+      problems.push({
+        where: `${flag} ${side.split('=')[0]}`,
+        what: `"${twist}" wraps axis ${axis === 'x' ? 1 : 2}, so it has no ${side.split('=')[0]} side to make ${side.split('=')[1]}; "${side}" contradicts it`,
+        fix: `drop one of the two: keep ${twist} (a twisted axis has no sides), or replace it with ${axis}=free and keep ${side}`,
+      });
     for (const entry of s.split(',')) {
       const eq = entry.indexOf('=');
       if (eq < 0) {
@@ -130,6 +139,10 @@ export function parseBoundary(spec: string, flag = '--bc'): Boundary {
       const where = `${flag} ${key}`;
       if (key === 'x' || key === 'y') {
         const rule = parseAxisRule(value, where, problems);
+        if (rule?.kind === 'twist') {
+          twistNamed[key] = `${key}=${value}`;
+          if (sideNamed[key]) contradiction(key, sideNamed[key], twistNamed[key]);
+        } else if (rule) twistNamed[key] = null;
         if (rule) b[key] = rule;
       } else if (key === 'left' || key === 'right' || key === 'bottom' || key === 'top') {
         if (value !== 'free' && value !== 'pinned') {
@@ -137,6 +150,12 @@ export function parseBoundary(spec: string, flag = '--bc'): Boundary {
           continue;
         }
         const axis = key === 'left' || key === 'right' ? 'x' : 'y';
+        sideNamed[axis] = `${key}=${value}`;
+        const twist = twistNamed[axis];
+        if (twist) {
+          contradiction(axis, sideNamed[axis], twist);
+          continue;
+        }
         const cur = b[axis];
         const base: SidesRule = cur.kind === 'sides' ? cur : sides('free', 'free');
         const low = key === 'left' || key === 'bottom';

@@ -71,13 +71,14 @@ export async function analyse(job: AnalyseJob, hooks: Hooks = {}): Promise<Analy
     tolerance: job.tolerance,
     solver: job.solver,
     signal: hooks.signal,
-    onProgress: (p) => progress(0.05 + 0.35 * p.fraction, `rank: ${p.stage}`),
+    // the solver's own stage names are internals; the app says what is being found
+    onProgress: (p) => progress(0.05 + 0.35 * p.fraction, 'counting flexes and self-stresses (the rank of R)'),
   });
   lap('rank');
   const counts = countsOf(analysis);
   const geometry = geometryOf(supercell);
 
-  progress(0.4, 'flex basis');
+  progress(0.4, 'finding the flexes');
   await step();
   const basis = analysis.flexBasis();
   lap('flex basis');
@@ -85,7 +86,7 @@ export async function analyse(job: AnalyseJob, hooks: Hooks = {}): Promise<Analy
   let stresses: StressData[] = [];
   let stressNote: string | undefined;
   if (job.stresses && analysis.selfStresses > 0) {
-    progress(0.55, 'self-stress basis');
+    progress(0.55, 'finding the self-stresses');
     await step();
     try {
       stresses = analysis.selfStressBasis().vectors.map((v) => split(v, analysis.real));
@@ -109,7 +110,7 @@ export async function analyse(job: AnalyseJob, hooks: Hooks = {}): Promise<Analy
       window: job.window,
       strip: job.strip,
       signal: hooks.signal,
-      onProgress: (p) => progress(0.65 + 0.35 * p.fraction, `classes: ${p.stage}`),
+      onProgress: (p) => progress(0.65 + 0.35 * p.fraction, 'sorting the flexes: local, line, decaying, bulk'),
     });
     lap('classify');
     const order: Record<FlexClass, number> = { local: 0, line: 1, decaying: 2, bulk: 3 };

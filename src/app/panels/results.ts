@@ -4,6 +4,7 @@ import { FLEX_CLASSES, type FlexClass } from '../../flex/classes.js';
 import type { ModeData } from '../../worker/protocol.js';
 import type { App } from '../app.js';
 import { clear, fmt, h, section } from '../dom.js';
+import { displayBoundary } from '../state.js';
 
 export interface ResultsPanel {
   el: HTMLElement;
@@ -59,6 +60,11 @@ export function buildResultsPanel(app: App): ResultsPanel {
     row('  of which trivial', c.trivial, 'rigid motions the boundary allows that are flexes'),
     row('  non-trivial', c.nontrivial),
     row('self-stresses', c.stresses, 'dim ker Rᴴ: bar tensions in equilibrium without load'),
+  );
+  // the rank evidence folds away so that the flex list stays in sight on a laptop screen
+  const evidence = h(
+    'dl',
+    { class: 'counts' },
     row('Maxwell–Calladine', c.mc, 'flexes − self-stresses = 2·joints − bars, an identity of the counts'),
     row('rank', c.rank),
     row('singular-value gap', c.gap, 'smallest kept σ / largest dropped σ; under 10⁴ the rank is ambiguous'),
@@ -79,6 +85,20 @@ export function buildResultsPanel(app: App): ResultsPanel {
   const tabStress = h('button', { type: 'button', role: 'tab', class: 'tab', 'data-testid': 'tab-stresses', 'aria-selected': 'false' }, 'Self-stresses');
   const list = h('div', { class: 'mode-list', role: 'listbox', 'aria-label': 'Basis flexes', 'data-testid': 'mode-list', tabindex: '-1' });
   let listing: 'flex' | 'stress' = 'flex';
+  // arrow keys, Home and End move the selection inside the list and keep the focus on it
+  list.addEventListener('keydown', (e) => {
+    if (e.altKey || e.ctrlKey || e.metaKey) return;
+    const r = app.result;
+    const n = !r ? 0 : listing === 'flex' ? r.modes.length : r.stresses.length;
+    const cur = listing === 'flex' ? app.state.view.flex : app.state.view.stress;
+    const to = e.key === 'ArrowDown' || e.key === 'ArrowRight' ? cur + 1 : e.key === 'ArrowUp' || e.key === 'ArrowLeft' ? cur - 1 : e.key === 'Home' ? 0 : e.key === 'End' ? n - 1 : null;
+    if (to === null || n === 0) return;
+    e.preventDefault();
+    const i = Math.max(0, Math.min(n - 1, to));
+    if (listing === 'flex') app.selectFlex(i);
+    else app.selectStress(i);
+    list.querySelector<HTMLElement>('[aria-selected=true]')?.focus();
+  });
   tabFlex.addEventListener('click', () => {
     listing = 'flex';
     renderList();
@@ -150,7 +170,14 @@ export function buildResultsPanel(app: App): ResultsPanel {
       return;
     }
     const sel = listing === 'flex' ? v.flex : v.stress;
-    for (const b of Array.from(list.querySelectorAll<HTMLElement>('[role=option]'))) b.setAttribute('aria-selected', String(Number(b.dataset.index) === sel));
+    const rows = Array.from(list.querySelectorAll<HTMLElement>('[role=option]'));
+    for (const b of rows) {
+      const on = Number(b.dataset.index) === sel;
+      b.setAttribute('aria-selected', String(on));
+      // roving tabindex: the list is one Tab stop, on the selected row (the first when none is)
+      b.tabIndex = on ? 0 : -1;
+    }
+    if (rows.length && !rows.some((b) => b.tabIndex === 0)) rows[0].tabIndex = 0;
     scrollToSelection();
   };
   /** Scrolls the list (only the list) so that the selected row is visible. */
@@ -205,7 +232,7 @@ export function buildResultsPanel(app: App): ResultsPanel {
     if (!r) return;
     const k = r.counts;
     const s = app.resultState!;
-    title.textContent = `${r.geometry.cells[0]}×${r.geometry.cells[1]} cells · ${r.geometry.bc}`;
+    title.textContent = `${r.geometry.cells[0]}×${r.geometry.cells[1]} cells · ${displayBoundary(r.geometry.bc)}`;
     c.flexes.textContent = String(k.flexes);
     c.trivial.textContent = String(k.trivialFlexes);
     c.nontrivial.textContent = String(k.flexes - k.trivialFlexes);
@@ -239,6 +266,7 @@ export function buildResultsPanel(app: App): ResultsPanel {
     stale,
     title,
     counts,
+    h('details', { class: 'evidence', 'data-testid': 'rank-evidence' }, h('summary', null, 'Rank evidence: Maxwell–Calladine, gap, certificate, solver'), evidence),
     gapWarning,
     caution,
     h('h3', null, 'Where the flexes live'),

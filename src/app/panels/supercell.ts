@@ -1,10 +1,11 @@
 /** Supercell panel: size, boundary rule per side or per axis, tolerance, class widths, Run. */
 import { InputError, formatProblem } from '../../errors.js';
-import { describeBoundary, formatBoundary, parseBoundary, type AxisRule, type Boundary, type SideRule } from '../../supercell/boundary.js';
+import { describeBoundary, parseBoundary, type AxisRule, type Boundary, type SideRule } from '../../supercell/boundary.js';
 import type { App } from '../app.js';
 import type { SolverChoice } from '../../flex/solver.js';
 import { checkbox, clear, h, newId, section, select, sliderField } from '../dom.js';
-import { frameworkOf, LIMITS } from '../state.js';
+import { estimateText } from './size-guard.js';
+import { boundaryText, LIMITS } from '../state.js';
 
 export interface SupercellPanel {
   el: HTMLElement;
@@ -43,7 +44,7 @@ export function buildSupercellPanel(app: App): SupercellPanel {
   const bcDesc = h('div', { class: 'hint', id: 'bc-desc' });
   const axesBox = h('div', { class: 'axes' });
   const setBoundary = (b: Boundary) => {
-    s().bc = formatBoundary(b);
+    s().bc = boundaryText(b);
     renderAxes();
     app.settingsChanged();
   };
@@ -95,10 +96,18 @@ export function buildSupercellPanel(app: App): SupercellPanel {
         unit: 'turns',
         help: 'The twist phase: a joint seen through the boundary moves with exp(2πiθ) times the velocity of its copy. θ = 0 is periodic, θ = ½ antiperiodic.',
         testid: `bc-${axis}-theta`,
+        // a drag runs once, when it settles; while dragging only the text follows
+        settle: true,
+        onInput: (v) => {
+          const nb = current();
+          nb[axis] = { kind: 'twist', theta: v };
+          bcInput.value = boundaryText(nb);
+          bcDesc.textContent = describeBoundary(nb);
+        },
         onChange: (v) => {
           const nb = current();
           nb[axis] = { kind: 'twist', theta: v };
-          s().bc = formatBoundary(nb);
+          s().bc = boundaryText(nb);
           bcInput.value = s().bc;
           bcDesc.textContent = describeBoundary(nb);
           app.settingsChanged();
@@ -185,9 +194,18 @@ export function buildSupercellPanel(app: App): SupercellPanel {
     app.autoRun = v;
   }, 'auto-run');
 
+  // N1 and N2 are one edit: the automatic run waits until the focus leaves the pair (or Enter)
+  const cellsPair = h('div', { class: 'grid2', 'data-hold-run': '' }, n1.el, n2.el);
+  cellsPair.addEventListener('focusout', (e) => {
+    if (!cellsPair.contains(e.relatedTarget as Node | null)) app.commitSettings();
+  });
+  cellsPair.addEventListener('keydown', (e) => {
+    // after the field's own change handler (Enter commits the typed value first)
+    if (e.key === 'Enter') setTimeout(() => app.commitSettings(), 0);
+  });
   const el = section(
     'Supercell',
-    h('div', { class: 'grid2' }, n1.el, n2.el),
+    cellsPair,
     h('h3', null, 'Boundary rule'),
     h('div', { class: 'row presets' }, preset('free', 'free'), preset('pinned', 'pinned'), preset('periodic', 'periodic')),
     axesBox,
@@ -204,15 +222,11 @@ export function buildSupercellPanel(app: App): SupercellPanel {
   );
 
   const refreshEstimate = () => {
-    try {
-      const fw = frameworkOf(s().framework);
-      const cells = s().cells[0] * s().cells[1];
-      const J = fw.joints.length * cells;
-      const B = fw.bars.length * cells;
-      estimate.textContent = `${J} joints, up to ${B} bars, ${2 * J} unknowns.${2 * J > 1200 ? ' Large: press Run (it is not run on every change).' : ''}`;
-    } catch {
-      estimate.textContent = '';
-    }
+    const v = app.sizeVerdict();
+    estimate.classList.toggle('bad', v.kind === 'refused');
+    if (v.kind === 'ok') estimate.textContent = `${estimateText(v.estimate)}${app.estimateDof() > 1200 ? ' Large: it runs on Run or after you confirm.' : ''}`;
+    else if (v.kind === 'refused') estimate.textContent = `Too large: ${v.error.largestCells ? `at most about ${v.error.largestCells[0]}×${v.error.largestCells[1]} cells fit.` : 'not even one cell fits.'}`;
+    else estimate.textContent = '';
   };
   const refresh = () => {
     n1.input.value = String(s().cells[0]);
