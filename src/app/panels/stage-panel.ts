@@ -155,6 +155,11 @@ export function buildStagePanel(app: App): StagePanel {
     host,
     attach(s: Stage) {
       stage = s;
+      // prefers-reduced-motion: start paused (Play still animates on request)
+      if (window.matchMedia?.('(prefers-reduced-motion: reduce)').matches && v().playing) {
+        v().playing = false;
+        refresh();
+      }
     },
     refresh,
     refreshLegend,

@@ -3,17 +3,17 @@
  * selected flex p + ε·Re(e^{iφ} u).
  *
  * Drawing modes:
- *  - 'mesh' (default on WebGL/WebGPU): bars, joints and arrows are three pre-built meshes whose
- *    vertex buffers are rewritten each frame (screen-space quads and polygons, so line widths
- *    and joint sizes stay constant in pixels); colours come from a small palette texture
- *    through the UVs, so one mesh holds every colour.
- *  - 'graphics' (the canvas-renderer fallback, and for comparison): one Graphics object cleared
+ *  - 'mesh' (default on WebGL): bars, joints and arrows are four batched meshes
+ *    (batched.ts) placed by their vertex shaders from the rest positions and the mode; a frame
+ *    sets only uniforms (phase, view, sizes), so animating uploads nothing.
+ *  - 'graphics' (the fallback on other renderers, and for comparison): one Graphics object cleared
  *    and redrawn every frame, bars and joints grouped by colour.
  * Boundary marks (ground, wrap markers) are static and redrawn only when the view changes.
+ * The host carries data-animating="true" while a flex moves.
  */
-import { Application, Container, Graphics, MeshSimple, RendererType, Text, Texture } from 'pixi.js';
+import { Application, Container, Graphics, RendererType, Text } from 'pixi.js';
+import { BatchedMeshes, type FrameInput } from './batched.js';
 import { amplitudeColour, hexToNumber, INK, stressColour } from './colours.js';
-import { gradientU, paletteCanvas, rowV, swatchUV, type Swatch } from './palette.js';
 import {
   BarKind,
   computeFrame,
@@ -31,11 +31,26 @@ import {
   type View,
 } from './scene.js';
 
+type Swatch = keyof typeof INK;
+
 export type DrawMode = 'mesh' | 'graphics';
 
-const K = 10; // sides of a joint polygon
-const COS = Float64Array.from({ length: K }, (_, i) => Math.cos((2 * Math.PI * i) / K));
-const SIN = Float64Array.from({ length: K }, (_, i) => Math.sin((2 * Math.PI * i) / K));
+/**
+ * Whether WebGL here is drawn in software (SwiftShader, llvmpipe): multisampling is costly
+ * there, and the meshes smooth their own edges.
+ */
+function softwareWebGl(): boolean {
+  try {
+    const gl = document.createElement('canvas').getContext('webgl');
+    if (!gl) return false;
+    const info = gl.getExtension('WEBGL_debug_renderer_info');
+    const name = String(gl.getParameter(info ? info.UNMASKED_RENDERER_WEBGL : gl.RENDERER));
+    gl.getExtension('WEBGL_lose_context')?.loseContext();
+    return /swiftshader|llvmpipe|softpipe|software/i.test(name);
+  } catch {
+    return false;
+  }
+}
 
 export interface StageSettings {
   playing: boolean;
@@ -60,13 +75,6 @@ export interface StageStats {
   joints: number;
 }
 
-interface Meshes {
-  bars: MeshSimple;
-  rest: MeshSimple;
-  joints: MeshSimple;
-  arrows: MeshSimple;
-}
-
 export class Stage {
   readonly host: HTMLElement;
   private app = new Application();
@@ -74,12 +82,11 @@ export class Stage {
   private failure: string | null = null;
   private mode: DrawMode = 'mesh';
   private requestedMode: DrawMode | null;
-  private texture: Texture | null = null;
   private world = new Container();
   private overlay = new Graphics();
   private labels = new Container();
   private gfx = new Graphics();
-  private meshes: Meshes | null = null;
+  private meshes: BatchedMeshes | null = null;
 
   private model: SceneModel | null = null;
   private frame: Frame | null = null;
@@ -89,6 +96,13 @@ export class Stage {
   private s: StageSettings = { playing: true, speed: 0.5, turns: 0, arrows: 'none', colour: true, rest: false, zoom: 1, centre: null };
   private dirty = true;
   private colourDirty = true;
+  private fieldDirty = true;
+  /** The view and stroke sizes, recomputed only when the view changes. */
+  private cachedView: View | null = null;
+  private cachedSizes = { bar: 1, joint: 1, arrow: 1 };
+  private animating = false;
+  /** Reused for every frame of the meshes. */
+  private frameInput: FrameInput = { view: { scale: 1, cx: 0, cy: 0, width: 1, height: 1 }, sizes: { bar: 1, joint: 1, arrow: 1 }, turns: 0, field: null, arrows: 'none', rest: false };
   private overlayDirty = true;
   private width = 1;
   private height = 1;
@@ -115,7 +129,7 @@ export class Stage {
       await this.app.init({
         width: this.width,
         height: this.height,
-        antialias: true,
+        antialias: !softwareWebGl(),
         background: INK.background,
         resolution: Math.min(2, window.devicePixelRatio || 1),
         autoDensity: true,
@@ -132,15 +146,14 @@ export class Stage {
     canvas.setAttribute('data-testid', 'stage-canvas');
     canvas.setAttribute('aria-hidden', 'true');
     this.host.appendChild(canvas);
-    const gpu = this.app.renderer.type === RendererType.WEBGL || this.app.renderer.type === RendererType.WEBGPU;
-    this.mode = this.requestedMode ?? (gpu ? 'mesh' : 'graphics');
-    if (!gpu) this.mode = 'graphics';
-    this.texture = Texture.from(paletteCanvas());
-    this.texture.source.scaleMode = 'nearest';
+    // the meshes' shaders are written for WebGL; other renderers draw with Graphics
+    const gl = this.app.renderer.type === RendererType.WEBGL;
+    this.mode = gl ? (this.requestedMode ?? 'mesh') : 'graphics';
     this.app.stage.addChild(this.world, this.overlay, this.labels);
     this.world.addChild(this.gfx);
     this.bindPointer(canvas);
     new ResizeObserver(() => this.resize()).observe(this.host);
+    this.host.dataset.animating = 'false';
     this.raf = requestAnimationFrame((t) => this.tick(t));
   }
 
@@ -171,7 +184,11 @@ export class Stage {
   /** The current view (world → screen) in CSS pixels. */
   view(): View | null {
     if (!this.model) return null;
-    return viewFor(this.model, this.width, this.height, this.s.zoom, this.s.centre);
+    if (!this.cachedView) {
+      this.cachedView = viewFor(this.model, this.width, this.height, this.s.zoom, this.s.centre);
+      this.cachedSizes = strokeSizes(this.model, this.cachedView);
+    }
+    return this.cachedView;
   }
 
   get size(): [number, number] {
@@ -184,20 +201,21 @@ export class Stage {
     this.restFrame = model ? computeFrame(model, null, 0, 'none', newFrame(model)) : null;
     this.field = null;
     this.stress = null;
+    this.cachedView = null;
     if (this.ok) this.buildMeshes();
-    this.dirty = this.colourDirty = this.overlayDirty = true;
+    this.dirty = this.colourDirty = this.fieldDirty = this.overlayDirty = true;
   }
 
   setField(field: Field | null): void {
     this.field = field;
     this.stress = null;
-    this.dirty = this.colourDirty = true;
+    this.dirty = this.colourDirty = this.fieldDirty = true;
   }
 
   setStress(values: Float32Array | null): void {
     this.stress = values;
     this.field = null;
-    this.dirty = this.colourDirty = true;
+    this.dirty = this.colourDirty = this.fieldDirty = true;
   }
 
   settings(): StageSettings {
@@ -208,7 +226,10 @@ export class Stage {
     const before = this.s;
     this.s = { ...this.s, ...p };
     if (p.colour !== undefined && p.colour !== before.colour) this.colourDirty = true;
-    if (p.zoom !== undefined || p.centre !== undefined) this.overlayDirty = true;
+    if (p.zoom !== undefined || p.centre !== undefined) {
+      this.overlayDirty = true;
+      this.cachedView = null;
+    }
     this.dirty = true;
   }
 
@@ -250,6 +271,7 @@ export class Stage {
     this.width = w;
     this.height = h;
     this.app.renderer.resize(w, h);
+    this.cachedView = null;
     this.dirty = this.overlayDirty = true;
   }
 
@@ -287,7 +309,12 @@ export class Stage {
     this.raf = requestAnimationFrame((x) => this.tick(x));
     const dt = this.last ? Math.min(0.1, (t - this.last) / 1000) : 0;
     this.last = t;
-    if (this.s.playing && this.model && this.field) {
+    const moving = this.s.playing && this.model !== null && this.field !== null && this.s.speed !== 0;
+    if (moving !== this.animating) {
+      this.animating = moving;
+      this.host.dataset.animating = String(moving);
+    }
+    if (moving) {
       this.s.turns = (this.s.turns + this.s.speed * dt) % 1;
       this.dirty = true;
       if (t - this.lastPhaseReport > 100) {
@@ -329,215 +356,48 @@ export class Stage {
       this.gfx.clear();
       this.overlay.clear();
       this.labels.removeChildren().forEach((c) => c.destroy());
-      if (this.meshes) for (const m of Object.values(this.meshes)) m.visible = false;
+      this.meshes?.hide();
       return;
     }
-    computeFrame(model, this.field, this.s.turns, this.field ? this.s.arrows : 'none', this.frame);
     if (this.overlayDirty) {
       this.drawOverlay(model, v);
       this.overlayDirty = false;
     }
-    if (this.mode === 'mesh' && this.meshes) this.drawMeshes(model, v);
-    else this.drawGraphics(model, v);
+    if (this.mode === 'mesh' && this.meshes) this.drawMeshes(v);
+    else {
+      computeFrame(model, this.field, this.s.turns, this.field ? this.s.arrows : 'none', this.frame);
+      this.drawGraphics(model, v);
+    }
   }
 
   // ---- mesh mode ------------------------------------------------------------------------------
 
   private buildMeshes(): void {
-    if (this.meshes) {
-      for (const m of Object.values(this.meshes)) m.destroy();
-      this.meshes = null;
-    }
-    const model = this.model;
-    if (!model || this.mode !== 'mesh' || !this.texture) return;
-    const quads = (count: number) => {
-      const idx = new Uint32Array(6 * count);
-      for (let i = 0; i < count; i++) idx.set([4 * i, 4 * i + 1, 4 * i + 2, 4 * i, 4 * i + 2, 4 * i + 3], 6 * i);
-      return new MeshSimple({ texture: this.texture!, vertices: new Float32Array(8 * count), uvs: new Float32Array(8 * count), indices: idx });
-    };
-    const n = model.n;
-    // joints: outline polygon then fill polygon, each a fan of K triangles around a centre
-    const per = 2 * (K + 1);
-    const jIdx = new Uint32Array(n * 2 * 3 * K);
-    let q = 0;
-    for (let k = 0; k < n; k++) {
-      for (let ring = 0; ring < 2; ring++) {
-        const c = k * per + ring * (K + 1);
-        for (let i = 0; i < K; i++) {
-          jIdx[q++] = c;
-          jIdx[q++] = c + 1 + i;
-          jIdx[q++] = c + 1 + ((i + 1) % K);
-        }
-      }
-    }
-    const joints = new MeshSimple({ texture: this.texture, vertices: new Float32Array(2 * per * n), uvs: new Float32Array(2 * per * n), indices: jIdx });
-    // arrows: a shaft quad and a head triangle per joint
-    const aIdx = new Uint32Array(9 * n);
-    for (let k = 0; k < n; k++) {
-      const b = 7 * k;
-      aIdx.set([b, b + 1, b + 2, b, b + 2, b + 3, b + 4, b + 5, b + 6], 9 * k);
-    }
-    const arrowUV = new Float32Array(14 * n);
-    const [au, av] = swatchUV('arrow');
-    for (let i = 0; i < 7 * n; i++) {
-      arrowUV[2 * i] = au;
-      arrowUV[2 * i + 1] = av;
-    }
-    const arrows = new MeshSimple({ texture: this.texture, vertices: new Float32Array(14 * n), uvs: arrowUV, indices: aIdx });
-    const bars = quads(model.m);
-    const rest = quads(model.m);
-    const restUV = rest.geometry.uvs as Float32Array;
-    const [ru, rv] = swatchUV('rest');
-    for (let i = 0; i < 4 * model.m; i++) {
-      restUV[2 * i] = ru;
-      restUV[2 * i + 1] = rv;
-    }
-    rest.geometry.getBuffer('aUV').update();
-    this.meshes = { rest, bars, joints, arrows };
-    this.world.addChild(rest, bars, arrows, joints);
+    this.meshes?.destroy();
+    this.meshes = null;
+    if (!this.model || this.mode !== 'mesh') return;
+    this.meshes = new BatchedMeshes(this.model, this.world);
   }
 
-  private writeColours(model: SceneModel): void {
+  private drawMeshes(v: View): void {
     const m = this.meshes!;
-    const bu = m.bars.geometry.uvs as Float32Array;
-    const setQuad = (arr: Float32Array, i: number, u: number, v: number) => {
-      for (let j = 0; j < 4; j++) {
-        arr[8 * i + 2 * j] = u;
-        arr[8 * i + 2 * j + 1] = v;
-      }
-    };
-    const [bu0, bv0] = swatchUV('bar');
-    const [su0, sv0] = swatchUV('stub');
-    for (let r = 0; r < model.m; r++) {
-      if (this.stress) setQuad(bu, r, gradientU((this.stress[r] + 1) / 2), rowV(1));
-      else if (model.kinds[r] === BarKind.Wrapped) setQuad(bu, r, su0, sv0);
-      else setQuad(bu, r, bu0, bv0);
-    }
-    m.bars.geometry.getBuffer('aUV').update();
-    const ju = m.joints.geometry.uvs as Float32Array;
-    const per = 2 * (K + 1);
-    const [ou, ov] = swatchUV('outline');
-    const [pu, pv] = swatchUV('joint');
-    const rel = this.field?.relative;
-    for (let k = 0; k < model.n; k++) {
-      const base = k * per;
-      let fu = pu;
-      let fv = pv;
-      if (rel && this.s.colour) {
-        fu = gradientU(rel[k]);
-        fv = rowV(0);
-      }
-      for (let i = 0; i < K + 1; i++) {
-        ju[2 * (base + i)] = ou;
-        ju[2 * (base + i) + 1] = ov;
-        ju[2 * (base + K + 1 + i)] = fu;
-        ju[2 * (base + K + 1 + i) + 1] = fv;
-      }
-    }
-    m.joints.geometry.getBuffer('aUV').update();
-  }
-
-  private drawMeshes(model: SceneModel, v: View): void {
-    const m = this.meshes!;
-    for (const mesh of Object.values(m)) mesh.visible = true;
     this.gfx.clear();
+    if (this.fieldDirty) {
+      m.setField(this.field);
+      this.fieldDirty = false;
+    }
     if (this.colourDirty) {
-      this.writeColours(model);
+      m.setColours(this.stress, this.field && this.s.colour ? this.field.relative : null);
       this.colourDirty = false;
     }
-    const sizes = strokeSizes(model, v);
-    const W2 = v.width / 2;
-    const H2 = v.height / 2;
-    const k = v.scale;
-    const cx = v.cx;
-    const cy = v.cy;
-    const F = this.frame!;
-    const writeBars = (target: Float32Array, ends: Float64Array, hw: number) => {
-      for (let r = 0; r < model.m; r++) {
-        const x1 = W2 + (ends[4 * r] - cx) * k;
-        const y1 = H2 - (ends[4 * r + 1] - cy) * k;
-        const x2 = W2 + (ends[4 * r + 2] - cx) * k;
-        const y2 = H2 - (ends[4 * r + 3] - cy) * k;
-        const dx = x2 - x1;
-        const dy = y2 - y1;
-        const len = Math.hypot(dx, dy) || 1;
-        const nx = (-dy / len) * hw;
-        const ny = (dx / len) * hw;
-        const o = 8 * r;
-        target[o] = x1 + nx;
-        target[o + 1] = y1 + ny;
-        target[o + 2] = x1 - nx;
-        target[o + 3] = y1 - ny;
-        target[o + 4] = x2 - nx;
-        target[o + 5] = y2 - ny;
-        target[o + 6] = x2 + nx;
-        target[o + 7] = y2 + ny;
-      }
-    };
-    writeBars(m.bars.vertices as Float32Array, F.bars, sizes.bar / 2);
-    m.rest.visible = this.s.rest && this.field !== null;
-    if (m.rest.visible) writeBars(m.rest.vertices as Float32Array, this.restFrame!.bars, Math.max(0.5, sizes.bar / 2.5));
-    const jv = m.joints.vertices as Float32Array;
-    const per = 2 * (K + 1);
-    const r0 = sizes.joint;
-    const r1 = Math.max(0.6, r0 - 1.1);
-    for (let j = 0; j < model.n; j++) {
-      const x = W2 + (F.joints[2 * j] - cx) * k;
-      const y = H2 - (F.joints[2 * j + 1] - cy) * k;
-      const base = 2 * j * per;
-      jv[base] = x;
-      jv[base + 1] = y;
-      const b2 = base + 2 * (K + 1);
-      jv[b2] = x;
-      jv[b2 + 1] = y;
-      for (let i = 0; i < K; i++) {
-        jv[base + 2 + 2 * i] = x + r0 * COS[i];
-        jv[base + 3 + 2 * i] = y + r0 * SIN[i];
-        jv[b2 + 2 + 2 * i] = x + r1 * COS[i];
-        jv[b2 + 3 + 2 * i] = y + r1 * SIN[i];
-      }
-    }
-    const showArrows = this.field !== null && this.s.arrows !== 'none';
-    m.arrows.visible = showArrows;
-    if (showArrows) {
-      const av = m.arrows.vertices as Float32Array;
-      const hw = sizes.arrow / 2;
-      for (let j = 0; j < model.n; j++) {
-        const x = W2 + (F.joints[2 * j] - cx) * k;
-        const y = H2 - (F.joints[2 * j + 1] - cy) * k;
-        const ax = F.arrows[2 * j] * k;
-        const ay = -F.arrows[2 * j + 1] * k;
-        const len = Math.hypot(ax, ay);
-        const o = 14 * j;
-        if (len < 1.5) {
-          av.fill(x, o, o + 14);
-          for (let i = 0; i < 7; i++) av[o + 2 * i + 1] = y;
-          continue;
-        }
-        const ux = ax / len;
-        const uy = ay / len;
-        const head = Math.min(len * 0.45, 3 + 3 * sizes.arrow);
-        const sx = x + ux * (len - head);
-        const sy = y + uy * (len - head);
-        const nx = -uy;
-        const ny = ux;
-        av[o] = x + nx * hw;
-        av[o + 1] = y + ny * hw;
-        av[o + 2] = x - nx * hw;
-        av[o + 3] = y - ny * hw;
-        av[o + 4] = sx - nx * hw;
-        av[o + 5] = sy - ny * hw;
-        av[o + 6] = sx + nx * hw;
-        av[o + 7] = sy + ny * hw;
-        const hwid = head * 0.5;
-        av[o + 8] = sx + nx * hwid;
-        av[o + 9] = sy + ny * hwid;
-        av[o + 10] = sx - nx * hwid;
-        av[o + 11] = sy - ny * hwid;
-        av[o + 12] = x + ux * len;
-        av[o + 13] = y + uy * len;
-      }
-    }
+    const f = this.frameInput;
+    f.view = v;
+    f.sizes = this.cachedSizes;
+    f.turns = this.s.turns;
+    f.field = this.field;
+    f.arrows = this.s.arrows;
+    f.rest = this.s.rest;
+    m.frame(f);
   }
 
   // ---- graphics mode ----------------------------------------------------------------------
