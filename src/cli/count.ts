@@ -46,6 +46,7 @@ export const countCommand: Command = {
     const code = check && !check.passed ? 4 : 0;
     if (args.flags.has('--json')) {
       const out = {
+        schemaVersion: 'shimmy.count/1', // schema/count.schema.json
         framework: a.spec,
         name: a.framework.name ?? null,
         cells: a.cells,

@@ -81,6 +81,7 @@ function json(spec: string, name: string | undefined, r: EdgesResult): string {
   return (
     JSON.stringify(
       {
+        schemaVersion: 'shimmy.edges/1', // schema/edges.schema.json
         framework: spec,
         name: name ?? null,
         along: r.along,

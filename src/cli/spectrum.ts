@@ -93,6 +93,7 @@ function json(spec: string, name: string | undefined, m: PhaseMap): string {
   return (
     JSON.stringify(
       {
+        schemaVersion: 'shimmy.spectrum/1', // schema/spectrum.schema.json
         framework: spec,
         name: name ?? null,
         grid: m.grid,

@@ -153,7 +153,7 @@ export const sweepCommand: Command = {
     });
     progress.done();
     if (mode === 'json') {
-      io.out(safeJson(JSON.stringify({ framework: a.spec, name: a.framework.name ?? null, ...result }, null, 2)) + '\n');
+      io.out(safeJson(JSON.stringify({ schemaVersion: 'shimmy.sweep/1', framework: a.spec, name: a.framework.name ?? null, ...result }, null, 2)) + '\n');
       return 0;
     }
     if (mode === 'csv') io.err(fitLines(result).join('\n') + '\n');

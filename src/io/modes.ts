@@ -23,6 +23,8 @@ import { MAX_CELLS_PER_AXIS, type Supercell } from '../supercell/supercell.js';
 export const MODE_DATA_FORMAT = 'shimmy mode data';
 /** Version 1 was the app's earlier export; version 2 is the format shared by CLI and app. */
 export const MODE_DATA_VERSION = 2;
+/** Names schema/modes.schema.json; optional on reading (files written before it lack it). */
+export const MODE_DATA_SCHEMA = 'shimmy.modes/2';
 
 /** The CSV columns: one row per mode and joint. */
 export const MODE_CSV_COLUMNS = ['mode', 'class', 'joint', 'cell_i', 'cell_j', 'site', 'x', 'y', 'ux_re', 'ux_im', 'uy_re', 'uy_im'] as const;
@@ -99,6 +101,7 @@ export interface ModeClassification {
 export interface ModeData {
   format: typeof MODE_DATA_FORMAT;
   version: typeof MODE_DATA_VERSION;
+  schemaVersion?: typeof MODE_DATA_SCHEMA;
   caution: string;
   framework: {
     /** How the framework was given: a gallery spec, a file name or path, or null. */
@@ -243,6 +246,7 @@ export function modeData(input: ModeDataInput): ModeData {
   return {
     format: MODE_DATA_FORMAT,
     version: MODE_DATA_VERSION,
+    schemaVersion: MODE_DATA_SCHEMA,
     caution: CAUTION,
     framework: { spec: input.spec, name: fw.name ?? null, unitCell: frameworkCopy(fw) },
     cells: [L.cells[0], L.cells[1]],
@@ -508,6 +512,11 @@ function complete<T extends object>(o: Fields<T>, optional: readonly string[] = 
   return o as T;
 }
 
+function readSchemaVersion(r: Reader, v: unknown): typeof MODE_DATA_SCHEMA | undefined {
+  if (v === MODE_DATA_SCHEMA) return MODE_DATA_SCHEMA;
+  return r.report('schemaVersion', `expected "${MODE_DATA_SCHEMA}", found ${describe(v)}`, `remove the field or write "${MODE_DATA_SCHEMA}" (or ${REEXPORT})`);
+}
+
 function readComplex(r: Reader, v: unknown, p: string): ComplexData | undefined {
   const o = r.record(v, p, ['re', 'im']);
   if (!o) return undefined;
@@ -711,7 +720,7 @@ export function parseModesJson(text: string, source = 'mode data file'): ModeDat
   }
   const r = new Reader();
   const required = ['format', 'version', 'caution', 'framework', 'cells', 'boundary', 'tolerance', 'counts', 'classification', 'conventions', 'joints', 'bars', 'flexes', 'selfStresses'];
-  const o = r.record(value, '', required, ['classificationNote', 'selfStressNote']);
+  const o = r.record(value, '', required, ['schemaVersion', 'classificationNote', 'selfStressNote']);
   if (!o) throw new InputError(context, r.problems);
 
   let framework: ModeData['framework'] | undefined;
@@ -740,6 +749,7 @@ export function parseModesJson(text: string, source = 'mode data file'): ModeDat
     {
       format: MODE_DATA_FORMAT,
       version: MODE_DATA_VERSION,
+      schemaVersion: o.schemaVersion === undefined ? undefined : readSchemaVersion(r, o.schemaVersion),
       caution: r.str(o.caution, 'caution'),
       framework,
       cells: r.pair(o.cells, 'cells', (x, w) => r.int(x, w, 1)),
@@ -767,7 +777,7 @@ export function parseModesJson(text: string, source = 'mode data file'): ModeDat
       ),
       selfStressNote: o.selfStressNote === undefined ? undefined : r.str(o.selfStressNote, 'selfStressNote'),
     },
-    ['classificationNote', 'selfStressNote'],
+    ['schemaVersion', 'classificationNote', 'selfStressNote'],
   );
   if (doc && r.problems.length === 0) checkConsistency(r, doc);
   if (r.more) r.problems.push({ where: '(more)', what: `${r.more} further problems are not listed`, fix: 'fix the ones above and read the file again' });
