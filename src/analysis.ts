@@ -3,12 +3,10 @@
  * boundary in, counts (and bases on demand) out.
  */
 import type { Framework } from './framework/types.js';
-import { checkFramework } from './framework/validate.js';
-import { analyseSupercell, type AnalysisOptions, type FlexAnalysis } from './flex/spaces.js';
-import { parseBoundary, type Boundary } from './supercell/boundary.js';
-import { buildSupercell, checkCells, type Supercell } from './supercell/supercell.js';
-import { InputError } from './errors.js';
-import { checkRunSize, MIN_RELATIVE_TOLERANCE, toleranceProblem } from './flex/estimate.js';
+import type { AnalysisOptions, FlexAnalysis } from './flex/spaces.js';
+import type { Boundary } from './supercell/boundary.js';
+import type { Supercell } from './supercell/supercell.js';
+import { analyse } from './api/run.js';
 
 export interface CountRequest extends AnalysisOptions {
   framework: Framework;
@@ -23,18 +21,6 @@ export interface CountResult {
 }
 
 export function count(req: CountRequest): CountResult {
-  const tolProblem = req.tolerance === undefined ? null : toleranceProblem(req.tolerance);
-  if (tolProblem) {
-    throw new InputError('The rank tolerance cannot be used:', [
-      { where: 'tolerance', what: `the relative tolerance ${tolProblem}`, fix: `give a number from ${MIN_RELATIVE_TOLERANCE} up to (not including) 1, e.g. 1e-9 (the default)` },
-    ]);
-  }
-  const fw = checkFramework(req.framework);
-  const boundary = typeof req.boundary === 'string' ? parseBoundary(req.boundary) : req.boundary;
-  checkCells(req.cells);
-  // refuse before building: the size check allocates nothing that grows with the cells
-  checkRunSize(fw, req.cells, boundary, { solver: req.solver, memoryLimit: req.memoryLimit, allowLarge: req.allowLarge });
-  const memoryLimit = req.memoryLimit ?? (req.allowLarge ? Infinity : undefined);
-  const supercell = buildSupercell(fw, req.cells, boundary);
-  return { supercell, analysis: analyseSupercell(supercell, memoryLimit === undefined ? req : { ...req, memoryLimit }) };
+  const { supercell, analysis } = analyse({ ...req, classify: false });
+  return { supercell, analysis };
 }

@@ -3,11 +3,12 @@ import { writeFileSync } from 'node:fs';
 import { CAUTION } from '../caution.js';
 import { InputError } from '../errors.js';
 import { FLEX_CLASSES, type Classification, type ClassifiedMode } from '../flex/classes.js';
-import { classifyFlexes, DEFAULT_STRIP, DEFAULT_WINDOW } from '../flex/classify.js';
+import { DEFAULT_STRIP, DEFAULT_WINDOW } from '../flex/classify.js';
 import { sideWeights, type SideWeights } from '../flex/side-weights.js';
-import { analyseSupercell, type FlexAnalysis } from '../flex/spaces.js';
+import type { FlexAnalysis } from '../flex/spaces.js';
 import { describeBoundary } from '../supercell/boundary.js';
-import { buildSupercell, type Supercell } from '../supercell/supercell.js';
+import type { Supercell } from '../supercell/supercell.js';
+import { analyse } from '../api/run.js';
 import { parseNumberFlag, type FlagSpec, type ParsedArgs } from './args.js';
 import { progressLine, type ProgressLine } from './progress.js';
 import type { Command } from './command.js';
@@ -46,11 +47,20 @@ export function readClassifyFlags(args: ParsedArgs): { window: number; strip: nu
 }
 
 export function runClassification(a: SupercellArgs, opts: { window: number; strip: number }, progress?: ProgressLine): ClassifyRun {
+  // the size check in the CLI's wording (--cells, --allow-large), then the shared run
   checkSize(a, true);
-  const supercell = buildSupercell(a.framework, a.cells, a.boundary);
-  const onProgress = progress?.report;
-  const analysis = analyseSupercell(supercell, { tolerance: a.tolerance, solver: a.solver, memoryLimit: a.memoryLimit, onProgress });
-  const classification = classifyFlexes(supercell, analysis, { ...opts, onProgress });
+  const { supercell, analysis, classification } = analyse({
+    framework: a.framework,
+    cells: a.cells,
+    boundary: a.boundary,
+    tolerance: a.tolerance,
+    solver: a.solver,
+    memoryLimit: a.memoryLimit,
+    allowLarge: a.allowLarge,
+    onProgress: progress?.report,
+    classify: opts,
+    sizeCheck: false,
+  });
   progress?.done();
   return { supercell, analysis, classification };
 }
@@ -87,6 +97,7 @@ const SIDE_WEIGHTS_ALWAYS_DOF = 2400;
 function outputObject(a: SupercellArgs, r: ClassifyRun, withVectors: boolean, sides: SideWeights | null): Record<string, unknown> {
   const c = r.classification;
   return {
+    schemaVersion: 'shimmy.classify/1', // schema/classify.schema.json (also the --out file)
     framework: a.spec,
     name: a.framework.name ?? null,
     cells: a.cells,

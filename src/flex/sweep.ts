@@ -14,12 +14,11 @@ import { InputError } from '../errors.js';
 import type { Framework } from '../framework/types.js';
 import { checkFramework } from '../framework/validate.js';
 import { parseBoundary, type Boundary } from '../supercell/boundary.js';
-import { buildSupercell, checkCells } from '../supercell/supercell.js';
+import { checkCells } from '../supercell/supercell.js';
+import { analyse } from '../api/run.js';
 import { FLEX_CLASSES, type Classification, type FlexClass } from './classes.js';
-import { classifyFlexes } from './classify.js';
 import { EXACT_TOLERANCE, MAX_DENOMINATOR, polynomialFit, type PolynomialFit } from './growth-fit.js';
 import { throwIfAborted, type SolverChoice } from './solver.js';
-import { analyseSupercell } from './spaces.js';
 
 export interface SweepOptions {
   sizes: [number, number][];
@@ -125,9 +124,18 @@ export function sweep(fw: Framework, options: SweepOptions): SweepResult {
     throwIfAborted(options.signal);
     options.onProgress?.({ fraction: i / options.sizes.length, stage: `${size[0]}×${size[1]}`, size });
     const t0 = performance.now();
-    const sc = buildSupercell(framework, size, boundary);
-    const analysis = analyseSupercell(sc, { tolerance: options.tolerance, solver: options.solver, memoryLimit: options.memoryLimit, signal: options.signal });
-    const c = classifyFlexes(sc, analysis, { window: options.window, strip: options.strip, signal: options.signal });
+    // no size check here, as before: the CLI checks every size first, in its own wording
+    const { analysis, classification: c } = analyse({
+      framework,
+      cells: size,
+      boundary,
+      tolerance: options.tolerance,
+      solver: options.solver,
+      memoryLimit: options.memoryLimit,
+      signal: options.signal,
+      classify: { window: options.window, strip: options.strip },
+      sizeCheck: false,
+    });
     last = c;
     const row: SweepRow = {
       N1: size[0],

@@ -1,9 +1,9 @@
 /**
  * What the worker computes, as plain async functions (no messaging), so they can be tested
- * outside a browser. Runs the same core as the CLI: `count` from src/analysis.ts, then the
- * bases, the classifier and the optional spectrum tools.
+ * outside a browser. Runs the same core as the CLI: `analyse` from src/api/run.ts (build and
+ * solve; the classifier runs after the bases, between checkpoints), and the optional spectrum tools.
  */
-import { count } from '../analysis.js';
+import { analyse as run } from '../api/run.js';
 import { InputError, TooLargeError } from '../errors.js';
 import { FLEX_CLASSES, type FlexClass } from '../flex/classes.js';
 import { classifyFlexes } from '../flex/classify.js';
@@ -64,7 +64,7 @@ export async function analyse(job: AnalyseJob, hooks: Hooks = {}): Promise<Analy
 
   progress(0, 'building the supercell and its rigidity matrix');
   await step();
-  const { supercell, analysis } = count({
+  const { supercell, analysis } = run({
     framework: job.framework,
     cells: job.cells,
     boundary: job.bc,
@@ -73,6 +73,8 @@ export async function analyse(job: AnalyseJob, hooks: Hooks = {}): Promise<Analy
     signal: hooks.signal,
     // the solver's own stage names are internals; the app says what is being found
     onProgress: (p) => progress(0.05 + 0.35 * p.fraction, 'counting flexes and self-stresses (the rank of R)'),
+    // classified below, after the bases, only when there are flexes
+    classify: false,
   });
   lap('rank');
   const counts = countsOf(analysis);
