@@ -11,8 +11,8 @@
  * attributed along the other axis only; with both axes twisted every side is null.
  * The four weights sum to flexes − trivial flexes (to rounding) unless both axes are twisted.
  */
-import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 import type { CVec } from '../linalg/complex.js';
+import { hermitianEigen } from '../linalg/hermitian-eig.js';
 import type { Supercell } from '../supercell/supercell.js';
 import { rigidMotions } from './rigid.js';
 import type { FlexAnalysis } from './spaces.js';
@@ -55,23 +55,23 @@ export function trivialFlexBasis(sc: Supercell, flexes: CVec[], trivial: number)
   });
   // Gram matrix G_ab = ⟨u_a, u_b⟩; real here (the fields are real and P is real when rigid motions are tested)
   const t = proj.length;
-  const G = new Matrix(t, t);
+  const G = new Float64Array(t * t);
   for (let a = 0; a < t; a++) {
     for (let b = a; b < t; b++) {
       let s = 0;
       for (let i = 0; i < n; i++) s += proj[a].re[i] * proj[b].re[i] + proj[a].im[i] * proj[b].im[i];
-      G.set(a, b, s);
-      G.set(b, a, s);
+      G[a * t + b] = s;
+      G[b * t + a] = s;
     }
   }
-  const eig = new EigenvalueDecomposition(G, { assumeSymmetric: true });
-  const order = eig.realEigenvalues.map((l, i) => [l, i] as const).sort((x, y) => y[0] - x[0]);
+  const eig = hermitianEigen(G, null, t);
+  const order = Array.from(eig.values, (l, i) => [l, i] as const).sort((x, y) => y[0] - x[0]);
   const out: CVec[] = [];
   for (const [lambda, col] of order.slice(0, Math.min(trivial, t))) {
     if (!(lambda > 0)) break;
     const q = { re: new Float64Array(n), im: new Float64Array(n) };
     for (let a = 0; a < t; a++) {
-      const w = eig.eigenvectorMatrix.get(a, col) / Math.sqrt(lambda);
+      const w = eig.vre[a * t + col] / Math.sqrt(lambda);
       for (let i = 0; i < n; i++) {
         q.re[i] += w * proj[a].re[i];
         q.im[i] += w * proj[a].im[i];
