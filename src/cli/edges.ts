@@ -30,7 +30,7 @@ function summary(spec: string, name: string | undefined, r: EdgesResult): string
   if (w && r.windingNote) rows.push(['winding note', r.windingNote]);
   for (const side of SIDES) {
     const s = r.sides[side];
-    const counted = s.counted === null ? '' : `, counted ${fmt(s.counted, 4)} (strip)`;
+    const counted = s.counted === null ? '' : `, counted ${s.counted.toFixed(3)} (strip projector weight)`;
     rows.push([`${side} edge`, `predicted ${s.predicted ?? '—'} (from windings ${s.fromWinding ?? '—'})${counted}; ξ = ${list(s.decayLengths)} cells`]);
   }
   for (const ax of ['a1', 'a2'] as const) if (r.spectra[ax].note) rows.push([`note (edge along ${ax})`, r.spectra[ax].note as string]);
@@ -39,7 +39,7 @@ function summary(spec: string, name: string | undefined, r: EdgesResult): string
     const st = r.strip;
     rows.push([
       `strip ${st.cells[0]}×${st.cells[1]} (${st.boundary})`,
-      `counted ${st.flexes} flexes, ${st.selfStresses} self-stresses; projector weight ${lo} ${fmt(st.weightLow, 4)}, ${hi} ${fmt(st.weightHigh, 4)}${st.certified ? '' : ' (count not certified)'}`,
+      `counted ${st.flexes} flexes, ${st.selfStresses} self-stresses; projector weight ${lo} ${st.weightLow.toFixed(3)}, ${hi} ${st.weightHigh.toFixed(3)}${st.certified ? '' : ' (count not certified)'}`,
     ]);
   }
   const roots: [string, string][] = r.roots.map((x, i) => [
