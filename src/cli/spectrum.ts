@@ -7,6 +7,7 @@ import { CAUTION, CAUTION_SHORT } from '../caution.js';
 import { InputError } from '../errors.js';
 import { loadFramework } from '../framework/load.js';
 import { MAX_GRID, phaseMap, type PhaseMap, type ZeroLine, type ZeroPoint } from '../spectrum/phasemap.js';
+import { zeroTopology, type ZeroTopology } from '../spectrum/zero-set.js';
 import { parseNumberFlag } from './args.js';
 import type { Command } from './command.js';
 import { fmt, FRAMEWORK_HELP, frameworkArg, parseTolerance, safeJson, safeText, table, titleOf } from './common.js';
@@ -25,11 +26,12 @@ export function lineText(L: Pick<ZeroLine, 'p' | 'q' | 'c'>): string {
   return `${left} ≡ ${fmt(L.c, 6)}`;
 }
 
-function pointText(z: ZeroPoint): string {
-  return `θ = (${fmt(z.theta[0], 6)}, ${fmt(z.theta[1], 6)})`;
+function pointText(z: Pick<ZeroPoint, 'theta'> | [number, number]): string {
+  const t = Array.isArray(z) ? z : z.theta;
+  return `θ = (${fmt(t[0], 6)}, ${fmt(t[1], 6)})`;
 }
 
-function summary(spec: string, name: string | undefined, m: PhaseMap): string {
+function summary(spec: string, name: string | undefined, m: PhaseMap, t: ZeroTopology): string {
   const title = titleOf(name, spec);
   const zs = m.zeroSet;
   const rows: [string, string][] = [
@@ -41,12 +43,14 @@ function summary(spec: string, name: string | undefined, m: PhaseMap): string {
   ];
   if (m.detection && m.genericKernel > 0) rows.push([`σ_${m.detection.index}`, `from ${fmt(m.detection.min)} to ${fmt(m.detection.max)} over the grid (it vanishes on the zero set)`]);
   const nL = zs.lines.length;
-  const nP = zs.isolated.length;
+  const nP = t.zeroPoints.length;
+  const nC = t.zeroCurves.length;
+  const nN = t.nearZeros.length;
   rows.push([
     'zero set',
     m.detection === null
       ? 'the whole torus (Φ has no rank at all)'
-      : `${nL} line${nL === 1 ? '' : 's'}, ${nP} isolated point${nP === 1 ? '' : 's'}${m.genericKernel > 0 ? ` (where dim ker > ${m.genericKernel})` : ''}`,
+      : `${nL} line${nL === 1 ? '' : 's'}, ${nP} isolated point${nP === 1 ? '' : 's'}${nC ? `, ${nC} curve${nC === 1 ? '' : 's'}` : ''}${m.genericKernel > 0 ? ` (where dim ker > ${m.genericKernel})` : ''}${nN ? `; ${nN} near-zero${nN === 1 ? '' : 's'} (below the tolerance, charge 0, not zeros)` : ''}`,
   ]);
   let kmax = -1;
   let where = '';
@@ -63,7 +67,9 @@ function summary(spec: string, name: string | undefined, m: PhaseMap): string {
   if (kmax >= 0) rows.splice(rows.length - 1, 0, ['largest kernel', `${kmax}, first seen at ${where}`]);
   const detail: [string, string][] = [
     ...zs.lines.map((L): [string, string] => [`  line ${lineText(L)}`, `dim ker ${L.kernel}`]),
-    ...zs.isolated.map((z): [string, string] => [`  point ${pointText(z)}`, `dim ker ${z.kernel}`]),
+    ...t.zeroPoints.map((z): [string, string] => [`  point ${pointText(z)}`, `dim ker ${z.dimKer}, charge ${z.charge ?? 'undefined'}`]),
+    ...t.zeroCurves.map((c): [string, string] => [`  curve of ${c.points.length} points from ${pointText(c.points[0])}`, `dim ker ${c.dimKer}`]),
+    ...t.nearZeros.map((z): [string, string] => [`  near-zero ${pointText(z)}`, `σ = ${fmt(z.sigma)}`]),
   ];
   return (
     `shimmy spectrum: ${title}\n` +
@@ -88,7 +94,7 @@ function csv(spec: string, m: PhaseMap): string {
   return out.join('\n') + '\n';
 }
 
-function json(spec: string, name: string | undefined, m: PhaseMap): string {
+function json(spec: string, name: string | undefined, m: PhaseMap, t: ZeroTopology): string {
   const arr = (k: number) => (k < m.smallest.length ? Array.from(m.smallest[k]) : null);
   return (
     JSON.stringify(
@@ -106,6 +112,10 @@ function json(spec: string, name: string | undefined, m: PhaseMap): string {
         sigmaMin: m.sigmaMin,
         arrays: { sigma1: arr(0), sigma2: arr(1), sigma3: arr(2), sigmaMax: Array.from(m.largest), kernel: Array.from(m.kernel) },
         zeroSet: m.zeroSet,
+        zeroPoints: t.zeroPoints,
+        zeroLines: t.zeroLines,
+        zeroCurves: t.zeroCurves,
+        nearZeros: t.nearZeros,
         caution: CAUTION,
       },
       null,
@@ -148,8 +158,8 @@ export const spectrumCommand: Command = {
     const framework = loadFramework(spec, io.readText);
     const m = phaseMap(framework, { grid, tolerance });
     if (args.flags.has('--csv')) io.out(csv(spec, m));
-    else if (args.flags.has('--json')) io.out(safeJson(json(spec, framework.name, m)));
-    else io.out(summary(spec, framework.name, m));
+    else if (args.flags.has('--json')) io.out(safeJson(json(spec, framework.name, m, zeroTopology(framework, m))));
+    else io.out(summary(spec, framework.name, m, zeroTopology(framework, m)));
     return 0;
   },
 };

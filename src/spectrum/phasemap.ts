@@ -34,7 +34,8 @@
  *     vanishes (within tol, after a refinement of at most 1e-7 across the line) at 8 points
  *     spread along the whole closed line, off the grid. c is snapped to a fraction k/d (d ≤ 12)
  *     when within 1e-9. Zero points farther than 1e-4 from every accepted line are the isolated
- *     points (merged within 1e-5). A curved zero set would show up as many isolated points.
+ *     points (merged within 1e-5). A curved zero set shows up here as many isolated points;
+ *     src/spectrum/zero-set.ts traces them into curves and gives each isolated zero its charge.
  * Arrays are indexed i2·grid + i1 (θ1 varies fastest).
  * Units: Φ is assembled with bar vectors divided by the framework's lengthScale (a power of
  * two, see lengthScaleOf) and every σ figure of the result is multiplied back, so the map
@@ -305,7 +306,7 @@ function brentMinimum(f: (x: number) => number, a: number, b: number, tol: numbe
  * first order along one direction only. Steps are capped at maxStep; stops when σ ≤ target or
  * when no damped step lowers σ any more (a nonzero minimum).
  */
-function newtonZero(
+export function newtonZero(
   ev: SymbolEvaluator,
   index: number,
   x0: [number, number],
