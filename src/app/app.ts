@@ -86,9 +86,12 @@ export class App {
   private extrasPanel!: ExtrasPanel;
   private about!: HTMLDialogElement;
   private guard!: SizeGuard;
+  private undoBtn!: HTMLButtonElement;
   /** A settings change waits for the automatic run (debounced, or held while editing N1/N2). */
   private autoPending = false;
   private hashTimer = 0;
+  /** The pending hash update is a committed settings change: it gets its own history entry. */
+  private hashPush = false;
   private autoTimer = 0;
   private progressTimer = 0;
   private runSeq = 0;
@@ -136,6 +139,11 @@ export class App {
     };
     this.applyViewToStage();
     window.addEventListener('hashchange', () => this.openHash(location.hash));
+    // Back and Forward between the entries pushed by syncHash
+    window.addEventListener('popstate', () => {
+      this.refreshUndo();
+      this.openHash(location.hash);
+    });
     this.bindKeys();
     this.bindDrop();
     void this.client.features().then((f) => this.extrasPanel.setFeatures(f));
@@ -160,7 +168,12 @@ export class App {
       'header',
       { class: 'topbar' },
       h('div', { class: 'brand' }, h('span', { class: 'logo', 'aria-hidden': 'true' }, '⟡'), h('span', { class: 'name' }, 'shimmy'), h('span', { class: 'tagline' }, 'flexes and self-stresses of periodic bar-and-joint frameworks')),
-      h('div', { class: 'topbar-actions' }, h('button', { type: 'button', class: 'ghost', onclick: () => this.openAbout(), 'data-testid': 'about' }, 'About & caution')),
+      h(
+        'div',
+        { class: 'topbar-actions' },
+        (this.undoBtn = h('button', { type: 'button', class: 'ghost', onclick: () => this.undo(), disabled: true, title: 'Undo the last settings change (Ctrl+Z)', 'data-testid': 'undo' }, 'Undo')),
+        h('button', { type: 'button', class: 'ghost', onclick: () => this.openAbout(), 'data-testid': 'about' }, 'About & caution'),
+      ),
     );
     const left = h('aside', { class: 'column left', 'aria-label': 'Framework and supercell' }, this.frameworkPanel.el, this.supercellPanel.el);
     const centre = h('section', { class: 'column centre', 'aria-label': 'Stage' }, this.messages.el, this.guard.el, this.stagePanel.el, this.extrasPanel.el);
@@ -202,7 +215,9 @@ export class App {
   // ---- settings -------------------------------------------------------------------------------
 
   setFramework(src: FrameworkSource): void {
+    const changed = frameworkSpec(src) !== frameworkSpec(this.state.framework);
     this.state.framework = src;
+    if (changed) this.extrasPanel.frameworkChanged();
     // a note about the old lattice's list (e.g. a flex that does not exist) no longer applies
     this.message('selection', null);
     this.frameworkPanel.refresh();
@@ -213,7 +228,7 @@ export class App {
   settingsChanged(): void {
     this.supercellPanel.refreshEstimate();
     this.resultsPanel.refreshStale();
-    this.syncHash();
+    this.syncHash(true);
     if (this.autoRun) {
       clearTimeout(this.autoTimer);
       this.autoPending = true;
@@ -315,22 +330,42 @@ export class App {
     return key(this.resultState) !== key(this.state);
   }
 
-  syncHash(): void {
+  /** Writes the state into the URL; `push` (a settings change) adds a history entry, so Back returns to it. */
+  syncHash(push = false): void {
     clearTimeout(this.hashTimer);
+    this.hashPush ||= push;
     this.hashTimer = window.setTimeout(() => {
       const hash = stateToHash(this.state);
-      if (hash !== location.hash) history.replaceState(null, '', `${location.pathname}${location.search}${hash}`);
+      const url = `${location.pathname}${location.search}${hash}`;
+      // the first hash of a page replaces its bare address, so Back from there leaves the app as before
+      if (hash !== location.hash) {
+        if (this.hashPush && location.hash.length > 1) history.pushState({ shimmyDepth: undoDepth() + 1 }, '', url);
+        else history.replaceState(history.state, '', url);
+      }
+      this.hashPush = false;
+      this.refreshUndo();
       this.exportPanel.refreshLink();
     }, 200);
+  }
+
+  /** Undo goes back through the history entries this app pushed (never out of the app). */
+  undo(): void {
+    if (undoDepth() > 0) history.back();
+  }
+
+  private refreshUndo(): void {
+    this.undoBtn.disabled = undoDepth() === 0;
   }
 
   shareUrl(): string {
     return `${location.origin}${location.pathname}${location.search}${stateToHash(this.state)}`;
   }
 
-  /** Apply a whole state (from a link or a state file) and run it. */
-  applyState(s: AppState): void {
+  /** Apply a whole state (from a link or a state file) and run it; `push` adds a history entry. */
+  applyState(s: AppState, push = false): void {
+    const changed = frameworkSpec(s.framework) !== frameworkSpec(this.state.framework);
     this.state = cloneState(s);
+    if (changed) this.extrasPanel.frameworkChanged();
     this.frameworkPanel.refresh();
     this.supercellPanel.refresh();
     this.stagePanel.refresh();
@@ -338,12 +373,13 @@ export class App {
     this.applyViewToStage();
     this.pendingView = cloneState(s).view;
     this.message('selection', null);
-    this.syncHash();
+    this.syncHash(push);
     this.requestRun('link');
   }
 
   openHash(hash: string): void {
-    if (hash === stateToHash(this.state)) return;
+    // a history entry without a hash (the page as first opened) keeps the current state
+    if (hash.length <= 1 || hash === stateToHash(this.state)) return;
     try {
       const s = stateFromHash(hash);
       this.message('link', null);
@@ -377,7 +413,7 @@ export class App {
       if (looksLikeState(value)) {
         const s = stateFromFile(text, fileName);
         this.message('file', null);
-        this.applyState(s);
+        this.applyState(s, true);
         return;
       }
       const fw = parseFramework(text, fileName);
@@ -706,11 +742,17 @@ export class App {
 
   private bindKeys(): void {
     window.addEventListener('keydown', (e) => {
-      if (e.defaultPrevented || e.altKey || e.ctrlKey || e.metaKey) return;
+      if (e.defaultPrevented || e.altKey) return;
       const t = e.target as HTMLElement | null;
       const tag = t?.tagName;
       const editable = tag === 'INPUT' || tag === 'TEXTAREA' || tag === 'SELECT' || t?.isContentEditable;
-      if (editable) return;
+      // Ctrl+Z (Cmd+Z) undoes a settings change; inside a text field it stays the field's own undo
+      if ((e.ctrlKey || e.metaKey) && !e.shiftKey && e.key.toLowerCase() === 'z' && (!editable || tag === 'SELECT')) {
+        e.preventDefault();
+        this.undo();
+        return;
+      }
+      if (editable || e.ctrlKey || e.metaKey) return;
       // Space plays/pauses everywhere except on ordinary buttons and links (where it presses
       // them); on a row of the flex list it plays/pauses too.
       const listRow = t?.getAttribute('role') === 'option';
@@ -753,6 +795,12 @@ export class App {
       void this.openFile(file);
     });
   }
+}
+
+/** How many settings changes of this app lie behind the current history entry. */
+function undoDepth(): number {
+  const d = (history.state as { shimmyDepth?: unknown } | null)?.shimmyDepth;
+  return typeof d === 'number' ? d : 0;
 }
 
 /** Breaks caption lines at spaces so that each fits `width` pixels at about `charWidth` per character. */

@@ -9,6 +9,8 @@ import { frameworkOf } from '../state.js';
 export interface ExtrasPanel {
   el: HTMLElement;
   setFeatures(f: WorkerFeatures): void;
+  /** Clears the map and the sweep table: they belong to the previous framework. */
+  frameworkChanged(): void;
 }
 
 export function buildExtrasPanel(app: App): ExtrasPanel {
@@ -20,6 +22,8 @@ export function buildExtrasPanel(app: App): ExtrasPanel {
   const pmCanvas = h('canvas', { class: 'phasemap', width: 288, height: 288, role: 'img', 'aria-label': 'Phase map of the smallest singular value over the torus of twist phases', 'data-testid': 'phasemap-canvas' });
   const pmSummary = h('div', { class: 'phasemap-summary', 'data-testid': 'phasemap-summary' });
   let pm: PhaseMapData | null = null;
+  /** Bumped on every framework change; a map or sweep started before it is dropped when it arrives. */
+  let generation = 0;
   const pmRun = h('button', { type: 'button', class: 'small primary', 'data-testid': 'phasemap-run', disabled: true }, 'Compute map');
   pmRun.addEventListener('click', () => {
     let framework;
@@ -32,11 +36,13 @@ export function buildExtrasPanel(app: App): ExtrasPanel {
     pmStatus.textContent = 'computing…';
     pmCancel.hidden = false;
     app.message('phasemap', null);
+    const gen = generation;
     app.client
       .phaseMap({ framework, grid: Number(grid.value), tolerance: app.state.tolerance }, (f, stage) => (pmStatus.textContent = `${stage} ${Math.round(f * 100)} %`))
       .then((r) => {
-        pm = r;
         pmStatus.textContent = '';
+        if (gen !== generation) return;
+        pm = r;
         drawPhaseMap(pmCanvas, r);
         summarise(r);
       })
@@ -54,7 +60,7 @@ export function buildExtrasPanel(app: App): ExtrasPanel {
     const t2 = Math.min(0.999, Math.max(0, 1 - (e.clientY - r.top) / r.height));
     const q = (t: number) => Math.round(t * 1000) / 1000;
     app.state.bc = `twist:${q(t1)},${q(t2)}`;
-    app.applyState(app.state);
+    app.applyState(app.state, true);
   });
   const summarise = (r: PhaseMapData) => {
     clear(pmSummary);
@@ -76,6 +82,7 @@ export function buildExtrasPanel(app: App): ExtrasPanel {
   );
 
   // ---- size sweep
+  let sweepOut: HTMLElement | null = null;
   const sweepBody = h('div', { 'data-testid': 'sweep-body' }, h('p', { class: 'unavailable', 'data-testid': 'sweep-unavailable' }, 'Checking…'));
   const sweepCard = h('details', { class: 'panel extra', 'data-testid': 'sweep-panel' }, h('summary', null, h('h2', null, 'Size sweep')), sweepBody);
 
@@ -90,6 +97,7 @@ export function buildExtrasPanel(app: App): ExtrasPanel {
     const sizesId = newId('sizes');
     const sizes = h('input', { type: 'text', id: sizesId, class: 'mono', value: '3,4,5,6', 'data-testid': 'sweep-sizes' });
     const out = h('div', { class: 'sweep-out', 'data-testid': 'sweep-out' });
+    sweepOut = out;
     const status = h('span', { class: 'hint', 'aria-live': 'polite' });
     const run = h('button', { type: 'button', class: 'small primary', 'data-testid': 'sweep-run' }, 'Run sweep');
     run.addEventListener('click', () => {
@@ -100,11 +108,12 @@ export function buildExtrasPanel(app: App): ExtrasPanel {
       }
       app.message('sweep', null);
       status.textContent = 'running…';
+      const gen = generation;
       app.client
         .sweep({ framework: frameworkOf(app.state.framework), sizes: list.map((n) => [n, n] as [number, number]), bc: app.state.bc, tolerance: app.state.tolerance, solver: app.state.solver, window: app.state.window, strip: app.state.strip }, (fr, st) => (status.textContent = `${st} ${Math.round(fr * 100)} %`))
         .then((r) => {
           status.textContent = '';
-          renderSweep(out, r);
+          if (gen === generation) renderSweep(out, r);
         })
         .catch((e: unknown) => {
           status.textContent = '';
@@ -114,8 +123,24 @@ export function buildExtrasPanel(app: App): ExtrasPanel {
     sweepBody.append(h('div', { class: 'row' }, h('label', { for: sizesId }, 'N×N sizes'), sizes, run, status), out);
   };
 
+  const frameworkChanged = () => {
+    generation++;
+    const hadMap = pm !== null;
+    pm = null;
+    pmCanvas.getContext('2d')?.clearRect(0, 0, pmCanvas.width, pmCanvas.height);
+    clear(pmSummary);
+    if (hadMap) pmSummary.append(h('p', { class: 'hint', 'data-testid': 'phasemap-cleared' }, 'The framework changed: compute the map again for this one.'));
+    if (pmStatus.textContent === 'computing…' || pmStatus.textContent?.endsWith('%')) pmStatus.textContent = '';
+    if (sweepOut?.firstChild) {
+      clear(sweepOut);
+      sweepOut.append(h('p', { class: 'hint', 'data-testid': 'sweep-cleared' }, 'The framework changed: run the sweep again for this one.'));
+    }
+    app.message('phasemap', null);
+    app.message('sweep', null);
+  };
+
   const el = h('div', { class: 'extras' }, phaseCard, sweepCard);
-  return { el, setFeatures };
+  return { el, setFeatures, frameworkChanged };
 }
 
 const SWEEP_COLUMNS = ['N1', 'N2', 'joints', 'bars', 'flexes', 'trivial', 'selfStresses', 'local', 'line', 'decaying', 'bulk', 'seconds'] as const;

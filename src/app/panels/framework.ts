@@ -7,7 +7,7 @@ import type { App } from '../app.js';
 import { clear, h, section, sliderField, type NumberControl } from '../dom.js';
 import { locate } from '../jsonpath.js';
 import { INK } from '../stage/colours.js';
-import { frameworkOf } from '../state.js';
+import { frameworkOf, type FrameworkSource } from '../state.js';
 
 /** The invented example frameworks shipped in demos/ (labelled as invented in each file). */
 const DEMOS = import.meta.glob('../../../demos/*.json', { query: '?raw', import: 'default', eager: true }) as Record<string, string>;
@@ -108,9 +108,13 @@ export function buildFrameworkPanel(app: App): FrameworkPanel {
     app.setFramework({ kind: 'file', framework: editorParsed, fileName: `${name}.json` });
   });
 
+  /** The last loaded or edited file, so that choosing "Loaded: …" again brings it back. */
+  let lastFile: FrameworkSource | null = null;
   picker.addEventListener('change', () => {
     const v = picker.value;
-    if (v.startsWith('gallery:')) {
+    if (v === 'file') {
+      if (lastFile) app.setFramework(lastFile);
+    } else if (v.startsWith('gallery:')) {
       const entry = galleryEntry(v.slice(8));
       const p: Record<string, number> = {};
       for (const q of entry.params) p[q.key] = q.default;
@@ -160,6 +164,7 @@ export function buildFrameworkPanel(app: App): FrameworkPanel {
         builtFor = src.name;
       } else for (const q of entry.params) controls[q.key]?.set(src.params[q.key] ?? q.default);
     } else {
+      lastFile = src;
       fileOption.disabled = false;
       fileOption.textContent = `Loaded: ${src.framework.name ?? src.fileName}`;
       picker.value = 'file';

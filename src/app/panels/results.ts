@@ -22,10 +22,24 @@ const CLASS_TEXT: Record<FlexClass, { title: string; help: string }> = {
   bulk: { title: 'Bulk', help: 'spread through the supercell' },
 };
 
-export function modeSummary(m: ModeData): string {
+/**
+ * The extent of a mode as shown. The core measures it along the principal axes of the support
+ * (in cell units, plus one), which on a slanted axis can exceed the supercell's sides (a diagonal
+ * spread of 12×12 cells measures about 17); a length beyond the longer side reads "whole supercell".
+ */
+export function extentText(extents: [number, number], cells?: readonly [number, number]): string {
+  const side = cells ? Math.max(cells[0], cells[1]) : Infinity;
+  const one = (e: number) => (e > side ? null : fmt(e, 3));
+  const [a, b] = [one(extents[0]), one(extents[1])];
+  if (a === null && b === null) return `extent: the whole ${cells![0]} × ${cells![1]} supercell`;
+  if (a === null) return `extent across the whole supercell × ${b} cells`;
+  return `extent ${a} × ${b} cells`;
+}
+
+export function modeSummary(m: ModeData, cells?: readonly [number, number]): string {
   const parts: string[] = [];
   if (m.support !== undefined) parts.push(`support ${m.support} joints`);
-  if (m.extents) parts.push(`extent ${fmt(m.extents[0], 3)} × ${fmt(m.extents[1], 3)} cells`);
+  if (m.extents) parts.push(extentText(m.extents, cells));
   if (m.direction) parts.push(`direction (${m.direction[0]}, ${m.direction[1]})`);
   if (m.decayLength !== undefined) parts.push(`ξ ${fmt(m.decayLength, 3)} cells`);
   if (m.anchor) parts.push(`anchor ${m.anchor.kind === 'point' ? `point (${fmt(m.anchor.at[0], 3)}, ${fmt(m.anchor.at[1], 3)})` : `${m.anchor.kind} ${m.anchor.name}`}`);
@@ -134,7 +148,7 @@ export function buildResultsPanel(app: App): ResultsPanel {
             { type: 'button', role: 'option', class: `mode ${m.class ? `class-${m.class}` : ''}`, 'data-index': i, 'data-testid': `flex-${i}`, 'aria-selected': 'false', onclick: () => app.selectFlex(i) },
             h('span', { class: 'mode-index' }, `#${i}`),
             h('span', { class: 'mode-class' }, m.class ?? 'basis'),
-            h('span', { class: 'mode-metrics' }, modeSummary(m)),
+            h('span', { class: 'mode-metrics' }, modeSummary(m, r.geometry.cells)),
           ),
         );
       });

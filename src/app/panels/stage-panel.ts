@@ -125,7 +125,7 @@ export function buildStagePanel(app: App): StagePanel {
     const what = showStress
       ? `self-stress #${vs.stress} of ${r.stresses.length}`
       : mode
-        ? `flex #${vs.flex} of ${r.modes.length}${mode.class ? ` · ${mode.class}` : ''} · ${modeSummary(mode)}`
+        ? `flex #${vs.flex} of ${r.modes.length}${mode.class ? ` · ${mode.class}` : ''} · ${modeSummary(mode, r.geometry.cells)}`
         : r.modes.length === 0
           ? 'no flexes to animate'
           : '';
