@@ -18,6 +18,7 @@ import { SymbolAssembler } from '../src/spectrum/symbol.js';
 import { buildGallery } from '../src/framework/gallery.js';
 import type { Framework } from '../src/framework/types.js';
 import { polyEval, polynomialRoots, type Complex } from '../src/linalg/poly-roots.js';
+import { INVENTED_WEYL } from './fixtures/invented-lattices.js';
 
 const DEG = Math.PI / 180;
 const deformed = (x1: number, x2: number, x3: number, z = 0) => buildGallery(`gallery:deformed-kagome?x1=${x1}&x2=${x2}&x3=${x3}&z=${z}`);
@@ -394,26 +395,7 @@ describe('invariance under the choice of unit cell', () => {
 
 describe('charged zeros of an invented Maxwell lattice (Rocklin, Chen, Falk, Vitelli & Lubensky, PRL 116, 135503 (2016): Weyl points carry a charge and the edge count jumps by it across their projection)', () => {
   // invented: 3 joints, 6 bars (Maxwell), chosen for det Φ having isolated zeros
-  const weyl: Framework = {
-    name: 'invented-weyl',
-    lattice: [
-      [1, 0],
-      [0.3, 1.1],
-    ],
-    joints: [
-      { id: 'J0', at: [0.29881814089603725, 0.8674635111121461] },
-      { id: 'J1', at: [0.264519530790858, 0.07895440289285034] },
-      { id: 'J2', at: [0.4726399399805814, 0.10524340630508959] },
-    ],
-    bars: [
-      { from: 'J0', to: 'J1', shift: [2, 1] },
-      { from: 'J1', to: 'J0', shift: [-2, 0] },
-      { from: 'J2', to: 'J1', shift: [2, 1] },
-      { from: 'J1', to: 'J0', shift: [1, 0] },
-      { from: 'J2', to: 'J1', shift: [1, -1] },
-      { from: 'J0', to: 'J2', shift: [2, 1] },
-    ],
-  };
+  const weyl = INVENTED_WEYL;
 
   /** det Φ(θ1, θ2) through the symbol assembler (independent of the Laurent evaluation). */
   function detAt(a: SymbolAssembler, t1: number, t2: number): Complex {

@@ -5,28 +5,10 @@ import type { Framework } from '../src/framework/types.js';
 import { phaseMap } from '../src/spectrum/phasemap.js';
 import { SymbolAssembler, symbolKernel } from '../src/spectrum/symbol.js';
 import { zeroTopology } from '../src/spectrum/zero-set.js';
+import { INVENTED_WEYL } from './fixtures/invented-lattices.js';
 
 // invented: the 3-joint, 6-bar Maxwell lattice of tests/edges.test.ts, with isolated zeros of det Φ
-const weyl: Framework = {
-  name: 'invented-weyl',
-  lattice: [
-    [1, 0],
-    [0.3, 1.1],
-  ],
-  joints: [
-    { id: 'J0', at: [0.29881814089603725, 0.8674635111121461] },
-    { id: 'J1', at: [0.264519530790858, 0.07895440289285034] },
-    { id: 'J2', at: [0.4726399399805814, 0.10524340630508959] },
-  ],
-  bars: [
-    { from: 'J0', to: 'J1', shift: [2, 1] },
-    { from: 'J1', to: 'J0', shift: [-2, 0] },
-    { from: 'J2', to: 'J1', shift: [2, 1] },
-    { from: 'J1', to: 'J0', shift: [1, 0] },
-    { from: 'J2', to: 'J1', shift: [1, -1] },
-    { from: 'J0', to: 'J2', shift: [2, 1] },
-  ],
-};
+const weyl = INVENTED_WEYL;
 
 // invented: 2 joints, 4 bars (Maxwell), every bar joining A to B, so the point midway between A and B
 // is a centre of inversion
