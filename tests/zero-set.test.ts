@@ -7,7 +7,7 @@ import { SymbolAssembler, symbolKernel } from '../src/spectrum/symbol.js';
 import { zeroTopology } from '../src/spectrum/zero-set.js';
 import { INVENTED_WEYL } from './fixtures/invented-lattices.js';
 
-// invented: the 3-joint, 6-bar Maxwell lattice of tests/edges.test.ts, with isolated zeros of det Φ
+// invented (tests/fixtures/invented-lattices.ts): 3 joints, 6 bars, isolated zeros of det Φ
 const weyl = INVENTED_WEYL;
 
 // invented: 2 joints, 4 bars (Maxwell), every bar joining A to B, so the point midway between A and B
