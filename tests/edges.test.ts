@@ -18,7 +18,7 @@ import { SymbolAssembler } from '../src/spectrum/symbol.js';
 import { buildGallery } from '../src/framework/gallery.js';
 import type { Framework } from '../src/framework/types.js';
 import { polyEval, polynomialRoots, type Complex } from '../src/linalg/poly-roots.js';
-import { INVENTED_WEYL } from './fixtures/invented-lattices.js';
+import { INVENTED_WEYL, symbolDeterminant } from './fixtures/invented-lattices.js';
 
 const DEG = Math.PI / 180;
 const deformed = (x1: number, x2: number, x3: number, z = 0) => buildGallery(`gallery:deformed-kagome?x1=${x1}&x2=${x2}&x3=${x3}&z=${z}`);
@@ -397,19 +397,7 @@ describe('charged zeros of an invented Maxwell lattice (Rocklin, Chen, Falk, Vit
   // invented: 3 joints, 6 bars (Maxwell), chosen for det Φ having isolated zeros
   const weyl = INVENTED_WEYL;
 
-  /** det Φ(θ1, θ2) through the symbol assembler (independent of the Laurent evaluation). */
-  function detAt(a: SymbolAssembler, t1: number, t2: number): Complex {
-    const { re, im, ld } = a.assemble(t1, t2);
-    const n = a.cols;
-    const r = new Float64Array(n * n);
-    const i = new Float64Array(n * n);
-    for (let row = 0; row < n; row++)
-      for (let c = 0; c < n; c++) {
-        r[row * n + c] = re[c * ld + row];
-        i[row * n + c] = im[c * ld + row];
-      }
-    return complexDeterminant(r, i, n);
-  }
+  const detAt = symbolDeterminant;
 
   /** Summed arg increments of det along a polyline of phases, in turns of 2π. */
   function windingAlong(a: SymbolAssembler, pts: [number, number][]): number {

@@ -5,7 +5,7 @@ import type { Framework } from '../src/framework/types.js';
 import { phaseMap } from '../src/spectrum/phasemap.js';
 import { SymbolAssembler, symbolKernel } from '../src/spectrum/symbol.js';
 import { zeroTopology } from '../src/spectrum/zero-set.js';
-import { INVENTED_WEYL } from './fixtures/invented-lattices.js';
+import { INVENTED_WEYL, symbolDeterminant } from './fixtures/invented-lattices.js';
 
 // invented (tests/fixtures/invented-lattices.ts): 3 joints, 6 bars, isolated zeros of det Φ
 const weyl = INVENTED_WEYL;
@@ -30,19 +30,7 @@ const inversion: Framework = {
   ],
 };
 
-/** det Φ(θ) assembled directly (not through src/edges' Laurent symbol). */
-function detAt(a: SymbolAssembler, t1: number, t2: number): [number, number] {
-  const { re, im, ld } = a.assemble(t1, t2);
-  const n = a.cols;
-  const r = new Float64Array(n * n);
-  const i = new Float64Array(n * n);
-  for (let row = 0; row < n; row++)
-    for (let c = 0; c < n; c++) {
-      r[row * n + c] = re[c * ld + row];
-      i[row * n + c] = im[c * ld + row];
-    }
-  return complexDeterminant(r, i, n);
-}
+const detAt = symbolDeterminant;
 
 /** Winding of det on a circle of radius r around c, 2000 uniform steps. */
 function circleWinding(a: SymbolAssembler, c: [number, number], r: number): number {
