@@ -1,5 +1,4 @@
 import { describe, expect, it } from 'vitest';
-import { complexDeterminant } from '../src/edges/laurent.js';
 import { buildGallery } from '../src/framework/gallery.js';
 import type { Framework } from '../src/framework/types.js';
 import { phaseMap } from '../src/spectrum/phasemap.js';
