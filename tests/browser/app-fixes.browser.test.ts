@@ -7,34 +7,24 @@
 import fs from 'node:fs';
 import path from 'node:path';
 import type { Page } from 'playwright-core';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
 import { count } from '../../src/analysis.js';
 import { classifyFlexes } from '../../src/flex/classify.js';
 import { buildGallery } from '../../src/framework/gallery.js';
 import { parseFramework } from '../../src/framework/validate.js';
-import { browserAvailable, launchBrowser, ROOT, startServer, type Browser, type Served } from './harness.js';
+import { appSession, browserAvailable, ROOT } from './harness.js';
 
 const available = browserAvailable();
 
 describe.skipIf(!available)('browser app fixes (issue 12, item 6)', () => {
-  let server: Served;
-  let browser: Browser;
-
-  beforeAll(async () => {
-    [server, browser] = await Promise.all([startServer('preview'), launchBrowser()]);
-  }, 60_000);
-
-  afterAll(async () => {
-    await browser?.close();
-    await server?.close();
-  });
+  const session = appSession();
 
   const pageErrors: string[] = [];
 
   async function open(hash: string): Promise<Page> {
-    const page = await browser.context.newPage();
+    const page = await session.browser.context.newPage();
     page.on('pageerror', (e) => pageErrors.push(e.message));
-    await page.goto(server.url + hash);
+    await page.goto(session.server.url + hash);
     await waitForResult(page, 0);
     return page;
   }
@@ -147,7 +137,7 @@ describe.skipIf(!available)('browser app fixes (issue 12, item 6)', () => {
     v = await version(page);
     await page.goBack();
     await waitForFresh(page, v);
-    expect(page.url().startsWith(server.url)).toBe(true);
+    expect(page.url().startsWith(session.server.url)).toBe(true);
     expect(hashParam(page, 'cells')).toBe('3x3');
     expect(await page.getByTestId('cells-n1').inputValue()).toBe('3');
     expect(await flexes(page)).toBe(kagome3);
@@ -189,7 +179,7 @@ describe.skipIf(!available)('browser app fixes (issue 12, item 6)', () => {
     await page.getByTestId('undo').click({ force: true });
     await page.keyboard.press('Control+z');
     await page.waitForTimeout(300);
-    expect(page.url().startsWith(server.url)).toBe(true);
+    expect(page.url().startsWith(session.server.url)).toBe(true);
     expect(await page.getByTestId('gallery-select').inputValue()).toBe('gallery:kagome');
     await page.close();
   }, 60_000);

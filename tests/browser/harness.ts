@@ -2,6 +2,7 @@
  * Browser-test plumbing: serve the app with vite on 127.0.0.1 (a production build served by
  * `vite preview`, or the dev server) and drive Debian's chromium through playwright-core.
  */
+import { afterAll, beforeAll } from 'vitest';
 import fs from 'node:fs';
 import net from 'node:net';
 import os from 'node:os';
@@ -140,4 +141,20 @@ export function parseGif(buf: Uint8Array): { header: string; width: number; heig
     } else throw new Error(`unexpected GIF block 0x${b.toString(16)} at byte ${p - 1}`);
   }
   return { header, width, height, frames, loops };
+}
+
+/**
+ * Serves the built app and launches the browser before a suite's tests, and closes both after:
+ * call once inside a describe block and read `.server` and `.browser` in the tests.
+ */
+export function appSession(): { readonly server: Served; readonly browser: Browser } {
+  const session = {} as { server: Served; browser: Browser };
+  beforeAll(async () => {
+    [session.server, session.browser] = await Promise.all([startServer('preview'), launchBrowser()]);
+  }, 60_000);
+  afterAll(async () => {
+    await session.browser?.close();
+    await session.server?.close();
+  });
+  return session;
 }

@@ -6,13 +6,13 @@
  * tests/.artifacts/ (git-ignored).
  */
 import type { Page } from 'playwright-core';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
 import { count } from '../../src/analysis.js';
 import { checkRunSize } from '../../src/flex/estimate.js';
 import { TooLargeError } from '../../src/errors.js';
 import { buildGallery } from '../../src/framework/gallery.js';
 import { parseBoundary } from '../../src/supercell/boundary.js';
-import { artifact, browserAvailable, launchBrowser, startServer, type Browser, type Served } from './harness.js';
+import { appSession, artifact, browserAvailable } from './harness.js';
 
 const available = browserAvailable();
 
@@ -24,24 +24,14 @@ const SCREENS = [
 ];
 
 describe.skipIf(!available)('layouts, size guard and progress', () => {
-  let server: Served;
-  let browser: Browser;
+  const session = appSession();
   const pageErrors: string[] = [];
 
-  beforeAll(async () => {
-    [server, browser] = await Promise.all([startServer('preview'), launchBrowser()]);
-  }, 60_000);
-
-  afterAll(async () => {
-    await browser?.close();
-    await server?.close();
-  });
-
   async function open(hash = '', viewport = { width: 1280, height: 800 }, wait = true): Promise<Page> {
-    const page = await browser.context.newPage();
+    const page = await session.browser.context.newPage();
     await page.setViewportSize(viewport);
     page.on('pageerror', (e) => pageErrors.push(e.message));
-    await page.goto(server.url + hash);
+    await page.goto(session.server.url + hash);
     if (wait) await waitForResult(page, 0);
     else await page.getByTestId('results').waitFor();
     return page;

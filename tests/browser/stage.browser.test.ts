@@ -5,32 +5,22 @@
  * A production build served by `vite preview`, driven in Debian's headless chromium.
  */
 import type { Page } from 'playwright-core';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { artifact, browserAvailable, launchBrowser, startServer, type Browser, type Served } from './harness.js';
+import { describe, expect, it } from 'vitest';
+import { appSession, artifact, browserAvailable } from './harness.js';
 
 const available = browserAvailable();
 const KAGOME = '#framework=gallery%3Akagome&cells=3x3&bc=free&flex=4';
 
 describe.skipIf(!available)('stage', () => {
-  let server: Served;
-  let browser: Browser;
+  const session = appSession();
   const pageErrors: string[] = [];
 
-  beforeAll(async () => {
-    [server, browser] = await Promise.all([startServer('preview'), launchBrowser()]);
-  }, 60_000);
-
-  afterAll(async () => {
-    await browser?.close();
-    await server?.close();
-  });
-
   async function open(hash: string, opts: { reducedMotion?: boolean; query?: string } = {}): Promise<Page> {
-    const page = await browser.context.newPage();
+    const page = await session.browser.context.newPage();
     await page.setViewportSize({ width: 1280, height: 800 });
     page.on('pageerror', (e) => pageErrors.push(e.message));
     await page.emulateMedia({ reducedMotion: opts.reducedMotion ? 'reduce' : 'no-preference' });
-    await page.goto(`${server.url}${opts.query ?? ''}${hash}`);
+    await page.goto(`${session.server.url}${opts.query ?? ''}${hash}`);
     await page.waitForFunction(() => Number(document.querySelector('[data-testid=results]')?.getAttribute('data-version')) > 0, null, { timeout: 30_000 });
     return page;
   }
