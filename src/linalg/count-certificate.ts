@@ -75,20 +75,14 @@ export function certifyCount(input: CertificateInput): CountCertificate {
     sumSq += sigma[L] * sigma[L];
     L++;
   }
-  const defectV = orthonormalityDefect(X, Math.min(X.re.length, Math.max(L, k)));
-  if (defectV > 1e-8) {
-    reasons.push(`the iteration's vectors lost orthonormality (defect ${defectV.toPrecision(2)})`);
-    return { ...base, certified: false, provenNull: L, provenAbove: 0, reasons };
-  }
   if (L > k) {
     reasons.push(`${L} vectors with ‖A v‖ ≤ tol, but the inertia count allows only ${k} eigenvalues below τ: the inertia count is off`);
     return { ...base, certified: false, provenNull: L, provenAbove: 0, reasons };
   }
-  if (L === k) return { ...base, certified: true, provenNull: L, provenAbove: 0, reasons };
   // 3. the k − L values between: Ritz values are upper bounds, so candidates lie below `upper`
   const r = k - L;
   let candidates = 0;
-  while (L + candidates < sigma.length && sigma[L + candidates] < upper) candidates++;
+  while (candidates < r && L + candidates < sigma.length && sigma[L + candidates] < upper) candidates++;
   if (candidates < r) {
     reasons.push(
       `the inertia count puts ${k} eigenvalues of K below τ, but only ${L} vectors are proved null and ${candidates} lie between the cut and √τ: ` +
@@ -96,6 +90,13 @@ export function certifyCount(input: CertificateInput): CountCertificate {
     );
     return { ...base, certified: false, provenNull: L, provenAbove: 0, reasons };
   }
+  // only now, with the counts able to match, the O(k²·n) orthonormality check of the vectors used
+  const defectV = orthonormalityDefect(X, Math.min(X.re.length, k));
+  if (defectV > 1e-8) {
+    reasons.push(`the iteration's vectors lost orthonormality (defect ${defectV.toPrecision(2)})`);
+    return { ...base, certified: false, provenNull: L, provenAbove: 0, reasons };
+  }
+  if (r === 0) return { ...base, certified: true, provenNull: L, provenAbove: 0, reasons };
   const V: Block = { len: X.len, re: X.re.slice(L, L + r), im: X.im ? X.im.slice(L, L + r) : null };
   const m = A.rows;
   const complex = X.im !== null || A.im !== null;
