@@ -16,6 +16,8 @@ export { analyseSupercell, countsOf, type FlexAnalysis, type FlexCounts, type An
 export { rigidMotions, allowedRigidMotionNames } from './flex/rigid.js';
 export { symbolMatrix, symbolKernel } from './spectrum/symbol.js';
 export { phaseMap, type PhaseMap, type PhaseMapOptions } from './spectrum/phasemap.js';
+export { zeroTopology, type ZeroTopology, type ChargedZero, type NearZero, type ZeroCurve } from './spectrum/zero-set.js';
+export { almostPeriodicVerdict, type AlmostPeriodicVerdict, type AlmostPeriodicOptions } from './spectrum/almost-periodic.js';
 export { edges, type EdgesRequest, type EdgesResult, type SideReport, type GridRow } from './edges/edges.js';
 export { blochSolver, blochPlan } from './spectrum/bloch.js';
 export { sparseSolver, sparseSpaces } from './flex/solve-sparse.js';

@@ -7,6 +7,7 @@ import { CAUTION, CAUTION_SHORT } from '../caution.js';
 import { InputError } from '../errors.js';
 import { loadFramework } from '../framework/load.js';
 import { MAX_GRID, phaseMap, type PhaseMap, type ZeroLine, type ZeroPoint } from '../spectrum/phasemap.js';
+import { almostPeriodicVerdict, type AlmostPeriodicVerdict } from '../spectrum/almost-periodic.js';
 import { zeroTopology, type ZeroTopology } from '../spectrum/zero-set.js';
 import { parseNumberFlag } from './args.js';
 import type { Command } from './command.js';
@@ -31,7 +32,13 @@ function pointText(z: Pick<ZeroPoint, 'theta'> | [number, number]): string {
   return `θ = (${fmt(t[0], 6)}, ${fmt(t[1], 6)})`;
 }
 
-function summary(spec: string, name: string | undefined, m: PhaseMap, t: ZeroTopology): string {
+/** "rigid (proved): …" */
+export function verdictText(v: AlmostPeriodicVerdict): string {
+  const how = v.verdict === 'undecided' ? '' : v.certified ? ' (proved)' : ' (to the tolerance)';
+  return `${v.verdict}${how}: ${v.reason}`;
+}
+
+function summary(spec: string, name: string | undefined, m: PhaseMap, t: ZeroTopology, v: AlmostPeriodicVerdict): string {
   const title = titleOf(name, spec);
   const zs = m.zeroSet;
   const rows: [string, string][] = [
@@ -71,6 +78,7 @@ function summary(spec: string, name: string | undefined, m: PhaseMap, t: ZeroTop
     ...t.zeroCurves.map((c): [string, string] => [`  curve of ${c.points.length} points from ${pointText(c.points[0])}`, `dim ker ${c.dimKer}`]),
     ...t.nearZeros.map((z): [string, string] => [`  near-zero ${pointText(z)}`, `σ = ${fmt(z.sigma)}`]),
   ];
+  rows.push(['almost-periodic rigidity', verdictText(v)]);
   return (
     `shimmy spectrum: ${title}\n` +
     `  Bloch phases θ = (θ1, θ2) in turns on a ${m.grid}×${m.grid} grid, z = exp(2πiθ); lines are mod 1\n\n` +
@@ -94,7 +102,7 @@ function csv(spec: string, m: PhaseMap): string {
   return out.join('\n') + '\n';
 }
 
-function json(spec: string, name: string | undefined, m: PhaseMap, t: ZeroTopology): string {
+function json(spec: string, name: string | undefined, m: PhaseMap, t: ZeroTopology, v: AlmostPeriodicVerdict): string {
   const arr = (k: number) => (k < m.smallest.length ? Array.from(m.smallest[k]) : null);
   return (
     JSON.stringify(
@@ -116,6 +124,7 @@ function json(spec: string, name: string | undefined, m: PhaseMap, t: ZeroTopolo
         zeroLines: t.zeroLines,
         zeroCurves: t.zeroCurves,
         nearZeros: t.nearZeros,
+        almostPeriodic: v,
         caution: CAUTION,
       },
       null,
@@ -143,6 +152,9 @@ export const spectrumCommand: Command = {
     'blank in --csv (null in --json) for a one-joint cell. The zero set is where dim ker Φ exceeds its',
     'generic value; grid rows and columns are searched between grid points, so lines off the grid are found.',
     'CSV lines starting with # are comments.',
+    'The summary and --json also give the almost-periodic rigidity verdict (Badri, Kitson & Power 2014): rigid',
+    'exactly when the only flexes at θ = 0 are the two translations and Φ has no other zero on the torus. It is',
+    'proved by bounds (first order near θ = 0, a Lipschitz bound elsewhere), not read off the grid.',
     '',
     ...FRAMEWORK_HELP,
   ],
@@ -158,8 +170,11 @@ export const spectrumCommand: Command = {
     const framework = loadFramework(spec, io.readText);
     const m = phaseMap(framework, { grid, tolerance });
     if (args.flags.has('--csv')) io.out(csv(spec, m));
-    else if (args.flags.has('--json')) io.out(safeJson(json(spec, framework.name, m, zeroTopology(framework, m))));
-    else io.out(summary(spec, framework.name, m, zeroTopology(framework, m)));
+    else {
+      const verdict = almostPeriodicVerdict(framework, { tolerance });
+      if (args.flags.has('--json')) io.out(safeJson(json(spec, framework.name, m, zeroTopology(framework, m), verdict)));
+      else io.out(summary(spec, framework.name, m, zeroTopology(framework, m), verdict));
+    }
     return 0;
   },
 };
