@@ -347,6 +347,36 @@ describe('strips as an independent count of modes per side', () => {
     expect(r.sides.bottom.counted).toBeNull();
   });
 
+  it('pinned edges: flexes − self-stresses = predicted − bars crossing per cell, counted by a strip pinned on both sides', () => {
+    // Counting (derived here): a pinned edge keeps, grounded, the Σ|s⊥| bar copies per cell that the free
+    // edge drops, so its index is the free one minus that. Kane & Lubensky, Nature Physics 10, 39 (2014):
+    // an edge's zero modes and self-stresses are counted together, and the polarised lattice's edge
+    // without free floppy modes carries the self-stresses when pinned.
+    for (const [fw, along, phase] of [
+      [deformed(0.1, -0.1, 0.1), 'a1', 0.3183],
+      [deformed(-0.1, 0.1, 0.1), 'a2', 0.3],
+      [twisted(15), 'a1', 0.2],
+    ] as const) {
+      const r = edges({ framework: fw, phase, along, grid: 0, strip: 40 });
+      const [lo, hi] = along === 'a1' ? (['bottom', 'top'] as const) : (['left', 'right'] as const);
+      const c = fw.bars.reduce((s, b) => s + Math.abs(b.shift[along === 'a1' ? 1 : 0]), 0);
+      expect(r.crossing[along]).toBe(c);
+      for (const side of [lo, hi]) expect(r.sides[side].pinned.index).toBe(r.sides[side].predicted! - c);
+      const st = r.pinnedStrip!;
+      expect(st.certified).toBe(true);
+      // both sides pinned: index −2c in all; no bulk zero at this phase, so every mode is an edge self-stress
+      expect(st.flexes).toBe(0);
+      expect(st.selfStresses).toBe(r.sides[lo].pinned.selfStresses! + r.sides[hi].pinned.selfStresses!);
+      expect(st.stressWeightLow).toBeCloseTo(r.sides[lo].pinned.selfStresses!, 3);
+      expect(st.stressWeightHigh).toBeCloseTo(r.sides[hi].pinned.selfStresses!, 3);
+      expect(r.sides[lo].pinned.counted).toBe(st.stressWeightLow);
+    }
+    // the polarised lattice: free bottom has both modes, so the pinned top has both self-stresses
+    const p = edges({ framework: deformed(0.1, -0.1, 0.1), phase: 0.3183, grid: 0, strip: 0 });
+    expect([p.sides.bottom.pinned.selfStresses, p.sides.top.pinned.selfStresses]).toEqual([0, 2]);
+    expect(p.pinnedStrip).toBeNull();
+  });
+
   it('only the phase modulo 1 matters (the strip and the roots at 1.3 and −0.7 match those at 0.3)', () => {
     const fw = deformed(-0.1, 0.1, 0.1);
     const a = edges({ framework: fw, phase: 0.3, along: 'a2', grid: 0, strip: 12 });

@@ -32,6 +32,10 @@ function summary(spec: string, name: string | undefined, r: EdgesResult): string
     const s = r.sides[side];
     const counted = s.counted === null ? '' : `, counted ${s.counted.toFixed(3)} (strip projector weight)`;
     rows.push([`${side} edge`, `predicted ${s.predicted ?? '—'} (from windings ${s.fromWinding ?? '—'})${counted}; ξ = ${list(s.decayLengths)} cells`]);
+    if (s.pinned.index !== null) {
+      const pc = s.pinned.counted === null ? '' : `, counted ${s.pinned.counted.toFixed(3)} (pinned strip)`;
+      rows.push([`  pinned`, `flexes − self-stresses ${s.pinned.index}: ${s.pinned.selfStresses} edge self-stress${s.pinned.selfStresses === 1 ? '' : 'es'}${pc}`]);
+    }
   }
   for (const ax of ['a1', 'a2'] as const) if (r.spectra[ax].note) rows.push([`note (edge along ${ax})`, r.spectra[ax].note as string]);
   const [lo, hi] = r.along === 'a1' ? ['bottom', 'top'] : ['left', 'right'];
@@ -40,6 +44,13 @@ function summary(spec: string, name: string | undefined, r: EdgesResult): string
     rows.push([
       `strip ${st.cells[0]}×${st.cells[1]} (${st.boundary})`,
       `counted ${st.flexes} flexes, ${st.selfStresses} self-stresses; projector weight ${lo} ${st.weightLow.toFixed(3)}, ${hi} ${st.weightHigh.toFixed(3)}${st.certified ? '' : ' (count not certified)'}`,
+    ]);
+  }
+  if (r.pinnedStrip) {
+    const st = r.pinnedStrip;
+    rows.push([
+      `strip ${st.cells[0]}×${st.cells[1]} (${st.boundary})`,
+      `counted ${st.flexes} flexes, ${st.selfStresses} self-stresses; self-stress weight ${lo} ${st.stressWeightLow.toFixed(3)}, ${hi} ${st.stressWeightHigh.toFixed(3)}${st.certified ? '' : ' (count not certified)'}`,
     ]);
   }
   const roots: [string, string][] = r.roots.map((x, i) => [
@@ -98,6 +109,8 @@ function json(spec: string, name: string | undefined, r: EdgesResult): string {
         spectra: { a1: spectrum('a1'), a2: spectrum('a2') },
         grid: r.grid,
         strip: r.strip,
+        pinnedStrip: r.pinnedStrip,
+        crossing: r.crossing,
         unitTolerance: r.unitTolerance,
         caution: CAUTION,
       },
@@ -129,6 +142,9 @@ export const edgesCommand: Command = {
     'n2 a2 depend on the choice of unit cell; the per-edge counts n2 − lo and hi − n2 (lo..hi the powers of det Φ',
     'in z2) do not. The strip is one cell along the edge, twisted at θ, with both sides free: its flexes are',
     'split between the halves by the trace of their projector.',
+    'A pinned edge keeps (grounded) the c bars per cell that cross it (c = Σ|s⊥|), so on it flexes − self-stresses',
+    '= predicted − c; a negative value is the number of edge self-stresses. The same strip with both sides pinned',
+    'counts them, split between the halves by the trace of the self-stress projector over their bars.',
     '',
     ...FRAMEWORK_HELP,
   ],

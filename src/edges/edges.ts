@@ -9,7 +9,8 @@ import { checkFramework } from '../framework/validate.js';
 import { decaySpectrum, DEFAULT_UNIT_TOLERANCE, type DecaySpectrum, type EdgeRoot, type Side } from './spectrum.js';
 import type { EdgeAxis } from './laurent.js';
 import { polarisation, type AxisWinding } from './winding.js';
-import { DEFAULT_STRIP_WIDTH, stripCount, type StripCount } from './strip.js';
+import { DEFAULT_STRIP_WIDTH, pinnedStripCount, stripCount, type PinnedStripCount, type StripCount } from './strip.js';
+import { resolveBars } from '../framework/types.js';
 
 export interface EdgesRequest {
   framework: Framework;
@@ -36,6 +37,23 @@ export interface SideReport {
   decayLengthsInLength: number[];
   /** From the windings: n2 − lo (bottom), hi − n2 (top), n1 − lo (left), hi − n1 (right); null when undefined. */
   fromWinding: number | null;
+  /** The same edge pinned (bars leaving it grounded): see PinnedSide. */
+  pinned: PinnedSide;
+}
+
+/**
+ * A pinned edge keeps the c bars per cell that cross it (c = Σ |s⊥| over the cell's bars), each
+ * grounded: c more constraints than the free edge, so flexes − self-stresses per edge wave
+ * number is `predicted − c` (exact, by counting). When that is negative the edge carries at
+ * least −index self-stresses; generically exactly that many and no flexes.
+ */
+export interface PinnedSide {
+  /** Flexes − self-stresses per edge wave number on this edge when pinned; null when `predicted` is. */
+  index: number | null;
+  /** max(0, −index): the edge self-stresses a pinned edge carries (generic count). */
+  selfStresses: number | null;
+  /** The strip pinned on both sides: its self-stress projector weight on this half; null when not counted. */
+  counted: number | null;
 }
 
 export interface GridRow {
@@ -68,6 +86,10 @@ export interface EdgesResult {
   spectra: { a1: DecaySpectrum; a2: DecaySpectrum };
   grid: GridRow[];
   strip: StripCount | null;
+  /** The same strip with both sides pinned (edge self-stresses), or null when not run. */
+  pinnedStrip: PinnedStripCount | null;
+  /** Bars per cell crossing an edge along a1 (Σ |s2|) and along a2 (Σ |s1|). */
+  crossing: { a1: number; a2: number };
   unitTolerance: number;
 }
 
@@ -94,16 +116,19 @@ function checkRequest(req: EdgesRequest): Problem[] {
   return problems;
 }
 
-function sideReport(s: DecaySpectrum, side: Side, fromWinding: number | null, counted: number | null): SideReport {
+function sideReport(s: DecaySpectrum, side: Side, fromWinding: number | null, counted: number | null, crossing: number, pinnedCounted: number | null): SideReport {
   const mine = s.roots.filter((r) => r.side === side);
   const low = side === 'bottom' || side === 'left';
   const cells = mine.map((r) => r.decayCells as number).sort((a, b) => a - b);
+  const predicted = low ? s.predictedLow : s.predictedHigh;
+  const index = predicted === null ? null : predicted - crossing;
   return {
-    predicted: low ? s.predictedLow : s.predictedHigh,
+    predicted,
     counted,
     decayLengths: cells,
     decayLengthsInLength: cells.map((x) => x * s.rowSpacing),
     fromWinding,
+    pinned: { index, selfStresses: index === null ? null : Math.max(0, -index), counted: pinnedCounted },
   };
 }
 
@@ -122,17 +147,24 @@ export function edges(req: EdgesRequest): EdgesResult {
   const a1 = decaySpectrum(fw, 'a1', theta, opts);
   const a2 = decaySpectrum(fw, 'a2', theta, opts);
   const strip = width > 0 ? stripCount(fw, along, theta, width) : null;
+  const pinnedStrip = width > 0 ? pinnedStripCount(fw, along, theta, width) : null;
   const cnt = (ax: EdgeAxis, low: boolean) => (strip && ax === along ? (low ? strip.weightLow : strip.weightHigh) : null);
+  const pcnt = (ax: EdgeAxis, low: boolean) => (pinnedStrip && ax === along ? (low ? pinnedStrip.stressWeightLow : pinnedStrip.stressWeightHigh) : null);
+  const crossing = { a1: 0, a2: 0 };
+  for (const b of resolveBars(fw)) {
+    crossing.a1 += Math.abs(b.shift[1]);
+    crossing.a2 += Math.abs(b.shift[0]);
+  }
   const pol = polarisation(fw);
   const n1 = pol.byAxis[0].value;
   const n2 = pol.byAxis[1].value;
   const fromW = (s: DecaySpectrum, w: number | null, low: boolean): number | null =>
     w === null || s.span === null ? null : low ? w - s.span[0] : s.span[1] - w;
   const sides: Record<Side, SideReport> = {
-    bottom: sideReport(a1, 'bottom', fromW(a1, n2, true), cnt('a1', true)),
-    top: sideReport(a1, 'top', fromW(a1, n2, false), cnt('a1', false)),
-    left: sideReport(a2, 'left', fromW(a2, n1, true), cnt('a2', true)),
-    right: sideReport(a2, 'right', fromW(a2, n1, false), cnt('a2', false)),
+    bottom: sideReport(a1, 'bottom', fromW(a1, n2, true), cnt('a1', true), crossing.a1, pcnt('a1', true)),
+    top: sideReport(a1, 'top', fromW(a1, n2, false), cnt('a1', false), crossing.a1, pcnt('a1', false)),
+    left: sideReport(a2, 'left', fromW(a2, n1, true), cnt('a2', true), crossing.a2, pcnt('a2', true)),
+    right: sideReport(a2, 'right', fromW(a2, n1, false), cnt('a2', false), crossing.a2, pcnt('a2', false)),
   };
   const main = along === 'a1' ? a1 : a2;
   const [lowSide, highSide] = along === 'a1' ? (['bottom', 'top'] as const) : (['left', 'right'] as const);
@@ -158,6 +190,8 @@ export function edges(req: EdgesRequest): EdgesResult {
     spectra: { a1, a2 },
     grid: table,
     strip,
+    pinnedStrip,
+    crossing,
     unitTolerance,
   };
 }
