@@ -377,6 +377,28 @@ describe('strips as an independent count of modes per side', () => {
     expect(p.pinnedStrip).toBeNull();
   });
 
+  it('a free 2D sample counts per side what the symbol predicts, up to a deviation that does not grow with N (Sun, Souslov, Mao & Lubensky, PNAS 109, 12369 (2012): one surface mode per edge per wave number)', () => {
+    const fw = twisted(20);
+    for (const N of [8, 14]) {
+      const r = edges({ framework: fw, phase: 0.25, grid: 0, strip: 0, cells: [N, N] });
+      expect(r.sample!.certified).toBe(true);
+      let total = 0;
+      for (const side of ['bottom', 'top', 'left', 'right'] as const) {
+        const f = r.sides[side].finite!;
+        expect(f.length).toBe(N);
+        expect(f.expected).toBe(N - 1); // one mode per wave number k/N, k = 1 … N − 1
+        expect(Math.abs(f.deviation!)).toBeLessThan(1);
+        total += f.weight;
+      }
+      // the side weights share out the non-trivial flexes exactly
+      expect(total).toBeCloseTo(r.sample!.flexes - r.sample!.trivial, 8);
+      // reference note §4: a free L×L twisted kagome has 2(L + L) − 1 flexes
+      expect(r.sample!.flexes).toBe(4 * N - 1);
+    }
+    expect(edges({ framework: fw, grid: 0, strip: 0 }).sides.top.finite).toBeNull();
+    expect(() => edges({ framework: fw, grid: 0, strip: 0, cells: [0, 4] })).toThrow(/cells/);
+  });
+
   it('only the phase modulo 1 matters (the strip and the roots at 1.3 and −0.7 match those at 0.3)', () => {
     const fw = deformed(-0.1, 0.1, 0.1);
     const a = edges({ framework: fw, phase: 0.3, along: 'a2', grid: 0, strip: 12 });

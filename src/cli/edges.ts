@@ -10,7 +10,7 @@ import { DEFAULT_EDGE_GRID, DEFAULT_EDGE_PHASE, edges, MAX_EDGE_GRID, MAX_STRIP_
 import { DEFAULT_STRIP_WIDTH } from '../edges/strip.js';
 import type { EdgeAxis } from '../edges/laurent.js';
 import type { Side } from '../edges/spectrum.js';
-import { parseNumberFlag } from './args.js';
+import { parseCells, parseNumberFlag } from './args.js';
 import type { Command } from './command.js';
 import { fmt, FRAMEWORK_HELP, frameworkArg, safeJson, safeText, table, titleOf } from './common.js';
 
@@ -35,6 +35,13 @@ function summary(spec: string, name: string | undefined, r: EdgesResult): string
     if (s.pinned.index !== null) {
       const pc = s.pinned.counted === null ? '' : `, counted ${s.pinned.counted.toFixed(3)} (pinned strip)`;
       rows.push([`  pinned`, `flexes − self-stresses ${s.pinned.index}: ${s.pinned.selfStresses} edge self-stress${s.pinned.selfStresses === 1 ? '' : 'es'}${pc}`]);
+    }
+    if (s.finite) {
+      const f = s.finite;
+      rows.push([
+        `  free sample`,
+        `side weight ${f.weight.toFixed(3)} against ${f.expected ?? '—'} predicted over its ${f.length - 1} edge wave numbers k/${f.length}, k ≠ 0${f.deviation === null ? '' : ` (deviation ${f.deviation >= 0 ? '+' : ''}${f.deviation.toFixed(3)})`}`,
+      ]);
     }
   }
   for (const ax of ['a1', 'a2'] as const) if (r.spectra[ax].note) rows.push([`note (edge along ${ax})`, r.spectra[ax].note as string]);
@@ -111,6 +118,7 @@ function json(spec: string, name: string | undefined, r: EdgesResult): string {
         strip: r.strip,
         pinnedStrip: r.pinnedStrip,
         crossing: r.crossing,
+        sample: r.sample,
         unitTolerance: r.unitTolerance,
         caution: CAUTION,
       },
@@ -123,12 +131,13 @@ function json(spec: string, name: string | undefined, r: EdgesResult): string {
 export const edgesCommand: Command = {
   name: 'edges',
   summary: 'Edge modes from the unit-cell symbol: decay lengths (roots of det Φ), winding numbers, polarisation and predicted zero modes per free edge.',
-  usage: `shimmy edges FRAMEWORK [--phase ${DEFAULT_EDGE_PHASE}] [--along a1|a2] [--grid ${DEFAULT_EDGE_GRID}] [--strip ${DEFAULT_STRIP_WIDTH}] [--json]`,
+  usage: `shimmy edges FRAMEWORK [--phase ${DEFAULT_EDGE_PHASE}] [--along a1|a2] [--grid ${DEFAULT_EDGE_GRID}] [--strip ${DEFAULT_STRIP_WIDTH}] [--cells N1xN2] [--json]`,
   flags: [
     { name: '--phase', value: 'θ', help: 'edge phase in turns along the edge (the edge wave number k = 2πθ per cell)', default: String(DEFAULT_EDGE_PHASE) },
     { name: '--along', value: 'a1|a2', help: 'edge direction for the roots, the ξ(θ) table and the strip: a1 (bottom/top edges) or a2 (left/right)', default: 'a1' },
     { name: '--grid', value: 'K', help: `edge phases k/K for the ξ(θ) table (0 to ${MAX_EDGE_GRID}; 0 for none)`, default: String(DEFAULT_EDGE_GRID) },
     { name: '--strip', value: 'W', help: `width of the strip count in cells (4 to ${MAX_STRIP_WIDTH}; 0 for none)`, default: String(DEFAULT_STRIP_WIDTH) },
+    { name: '--cells', value: 'N1xN2', help: 'also count a free sample of this size: side weights against the predictions (default: none)' },
     { name: '--json', help: 'print one JSON object: winding, sides, roots, spectra, grid, strip' },
     { name: '--help', help: 'show this help' },
   ],
@@ -145,6 +154,9 @@ export const edgesCommand: Command = {
     'A pinned edge keeps (grounded) the c bars per cell that cross it (c = Σ|s⊥|), so on it flexes − self-stresses',
     '= predicted − c; a negative value is the number of edge self-stresses. The same strip with both sides pinned',
     'counts them, split between the halves by the trace of the self-stress projector over their bars.',
+    'With --cells N1xN2 a free sample of that size is counted too: each side\'s weight (the trace of the non-trivial',
+    'flex projector over the cells nearest it) is printed against the prediction summed over the edge wave numbers',
+    'k/N, k = 1 … N − 1, that the side holds, with the difference (corners and θ = 0 make it O(1)).',
     '',
     ...FRAMEWORK_HELP,
   ],
@@ -154,6 +166,8 @@ export const edgesCommand: Command = {
     const alongText = (args.flags.get('--along') as string | undefined) ?? 'a1';
     const gridText = args.flags.get('--grid') as string | undefined;
     const stripText = args.flags.get('--strip') as string | undefined;
+    const cellsText = args.flags.get('--cells') as string | undefined;
+    const cells = cellsText === undefined ? undefined : parseCells(cellsText);
     const phase = phaseText === undefined ? DEFAULT_EDGE_PHASE : parseNumberFlag(phaseText, '--phase', () => true, 'a finite number of turns, e.g. 0.25');
     if (alongText !== 'a1' && alongText !== 'a2') {
       throw new InputError(`The value of --along cannot be used:`, [
@@ -166,7 +180,7 @@ export const edgesCommand: Command = {
         ? DEFAULT_STRIP_WIDTH
         : parseNumberFlag(stripText, '--strip', (v) => Number.isInteger(v) && (v === 0 || (v >= 4 && v <= MAX_STRIP_WIDTH)), `0 or a whole number from 4 to ${MAX_STRIP_WIDTH}, e.g. 40`);
     const framework = loadFramework(spec, io.readText);
-    const r = edges({ framework, phase, along: alongText, grid, strip });
+    const r = edges({ framework, phase, along: alongText, grid, strip, cells });
     if (args.flags.has('--json')) io.out(safeJson(json(spec, framework.name, r)));
     else io.out(summary(spec, framework.name, r));
     return 0;

@@ -11,6 +11,9 @@ import type { EdgeAxis } from './laurent.js';
 import { polarisation, type AxisWinding } from './winding.js';
 import { DEFAULT_STRIP_WIDTH, pinnedStripCount, stripCount, type PinnedStripCount, type StripCount } from './strip.js';
 import { resolveBars } from '../framework/types.js';
+import { count } from '../analysis.js';
+import { sideWeights } from '../flex/side-weights.js';
+import { checkCells } from '../supercell/supercell.js';
 
 export interface EdgesRequest {
   framework: Framework;
@@ -24,6 +27,8 @@ export interface EdgesRequest {
   strip?: number;
   /** ||z| − 1| at or below this is a bulk root (default 1e-6). */
   unitTolerance?: number;
+  /** A free N1×N2 sample whose side weights are counted beside the predictions (default: none). */
+  cells?: [number, number];
 }
 
 export interface SideReport {
@@ -39,6 +44,26 @@ export interface SideReport {
   fromWinding: number | null;
   /** The same edge pinned (bars leaving it grounded): see PinnedSide. */
   pinned: PinnedSide;
+  /** The free N1×N2 sample's count on this side (null when no `cells` were given): see FiniteSide. */
+  finite: FiniteSide | null;
+}
+
+/**
+ * Counted in a finite free sample: the side weight (trace of the non-trivial flex projector over
+ * the cells nearest this side, src/flex/side-weights.ts), against the prediction summed over
+ * the N − 1 edge wave numbers k/N, k = 1 … N − 1, that a side of N cells holds (θ = 0 is left
+ * out: its bulk roots are the rigid motions). The deviation is what corners, θ = 0 and decay
+ * lengths comparable to the sample add or take away; it stays O(1) as N grows when the
+ * prediction holds.
+ */
+export interface FiniteSide {
+  weight: number;
+  /** Σ_{k=1}^{N−1} predicted(k/N); null when any of them is undefined. */
+  expected: number | null;
+  /** weight − expected. */
+  deviation: number | null;
+  /** Cells along this side. */
+  length: number;
 }
 
 /**
@@ -90,6 +115,8 @@ export interface EdgesResult {
   pinnedStrip: PinnedStripCount | null;
   /** Bars per cell crossing an edge along a1 (Σ |s2|) and along a2 (Σ |s1|). */
   crossing: { a1: number; a2: number };
+  /** The free sample counted per side, or null (see FiniteSide). */
+  sample: { cells: [number, number]; flexes: number; trivial: number; certified: boolean } | null;
   unitTolerance: number;
 }
 
@@ -113,10 +140,18 @@ function checkRequest(req: EdgesRequest): Problem[] {
     problems.push({ where: 'strip', what: `${String(req.strip)} is not 0 or a whole number from 4 to ${MAX_STRIP_WIDTH}`, fix: 'give the strip width in cells, e.g. 40 (0 for no strip count)' });
   if (req.unitTolerance !== undefined && !(typeof req.unitTolerance === 'number' && req.unitTolerance > 0 && req.unitTolerance <= 0.1))
     problems.push({ where: 'unitTolerance', what: `${String(req.unitTolerance)} is not a number in (0, 0.1]`, fix: 'give a small tolerance on ||z| − 1|, e.g. 1e-6' });
+  if (req.cells !== undefined) {
+    try {
+      checkCells(req.cells, 'cells');
+    } catch (e) {
+      if (e instanceof InputError) problems.push(...e.problems);
+      else throw e;
+    }
+  }
   return problems;
 }
 
-function sideReport(s: DecaySpectrum, side: Side, fromWinding: number | null, counted: number | null, crossing: number, pinnedCounted: number | null): SideReport {
+function sideReport(s: DecaySpectrum, side: Side, fromWinding: number | null, counted: number | null, crossing: number, pinnedCounted: number | null, finite: FiniteSide | null): SideReport {
   const mine = s.roots.filter((r) => r.side === side);
   const low = side === 'bottom' || side === 'left';
   const cells = mine.map((r) => r.decayCells as number).sort((a, b) => a - b);
@@ -129,6 +164,7 @@ function sideReport(s: DecaySpectrum, side: Side, fromWinding: number | null, co
     decayLengthsInLength: cells.map((x) => x * s.rowSpacing),
     fromWinding,
     pinned: { index, selfStresses: index === null ? null : Math.max(0, -index), counted: pinnedCounted },
+    finite,
   };
 }
 
@@ -160,11 +196,33 @@ export function edges(req: EdgesRequest): EdgesResult {
   const n2 = pol.byAxis[1].value;
   const fromW = (s: DecaySpectrum, w: number | null, low: boolean): number | null =>
     w === null || s.span === null ? null : low ? w - s.span[0] : s.span[1] - w;
+  let sample: EdgesResult['sample'] = null;
+  const finite: Record<Side, FiniteSide | null> = { bottom: null, top: null, left: null, right: null };
+  if (req.cells) {
+    const { supercell, analysis } = count({ framework: fw, cells: req.cells, boundary: 'free' });
+    const w = sideWeights(supercell, analysis);
+    sample = { cells: req.cells, flexes: analysis.flexes, trivial: analysis.trivialFlexes, certified: analysis.status.certified };
+    for (const [side, axis, N] of [
+      ['bottom', 'a1', req.cells[0]],
+      ['top', 'a1', req.cells[0]],
+      ['left', 'a2', req.cells[1]],
+      ['right', 'a2', req.cells[1]],
+    ] as const) {
+      let expected: number | null = 0;
+      for (let k = 1; k < N && expected !== null; k++) {
+        const sp = decaySpectrum(fw, axis, k / N, opts);
+        const v = side === 'bottom' || side === 'left' ? sp.predictedLow : sp.predictedHigh;
+        expected = v === null ? null : expected + v;
+      }
+      const weight = w[side] as number;
+      finite[side] = { weight, expected, deviation: expected === null ? null : weight - expected, length: N };
+    }
+  }
   const sides: Record<Side, SideReport> = {
-    bottom: sideReport(a1, 'bottom', fromW(a1, n2, true), cnt('a1', true), crossing.a1, pcnt('a1', true)),
-    top: sideReport(a1, 'top', fromW(a1, n2, false), cnt('a1', false), crossing.a1, pcnt('a1', false)),
-    left: sideReport(a2, 'left', fromW(a2, n1, true), cnt('a2', true), crossing.a2, pcnt('a2', true)),
-    right: sideReport(a2, 'right', fromW(a2, n1, false), cnt('a2', false), crossing.a2, pcnt('a2', false)),
+    bottom: sideReport(a1, 'bottom', fromW(a1, n2, true), cnt('a1', true), crossing.a1, pcnt('a1', true), finite.bottom),
+    top: sideReport(a1, 'top', fromW(a1, n2, false), cnt('a1', false), crossing.a1, pcnt('a1', false), finite.top),
+    left: sideReport(a2, 'left', fromW(a2, n1, true), cnt('a2', true), crossing.a2, pcnt('a2', true), finite.left),
+    right: sideReport(a2, 'right', fromW(a2, n1, false), cnt('a2', false), crossing.a2, pcnt('a2', false), finite.right),
   };
   const main = along === 'a1' ? a1 : a2;
   const [lowSide, highSide] = along === 'a1' ? (['bottom', 'top'] as const) : (['left', 'right'] as const);
@@ -192,6 +250,7 @@ export function edges(req: EdgesRequest): EdgesResult {
     strip,
     pinnedStrip,
     crossing,
+    sample,
     unitTolerance,
   };
 }
