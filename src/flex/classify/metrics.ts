@@ -1,0 +1,240 @@
+/**
+ * Metrics of one vector: the geometry of the joints, joint weights, support, extents and
+ * participation, and the anchor fits that decide decaying or bulk.
+ */
+import type { Supercell } from '../../supercell/supercell.js';
+import type { Anchor } from '../classes.js';
+import { axesOf, type Axes } from './regions.js';
+import { FIT_FLOOR, HEAD_WEIGHT, MIN_R2, SUPPORT_AMPLITUDE } from './thresholds.js';
+
+export interface Geometry {
+  ax: Axes;
+  /** Fractional (cell) coordinates of each joint, 2 per joint. */
+  frac: Float64Array;
+  jointCell: Int32Array;
+  sc: Supercell;
+}
+
+export function geometryOf(sc: Supercell): Geometry {
+  const [a1, a2] = sc.framework.lattice;
+  const detL = a1[0] * a2[1] - a1[1] * a2[0];
+  const J = sc.jointCount;
+  const frac = new Float64Array(2 * J);
+  const jointCell = new Int32Array(J);
+  for (let k = 0; k < J; k++) {
+    const x = sc.positions[2 * k];
+    const y = sc.positions[2 * k + 1];
+    frac[2 * k] = (x * a2[1] - y * a2[0]) / detL;
+    frac[2 * k + 1] = (a1[0] * y - a1[1] * x) / detL;
+    jointCell[k] = sc.jointCells[2 * k + 1] * sc.cells[0] + sc.jointCells[2 * k];
+  }
+  return { ax: axesOf(sc), frac, jointCell, sc };
+}
+
+export function jointWeights(v: { re: Float64Array; im: Float64Array }, J: number): Float64Array {
+  const w = new Float64Array(J);
+  for (let k = 0; k < J; k++) w[k] = v.re[2 * k] ** 2 + v.re[2 * k + 1] ** 2 + v.im[2 * k] ** 2 + v.im[2 * k + 1] ** 2;
+  return w;
+}
+
+interface BasicMetrics {
+  support: number;
+  extents: [number, number];
+  participation: number;
+}
+
+export function basicMetrics(geo: Geometry, w: Float64Array): BasicMetrics {
+  const J = w.length;
+  let total = 0;
+  let sq = 0;
+  let wmax = 0;
+  for (let k = 0; k < J; k++) {
+    total += w[k];
+    sq += w[k] * w[k];
+    wmax = Math.max(wmax, w[k]);
+  }
+  const cut = SUPPORT_AMPLITUDE ** 2 * wmax;
+  const pts: [number, number][] = [];
+  for (let k = 0; k < J; k++) if (w[k] >= cut && w[k] > 0) pts.push([geo.frac[2 * k], geo.frac[2 * k + 1]]);
+  let extents: [number, number] = [0, 0];
+  if (pts.length) {
+    const mx = pts.reduce((s, p) => s + p[0], 0) / pts.length;
+    const my = pts.reduce((s, p) => s + p[1], 0) / pts.length;
+    let sxx = 0;
+    let sxy = 0;
+    let syy = 0;
+    for (const [x, y] of pts) {
+      sxx += (x - mx) ** 2;
+      sxy += (x - mx) * (y - my);
+      syy += (y - my) ** 2;
+    }
+    const ang = 0.5 * Math.atan2(2 * sxy, sxx - syy);
+    const u: [number, number] = [Math.cos(ang), Math.sin(ang)];
+    const v: [number, number] = [-u[1], u[0]];
+    const range = (dir: [number, number]) => {
+      let lo = Infinity;
+      let hi = -Infinity;
+      for (const [x, y] of pts) {
+        const t = x * dir[0] + y * dir[1];
+        lo = Math.min(lo, t);
+        hi = Math.max(hi, t);
+      }
+      return hi - lo + 1;
+    };
+    const e1 = range(u);
+    const e2 = range(v);
+    extents = e1 >= e2 ? [e1, e2] : [e2, e1];
+  }
+  return { support: pts.length, extents, participation: total > 0 ? (total * total) / (J * sq) : 0 };
+}
+
+interface AnchorFit {
+  anchor: Anchor;
+  rings: number;
+  head: number;
+  headWeight: number;
+  xi: number;
+  r2: number;
+  meanDistance: number;
+  pass: boolean;
+}
+
+function cartesian(sc: Supercell, f1: number, f2: number): [number, number] {
+  const [a1, a2] = sc.framework.lattice;
+  return [f1 * a1[0] + f2 * a2[0] + 0, f1 * a1[1] + f2 * a2[1] + 0];
+}
+
+/** Weighted least-squares line through (x, y) with weights w; returns slope and weighted R². */
+function fitLine(xs: number[], ys: number[], ws: number[]): { slope: number; r2: number } {
+  const W = ws.reduce((a, b) => a + b, 0);
+  const mx = xs.reduce((a, x, t) => a + ws[t] * x, 0) / W;
+  const my = ys.reduce((a, y, t) => a + ws[t] * y, 0) / W;
+  let sxx = 0;
+  let sxy = 0;
+  let syy = 0;
+  for (let t = 0; t < xs.length; t++) {
+    sxx += ws[t] * (xs[t] - mx) ** 2;
+    sxy += ws[t] * (xs[t] - mx) * (ys[t] - my);
+    syy += ws[t] * (ys[t] - my) ** 2;
+  }
+  const slope = sxx > 0 ? sxy / sxx : 0;
+  const r2 = syy > 0 && sxx > 0 ? (sxy * sxy) / (sxx * syy) : 1;
+  return { slope, r2 };
+}
+
+function fitAnchor(geo: Geometry, w: Float64Array, anchor: Anchor, dist: (cell: number) => number): AnchorFit {
+  const J = w.length;
+  const ringW: number[] = [];
+  const ringN: number[] = [];
+  let total = 0;
+  let first = 0;
+  for (let k = 0; k < J; k++) {
+    const r = dist(geo.jointCell[k]);
+    while (ringW.length <= r) {
+      ringW.push(0);
+      ringN.push(0);
+    }
+    ringW[r] += w[k];
+    ringN[r]++;
+    total += w[k];
+    first += r * w[k];
+  }
+  const rings = ringW.length;
+  const head = Math.max(1, Math.floor(rings / 4));
+  let hw = 0;
+  for (let r = 0; r <= Math.min(head, rings - 1); r++) hw += ringW[r];
+  hw /= total || 1;
+  const amp = ringW.map((x, r) => (ringN[r] ? Math.sqrt(x / ringN[r]) : 0));
+  const amax = Math.max(...amp);
+  const xs: number[] = [];
+  const ys: number[] = [];
+  const ws: number[] = [];
+  amp.forEach((a, r) => {
+    if (ringN[r] && a > FIT_FLOOR * amax) {
+      xs.push(r);
+      ys.push(Math.log(a));
+      ws.push(ringW[r]);
+    }
+  });
+  let xi = Infinity;
+  let r2 = 0;
+  if (xs.length >= 2) {
+    const fit = fitLine(xs, ys, ws);
+    r2 = fit.r2;
+    xi = fit.slope < 0 ? -1 / fit.slope : Infinity;
+  }
+  const pass = rings >= 2 && hw >= HEAD_WEIGHT && Number.isFinite(xi) && r2 >= MIN_R2;
+  return { anchor, rings, head, headWeight: hw, xi, r2, meanDistance: first / (total || 1), pass };
+}
+
+/** Corner, side and point anchors the boundary offers, with their cell distances. */
+function anchorCandidates(geo: Geometry, w: Float64Array): { corners: AnchorFit[]; sides: AnchorFit[]; point: AnchorFit } {
+  const { ax, sc } = geo;
+  const { N1, N2 } = ax;
+  const ci = (c: number) => c % N1;
+  const cj = (c: number) => Math.floor(c / N1);
+  // the joint of largest weight (ties: the first)
+  let kmax = 0;
+  for (let k = 1; k < w.length; k++) if (w[k] > w[kmax]) kmax = k;
+  const f1 = geo.frac[2 * kmax];
+  const f2 = geo.frac[2 * kmax + 1];
+  const sides: AnchorFit[] = [];
+  const corners: AnchorFit[] = [];
+  const sideDefs: { name: string; dist: (c: number) => number; at: [number, number] }[] = [];
+  if (!ax.px) {
+    sideDefs.push({ name: 'left', dist: (c) => ci(c), at: cartesian(sc, 0, f2) });
+    sideDefs.push({ name: 'right', dist: (c) => N1 - 1 - ci(c), at: cartesian(sc, N1, f2) });
+  }
+  if (!ax.py) {
+    sideDefs.push({ name: 'bottom', dist: (c) => cj(c), at: cartesian(sc, f1, 0) });
+    sideDefs.push({ name: 'top', dist: (c) => N2 - 1 - cj(c), at: cartesian(sc, f1, N2) });
+  }
+  for (const s of sideDefs) sides.push(fitAnchor(geo, w, { kind: 'side', name: s.name, at: s.at }, s.dist));
+  if (!ax.px && !ax.py) {
+    for (const [v, h] of [
+      ['bottom', 'left'],
+      ['bottom', 'right'],
+      ['top', 'left'],
+      ['top', 'right'],
+    ] as const) {
+      const di = (c: number) => (h === 'left' ? ci(c) : N1 - 1 - ci(c));
+      const dj = (c: number) => (v === 'bottom' ? cj(c) : N2 - 1 - cj(c));
+      const at = cartesian(sc, h === 'left' ? 0 : N1, v === 'bottom' ? 0 : N2);
+      corners.push(fitAnchor(geo, w, { kind: 'corner', name: `${v}-${h}`, at }, (c) => Math.max(di(c), dj(c))));
+    }
+  }
+  // point: the cell of largest total weight
+  const cellW = new Float64Array(N1 * N2);
+  for (let k = 0; k < w.length; k++) cellW[geo.jointCell[k]] += w[k];
+  let cmax = 0;
+  for (let c = 1; c < cellW.length; c++) if (cellW[c] > cellW[cmax]) cmax = c;
+  const i0 = ci(cmax);
+  const j0 = cj(cmax);
+  const wrapDist = (a: number, b: number, N: number, periodic: boolean) => {
+    const d = Math.abs(a - b);
+    return periodic ? Math.min(d, N - d) : d;
+  };
+  let px = 0;
+  let py = 0;
+  let pw = 0;
+  for (let k = 0; k < w.length; k++)
+    if (geo.jointCell[k] === cmax) {
+      px += w[k] * sc.positions[2 * k];
+      py += w[k] * sc.positions[2 * k + 1];
+      pw += w[k];
+    }
+  const point = fitAnchor(
+    geo,
+    w,
+    { kind: 'point', name: 'interior', at: [px / (pw || 1), py / (pw || 1)] },
+    (c) => Math.max(wrapDist(ci(c), i0, N1, ax.px), wrapDist(cj(c), j0, N2, ax.py)),
+  );
+  return { corners, sides, point };
+}
+
+/** Decaying or bulk for one localised vector of the rest. */
+export function decayOf(geo: Geometry, w: Float64Array): AnchorFit | null {
+  const { corners, sides, point } = anchorCandidates(geo, w);
+  const best = (fits: AnchorFit[]) => fits.filter((f) => f.pass).sort((a, b) => a.meanDistance - b.meanDistance)[0];
+  return best(corners) ?? best(sides) ?? (point.pass ? point : null);
+}

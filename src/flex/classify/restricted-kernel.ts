@@ -1,0 +1,296 @@
+/**
+ * The restricted solve: the flexes supported on a set of joints (`restrictedKernel`), the rank
+ * rule for candidate vectors (`certify`), and the cache of kernels already solved.
+ */
+import { Matrix, SingularValueDecomposition } from 'ml-matrix';
+import { cnorm as norm } from '../../linalg/complex.js';
+import { nullSpace, singularValues } from '../../linalg/dense.js';
+import type { SparseMatrix } from '../../linalg/sparse.js';
+import { sparseSpaces } from '../solve-sparse.js';
+import type { Ctx, RestrictedMethod } from './context.js';
+import { combine, scaleInPlace, subtractProjection, type Block } from './cvec-ops.js';
+import { projectOntoNullSpace, psdNullSpace } from './null-space.js';
+
+/**
+ * The rows of R touching `joints`, restricted to those joints' columns (x, y per joint, in
+ * the order given). Entries at other joints are left out: those joints do not move.
+ */
+export function restrictedMatrix(R: SparseMatrix, rowsOfJoint: Int32Array[], joints: number[]): { matrix: SparseMatrix; dofs: Int32Array } {
+  const colOf = new Map<number, number>();
+  const dofs = new Int32Array(2 * joints.length);
+  joints.forEach((j, t) => {
+    colOf.set(2 * j, 2 * t);
+    colOf.set(2 * j + 1, 2 * t + 1);
+    dofs[2 * t] = 2 * j;
+    dofs[2 * t + 1] = 2 * j + 1;
+  });
+  const rowSet = new Set<number>();
+  for (const j of joints) for (const r of rowsOfJoint[j]) rowSet.add(r);
+  const rows = [...rowSet].sort((a, b) => a - b);
+  const rowPtr = new Int32Array(rows.length + 1);
+  const colIdx: number[] = [];
+  const re: number[] = [];
+  const im: number[] = [];
+  rows.forEach((r, t) => {
+    const entries: [number, number, number][] = [];
+    for (let k = R.rowPtr[r]; k < R.rowPtr[r + 1]; k++) {
+      const c = colOf.get(R.colIdx[k]);
+      if (c !== undefined) entries.push([c, R.re[k], R.im ? R.im[k] : 0]);
+    }
+    entries.sort((a, b) => a[0] - b[0]);
+    for (const [c, vr, vi] of entries) {
+      colIdx.push(c);
+      re.push(vr);
+      im.push(vi);
+    }
+    rowPtr[t + 1] = colIdx.length;
+  });
+  return {
+    matrix: { rows: rows.length, cols: dofs.length, rowPtr, colIdx: Int32Array.from(colIdx), re: Float64Array.from(re), im: R.im ? Float64Array.from(im) : null },
+    dofs,
+  };
+}
+
+/**
+ * The rank rule applied to candidate vectors supported on `dofs` (orthonormalised first): the
+ * directions x of their span with ‖R x‖ ≤ the global absolute tolerance, from the singular
+ * values of R·X (rows touching the dofs), computed directly. Returns orthonormal vectors.
+ */
+export function certify(ctx: Ctx, dofs: Int32Array, raw: { re: Float64Array; im: Float64Array }[]): { re: Float64Array; im: Float64Array }[] {
+  const cand: { re: Float64Array; im: Float64Array }[] = [];
+  for (const x of raw) {
+    const v = { re: Float64Array.from(x.re), im: Float64Array.from(x.im) };
+    for (let pass = 0; pass < 2; pass++) for (const u of cand) subtractProjection(v, u);
+    const nv = norm(v);
+    if (nv <= 1e-3 * norm(x)) continue;
+    scaleInPlace(v, 1 / nv);
+    cand.push(v);
+  }
+  const k = cand.length;
+  if (k === 0) return [];
+  const R = ctx.R;
+  const where = new Map<number, number>();
+  dofs.forEach((d, t) => where.set(d, t));
+  const rowSet = new Set<number>();
+  for (let t = 0; t < dofs.length; t += 2) for (const r of ctx.rowsOfJoint[dofs[t] >> 1]) rowSet.add(r);
+  const rows = [...rowSet];
+  const cplx = R.im !== null || cand.some((v) => v.im.some((x) => x !== 0));
+  const f = cplx ? 2 : 1;
+  const Y = new Matrix(Math.max(f * rows.length, f * k), f * k);
+  rows.forEach((r, i) => {
+    for (let b = 0; b < k; b++) {
+      let sr = 0;
+      let si = 0;
+      for (let e = R.rowPtr[r]; e < R.rowPtr[r + 1]; e++) {
+        const t = where.get(R.colIdx[e]);
+        if (t === undefined) continue;
+        const ar = R.re[e];
+        const ai = R.im ? R.im[e] : 0;
+        sr += ar * cand[b].re[t] - ai * cand[b].im[t];
+        si += ar * cand[b].im[t] + ai * cand[b].re[t];
+      }
+      Y.set(i, b, sr);
+      if (cplx) {
+        // embedding of the complex column (re; im) and its partner (−im; re)
+        Y.set(i + rows.length, b, si);
+        Y.set(i, b + k, -si);
+        Y.set(i + rows.length, b + k, sr);
+      }
+    }
+  });
+  const svd = new SingularValueDecomposition(Y, { computeLeftSingularVectors: false, computeRightSingularVectors: true });
+  const sig = svd.diagonal;
+  const V = svd.rightSingularVectors;
+  const out: { re: Float64Array; im: Float64Array }[] = [];
+  for (let c = 0; c < f * k; c++) {
+    if (!(sig[c] <= ctx.absTol)) continue;
+    const col = V.getColumn(c);
+    const y = cplx ? { re: Float64Array.from(col.slice(0, k)), im: Float64Array.from(col.slice(k)) } : { re: Float64Array.from(col), im: new Float64Array(k) };
+    const v = combine(cand, y);
+    for (let pass = 0; pass < 2; pass++) for (const u of out) subtractProjection(v, u);
+    const nv = norm(v);
+    if (nv < 0.5) continue; // the embedded partner of a vector already taken
+    scaleInPlace(v, 1 / nv);
+    out.push(v);
+  }
+  return out;
+}
+
+/**
+ * THE RESTRICTED SOLVE. Orthonormal basis of the flexes supported on `joints`:
+ *  - 'restricted-svd': the null space of the restricted matrix (dense SVD, src/linalg/dense.ts),
+ *    σ ≤ the global absolute tolerance counting as zero;
+ *  - 'kernel-intersection': {x ∈ ker R : x = 0 outside the joints}, from the global flex basis Φ:
+ *    candidates Φy with ‖Φ_outside y‖ ≤ SPAN_TOLERANCE (the null space of Φ_outsideᴴΦ_outside =
+ *    I − Φ_SᴴΦ_S by pivoted Cholesky), cut to the joints and kept by the rank rule
+ *    (`certify`: ‖R x‖ ≤ the global absolute tolerance).
+ *  - 'restricted-sparse': the same null space by the banded sparse solver
+ *    (src/flex/solve-sparse.ts), for regions of SPARSE_MIN_COLUMNS columns or more.
+ * 'auto' takes the kernel intersection when an operation count says it is cheaper, else the
+ * sparse solver for large regions and the dense SVD for small ones.
+ */
+export function restrictedKernel(ctx: Ctx, joints: number[]): Block {
+  const nCols = 2 * joints.length;
+  let method: RestrictedMethod;
+  if (ctx.method !== 'auto') method = ctx.method;
+  else {
+    const f = ctx.analysisFlexes;
+    const c = ctx.complex ? 8 : 1;
+    const rowsEstimate = nCols * 1.3;
+    const svdCost = c * (4 * rowsEstimate * nCols * nCols + 8 * nCols ** 3);
+    const gramCost = (ctx.complex ? 4 : 1) * (0.5 * nCols * f * f + f ** 3);
+    // the intersection needs the global flex basis: worth computing for it only when small
+    const basisAtHand = ctx.basisReady() || ctx.n <= KERNEL_INTERSECTION_MAX_COLUMNS;
+    method = gramCost < svdCost && basisAtHand ? 'kernel-intersection' : nCols >= SPARSE_MIN_COLUMNS ? 'restricted-sparse' : 'restricted-svd';
+  }
+  ctx.used[method]++;
+  if (method === 'kernel-intersection') return kernelIntersection(ctx, joints);
+  const { matrix, dofs } = restrictedMatrix(ctx.R, ctx.rowsOfJoint, joints);
+  // translated regions away from the sides have identical restricted matrices: solve once
+  const key = KernelCache.key(method, matrix);
+  const known = ctx.kernels.get(key);
+  if (known) return { dofs, vectors: known };
+  let vectors: { re: Float64Array; im: Float64Array }[];
+  if (method === 'restricted-sparse') vectors = sparseRestrictedKernel(matrix, ctx);
+  else {
+    const sigma = singularValues(matrix);
+    let rank = 0;
+    for (const s of sigma) if (s > ctx.absTol) rank++;
+    const dim = nCols - rank;
+    vectors = dim === 0 ? [] : nullSpace(matrix, dim).vectors.map((v) => ({ re: v.re, im: v.im }));
+  }
+  ctx.kernels.set(key, vectors);
+  return { dofs, vectors };
+}
+
+/**
+ * The kernel intersection: {x ∈ ker R : x = 0 outside the joints} from the global flex basis Φ
+ * (see restrictedKernel).
+ */
+function kernelIntersection(ctx: Ctx, joints: number[]): Block {
+  const nCols = 2 * joints.length;
+  const phi = ctx.flexBasis();
+  const f = phi.length;
+  const dofs = new Int32Array(nCols);
+  joints.forEach((j, t) => {
+    dofs[2 * t] = 2 * j;
+    dofs[2 * t + 1] = 2 * j + 1;
+  });
+  if (f === 0) return { dofs, vectors: [] };
+  // Φ_S gathered column by column (contiguous), then H = I − Φ_SᴴΦ_S = Φ_outsideᴴΦ_outside
+  const Xre = phi.map((v) => Float64Array.from(dofs, (d) => v.re[d]));
+  const Xim = ctx.basisComplex() ? phi.map((v) => Float64Array.from(dofs, (d) => v.im[d])) : null;
+  const Hre = new Float64Array(f * f);
+  const Him = Xim ? new Float64Array(f * f) : null;
+  for (let a = 0; a < f; a++) {
+    const ar = Xre[a];
+    const ai = Xim?.[a];
+    for (let b = a; b < f; b++) {
+      const br = Xre[b];
+      let sr = 0;
+      let si = 0;
+      if (ai && Xim) {
+        const bi = Xim[b];
+        for (let t = 0; t < nCols; t++) {
+          sr += ar[t] * br[t] + ai[t] * bi[t];
+          si += ar[t] * bi[t] - ai[t] * br[t];
+        }
+      } else for (let t = 0; t < nCols; t++) sr += ar[t] * br[t];
+      Hre[a * f + b] = (a === b ? 1 : 0) - sr;
+      Hre[b * f + a] = (a === b ? 1 : 0) - sr;
+      if (Him) {
+        Him[a * f + b] = -si;
+        Him[b * f + a] = si;
+      }
+    }
+  }
+  const vectors: { re: Float64Array; im: Float64Array }[] = [];
+  for (const y of psdNullSpace(Hre, Him, f, ctx.spanTol ** 2)) {
+    const v = { re: new Float64Array(nCols), im: new Float64Array(nCols) };
+    for (let a = 0; a < f; a++) {
+      const yr = y.re[a];
+      const yi = y.im[a];
+      if (yr === 0 && yi === 0) continue;
+      const pr = Xre[a];
+      const pi = Xim ? Xim[a] : null;
+      for (let q = 0; q < nCols; q++) {
+        const xr = pr[q];
+        const xi = pi ? pi[q] : 0;
+        v.re[q] += xr * yr - xi * yi;
+        v.im[q] += xr * yi + xi * yr;
+      }
+    }
+    vectors.push(v);
+  }
+  // re-orthonormalise (the vectors are Φy cut to S, where Φy is below SPAN_TOLERANCE outside)
+  const ortho: { re: Float64Array; im: Float64Array }[] = [];
+  for (const v of vectors) {
+    for (let pass = 0; pass < 2; pass++) for (const u of ortho) subtractProjection(v, u);
+    const nv = norm(v);
+    if (nv < 0.5) continue;
+    scaleInPlace(v, 1 / nv);
+    ortho.push(v);
+  }
+  if (ortho.length === 0) return { dofs, vectors: [] };
+  // I − Φ_SᴴΦ_S cancels to about 1e-16, so the candidates are only good to ~1e-8 outside the
+  // joints: project each onto the null space of the restricted matrix, then apply the rank rule
+  const { matrix } = restrictedMatrix(ctx.R, ctx.rowsOfJoint, joints);
+  const polished = ortho.map((x) => projectOntoNullSpace(matrix, x, ctx.absTol));
+  const cert = certify(ctx, dofs, polished);
+  return { dofs, vectors: cert };
+}
+
+/** Regions with at least this many columns go to the banded sparse solver rather than a dense SVD. */
+export const SPARSE_MIN_COLUMNS = 48;
+
+/**
+ * ker of a restricted matrix by the banded sparse solver (src/flex/solve-sparse.ts), cut at
+ * relative × σ_max of the whole R (= the global absolute tolerance), so the decision is the
+ * global rule's.
+ */
+function sparseRestrictedKernel(matrix: SparseMatrix, ctx: Ctx): { re: Float64Array; im: Float64Array }[] {
+  const spaces = sparseSpaces(matrix, { relative: ctx.relative, memoryLimit: ctx.memoryLimit, sigmaMax: ctx.sigmaMax });
+  if (spaces.decision.rank === matrix.cols) return [];
+  return spaces.flexBasis().vectors.map((v) => ({ re: v.re, im: v.im }));
+}
+
+/**
+ * The kernel intersection is chosen (when cheaper per region) only once the global flex basis
+ * exists, or when the whole matrix has at most this many columns (its basis is then cheap).
+ */
+export const KERNEL_INTERSECTION_MAX_COLUMNS = 2400;
+
+/**
+ * Restricted kernels by the exact content of their restricted matrix (sizes, structure and the
+ * bits of every entry) and the method: the same input gives the same vectors, so a region whose
+ * matrix was met before (a translate away from the sides) is not solved again. Bounded at about
+ * 64 MB (MAX_WORDS numbers); past that, kernels are solved and not kept.
+ */
+export class KernelCache {
+  private map = new Map<string, { re: Float64Array; im: Float64Array }[]>();
+  private words = 0;
+  static readonly MAX_WORDS = 8e6;
+
+  static key(method: RestrictedMethod, A: SparseMatrix): string {
+    const parts: string[] = [method, String(A.rows), String(A.cols), A.rowPtr.join(','), A.colIdx.join(',')];
+    const bits = (x: Float64Array) => {
+      const u = new Uint32Array(x.buffer, x.byteOffset, 2 * x.length);
+      let out = '';
+      for (let i = 0; i < u.length; i += 4096) out += String.fromCharCode(...u.subarray(i, i + 4096).map((w) => w & 0xffff), ...u.subarray(i, i + 4096).map((w) => w >>> 16));
+      return out;
+    };
+    parts.push(bits(A.re), A.im ? bits(A.im) : '-');
+    return parts.join('|');
+  }
+
+  get(key: string): { re: Float64Array; im: Float64Array }[] | undefined {
+    return this.map.get(key);
+  }
+
+  set(key: string, vectors: { re: Float64Array; im: Float64Array }[]): void {
+    const w = vectors.reduce((t, v) => t + 2 * v.re.length, 0) + key.length / 4;
+    if (this.words + w > KernelCache.MAX_WORDS) return;
+    this.words += w;
+    this.map.set(key, vectors);
+  }
+}
