@@ -91,12 +91,11 @@ describe('twisted kagome, free: no straight bond lines, so no line flexes', () =
     expect(c.counts.line).toBe(0);
     expect(c.counts.local).toBe(0);
   });
-  // Known open (issue 11, "decaying" definition): at 12×12 one boundary mode still fails the
-  // 80 % head-weight rule and is counted bulk (4 bulk > 3 rigid motions). Marked as expected to
-  // fail so that it reports once the decay rule is fixed.
-  it.fails('12×12: no bulk beyond the rigid motions (open: head-weight rule)', () => {
+  it('12×12: the bulk is the affine flexes only (3 rigid motions and the dilation), everything else decays from the boundary', () => {
     const c = classify(tk, [12, 12], 'free');
-    expect(c.counts.bulk).toBeLessThanOrEqual(c.trivialFlexes);
+    expect(c.counts.bulk).toBe(c.trivialFlexes + 1);
+    expect(c.affineFlexes).toBe(4);
+    expect(c.counts.decaying).toBe(c.flexes - 4);
   });
   it('the corner families are reported against the window size instead of counted as local', () => {
     const c = classify(tk, [12, 12], 'free', { window: 4 });
@@ -115,7 +114,7 @@ describe('twisted kagome, free: no straight bond lines, so no line flexes', () =
     // 2(L1 + L2) − 1 flexes: +4 per cell of side, all boundary modes beyond the rigid motions
     expect(dec[1] - dec[0]).toBe(4);
     expect(dec[2] - dec[1]).toBe(4);
-    for (const c of d) expect(c.counts.decaying).toBeGreaterThanOrEqual(c.flexes - c.trivialFlexes);
+    for (const c of d) expect(c.counts.decaying).toBe(c.flexes - c.affineFlexes!);
   });
 });
 

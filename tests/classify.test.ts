@@ -40,6 +40,65 @@ function cached(fw: string, cells: [number, number], bc: string, options: Classi
   return cache.get(key)!;
 }
 
+/**
+ * Fit of a flex's velocities at the first joint of every cell to u0 + i·ȧ1 + j·ȧ2 (least squares),
+ * the residual of the fit and the strain sym([ȧ1 ȧ2]·L⁻¹) (L = [a1 a2]); real part only.
+ */
+function strainOf(sc: Supercell, m: ClassifiedMode): { xx: number; yy: number; xy: number; residual: number } {
+  const [N1, N2] = sc.cells;
+  const S = sc.framework.joints.length;
+  // normal equations of the 3-parameter fit (1, i, j) per coordinate
+  const A = [
+    [0, 0, 0],
+    [0, 0, 0],
+    [0, 0, 0],
+  ];
+  const bx = [0, 0, 0];
+  const by = [0, 0, 0];
+  for (let j = 0; j < N2; j++)
+    for (let i = 0; i < N1; i++) {
+      const k = (j * N1 + i) * S;
+      const f = [1, i, j];
+      for (let a = 0; a < 3; a++) {
+        for (let b = 0; b < 3; b++) A[a][b] += f[a] * f[b];
+        bx[a] += f[a] * m.vector.re[2 * k];
+        by[a] += f[a] * m.vector.re[2 * k + 1];
+      }
+    }
+  const solve = (b: number[]) => {
+    const M = A.map((row, r) => [...row, b[r]]);
+    for (let c = 0; c < 3; c++) {
+      const p = M.slice(c).reduce((best, row, r) => (Math.abs(row[c]) > Math.abs(M[best][c]) ? r + c : best), c);
+      [M[c], M[p]] = [M[p], M[c]];
+      for (let r = 0; r < 3; r++) if (r !== c) {
+        const t = M[r][c] / M[c][c];
+        for (let q = c; q < 4; q++) M[r][q] -= t * M[c][q];
+      }
+    }
+    return M.map((row, r) => row[3] / row[r]);
+  };
+  const cx = solve(bx);
+  const cy = solve(by);
+  let residual = 0;
+  for (let j = 0; j < N2; j++)
+    for (let i = 0; i < N1; i++) {
+      const k = (j * N1 + i) * S;
+      residual = Math.max(residual, Math.abs(m.vector.re[2 * k] - cx[0] - cx[1] * i - cx[2] * j), Math.abs(m.vector.re[2 * k + 1] - cy[0] - cy[1] * i - cy[2] * j));
+    }
+  // velocity gradient G with G·a1 = ȧ1 = (cx[1], cy[1]), G·a2 = ȧ2 = (cx[2], cy[2])
+  const [[a1x, a1y], [a2x, a2y]] = sc.framework.lattice;
+  const det = a1x * a2y - a2x * a1y;
+  const inv = [
+    [a2y / det, -a2x / det],
+    [-a1y / det, a1x / det],
+  ]; // rows of L⁻¹, L = [[a1x, a2x], [a1y, a2y]]
+  const G = [
+    [cx[1] * inv[0][0] + cx[2] * inv[1][0], cx[1] * inv[0][1] + cx[2] * inv[1][1]],
+    [cy[1] * inv[0][0] + cy[2] * inv[1][0], cy[1] * inv[0][1] + cy[2] * inv[1][1]],
+  ];
+  return { xx: G[0][0], yy: G[1][1], xy: (G[0][1] + G[1][0]) / 2, residual };
+}
+
 /** Joints whose amplitude is above `rel` × the largest amplitude. */
 function supportOf(m: ClassifiedMode, rel = 1e-8): number[] {
   const J = m.vector.re.length / 2;
@@ -158,20 +217,39 @@ describe('regular kagome, free', () => {
 });
 
 describe('twisted kagome, free', () => {
-  // All flexes of the free twisted kagome except the rigid motions live at the surface: it
-  // has no bulk floppy modes. K. Sun, A. Souslov, X. Mao & T. C. Lubensky, "Surface phonons,
-  // elastic response, and conformal invariance in twisted kagome lattices", PNAS 109(31),
-  // 12369–12374 (2012). The count 2(L1 + L2) − 1 is derived in our reference note.
+  // All flexes of the free twisted kagome except the rigid motions live at the surface (K. Sun,
+  // A. Souslov, X. Mao & T. C. Lubensky, "Surface phonons, elastic response, and conformal
+  // invariance in twisted kagome lattices", PNAS 109(31), 12369–12374 (2012)), with one
+  // exception a free sample shows: the homogeneous dilation of the lattice (the Guest mode;
+  // S. D. Guest & J. W. Hutchinson, "On the determinacy of repetitive structures", J. Mech. Phys.
+  // Solids 51, 383–391 (2003); Sun et al.: zero bulk modulus). It is a flex of any free sample
+  // and bulk by nature. The count 2(L1 + L2) − 1 is derived in our reference note.
   const sizes = [5, 6, 7];
   const runs = sizes.map((N) => cached('gallery:twisted-kagome?twist=15', [N, N], 'free'));
-  it('no bulk flex beyond the rigid motions at 15° and −20° (Sun, Souslov, Mao & Lubensky 2012)', () => {
+  it('bulk = the 3 rigid motions and the dilation, at every size and at 15° and −20°', () => {
     for (const r of [...runs, cached('gallery:twisted-kagome?twist=-20', [5, 5], 'free')]) {
       expect(r.c.trivialFlexes).toBe(3);
-      expect(r.c.counts.bulk).toBeLessThanOrEqual(r.c.trivialFlexes);
-      expect(r.c.counts.decaying).toBeGreaterThan(0);
+      expect(r.c.counts.bulk).toBe(4);
+      expect(r.c.affineFlexes).toBe(4);
+      const bulk = r.c.modes.filter((m) => m.class === 'bulk');
+      expect(bulk.every((m) => m.affine)).toBe(true);
+      // independent reading of the vectors: fit u = u0 + i·ȧ1 + j·ȧ2 over the cells' first joints,
+      // strain = sym([ȧ1 ȧ2]·L⁻¹); the four span one strain direction, a pure dilation
+      const strains = bulk.map((m) => strainOf(r.sc, m));
+      for (const e of strains) expect(e.residual).toBeLessThan(1e-8);
+      const rows = strains.map((e) => [e.xx, e.yy, e.xy]);
+      const big = rows.reduce((b, x) => (Math.hypot(...x) > Math.hypot(...b) ? x : b));
+      expect(Math.hypot(...big)).toBeGreaterThan(1e-3);
+      expect(Math.abs(big[0] - big[1]) / Math.hypot(...big)).toBeLessThan(1e-8);
+      expect(Math.abs(big[2]) / Math.hypot(...big)).toBeLessThan(1e-8);
+      for (const x of rows) {
+        // every strain is a multiple of the dilation
+        const t = (x[0] * big[0] + x[1] * big[1] + x[2] * big[2]) / (big[0] ** 2 + big[1] ** 2 + big[2] ** 2);
+        expect(Math.hypot(x[0] - t * big[0], x[1] - t * big[1], x[2] - t * big[2])).toBeLessThan(1e-8);
+      }
     }
   });
-  it('the decaying count grows linearly with N: +4 per cell of side, up to the rigid motions', () => {
+  it('the decaying count grows linearly with N: +4 per cell of side, everything but the affine flexes', () => {
     runs.forEach((r, t) => expect(r.c.flexes).toBe(2 * (sizes[t] + sizes[t]) - 1));
     // compact corner and edge-row flexes do not grow with N
     for (const r of runs) {
@@ -181,8 +259,7 @@ describe('twisted kagome, free', () => {
     const rest = runs.map((r) => r.c.counts.decaying + r.c.counts.bulk);
     expect(rest[1] - rest[0]).toBe(4);
     expect(rest[2] - rest[1]).toBe(4);
-    runs.forEach((r, t) => expect(r.c.counts.decaying).toBeGreaterThanOrEqual(rest[t] - r.c.trivialFlexes));
-    expect(runs[2].c.counts.decaying).toBeGreaterThan(runs[0].c.counts.decaying);
+    runs.forEach((r, t) => expect(r.c.counts.decaying).toBe(rest[t] - r.c.affineFlexes!));
   });
   it('decaying flexes are anchored at sides or corners, with a finite decay length', () => {
     for (const m of runs[2].c.modes.filter((x) => x.class === 'decaying')) {
@@ -538,3 +615,25 @@ describe('the classified modes', () => {
 function base(): Run {
   return cached('gallery:twisted-kagome?twist=15', [5, 5], 'free');
 }
+
+describe('counts that sum by construction', () => {
+  it('the filtration local ⊂ local + line ⊂ ker R is decided inside ker R, so the classes always add up to the flexes', () => {
+    // a consistent run: every class count from the filtration, stated in the thresholds
+    const ok = cached('gallery:twisted-kagome?twist=15', [6, 6], 'free');
+    expect(Object.values(ok.c.counts).reduce((s, x) => s + x, 0)).toBe(ok.c.flexes);
+    expect(String(ok.c.thresholds.filtration)).toMatch(/principal angles/);
+    // an inconsistent one: the whole-matrix analysis claims two flexes fewer than the 23 straight
+    // bond lines the restricted problems find (kagome free 6×6; reference note §3)
+    // (restricted problems solved on their own matrices, not from the flex basis)
+    const lying = run('gallery:kagome', [6, 6], 'free', { restrictedSolve: 'restricted-svd' }, (a) => {
+      const basis = a.flexBasis();
+      const f = a.flexes - 2;
+      return { ...a, flexes: f, flexBasis: () => ({ ...basis, vectors: basis.vectors.slice(0, f) }) };
+    });
+    expect(lying.c.flexes).toBe(21);
+    expect(Object.values(lying.c.counts).reduce((s, x) => s + x, 0)).toBe(21);
+    expect(lying.c.modes.length).toBe(21);
+    expect(lying.c.warnings!.join(" ")).toMatch(/span 21 dimensions but only \d+ of them lie in the flex space/);
+    expect(lying.c.counts.line).toBeLessThan(21);
+  });
+});

@@ -88,6 +88,7 @@ export function modeWhere(m: ClassifiedMode): string {
     return `${place}, ξ = ${fmt(m.decayLength ?? null, 3)} cells (R² ${fmt(m.fitQuality ?? null, 3)})`;
   }
   if (m.class === 'line' && m.direction) return `direction (${m.direction[0]}, ${m.direction[1]}); ${m.region ?? ''}`;
+  if (m.affine) return 'affine field (rigid motion, homogeneous mechanism or strain mode)';
   return m.region ?? '';
 }
 
@@ -111,6 +112,7 @@ function outputObject(a: SupercellArgs, r: ClassifyRun, withVectors: boolean, si
     sideWeights: sides,
     ...(sides ? {} : { sideWeightsNote: sideWeightsSkipped(r) }),
     shortStripFlexes: c.shortStripFlexes ?? 0,
+    affineFlexes: c.affineFlexes ?? 0,
     thresholds: c.thresholds,
     solver: r.analysis.solver,
     gap: r.analysis.gap,
@@ -163,6 +165,7 @@ export const classifyCommand: Command = {
             : sideWeightsSkipped(r),
         ],
         ['short strip pieces', `${c.shortStripFlexes ?? 0} (in no window and on under 2/3 of a strip; counted as decaying or bulk)`],
+        ['affine flexes', `${c.affineFlexes ?? 0} of the bulk (rigid motions, homogeneous mechanisms and strain modes: u_s + L̇·cell)`],
         ['solver', `${r.analysis.solver} (${r.analysis.solverReason})`],
       ]).trimEnd(),
     );

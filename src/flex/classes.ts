@@ -60,6 +60,11 @@ export interface ClassifiedMode {
   fitQuality?: number;
   /** Decaying flexes: share of the squared amplitude within the head radius of the anchor. */
   headWeight?: number;
+  /**
+   * Bulk flexes that are affine fields u_s + L̇·cell (a rigid motion, a homogeneous mechanism
+   * or a macroscopic strain mode), taken out of the rest before it is localised.
+   */
+  affine?: boolean;
 }
 
 export interface Classification {
@@ -74,6 +79,8 @@ export interface Classification {
    * (short strip pieces); they are part of the rest and counted as decaying or bulk.
    */
   shortStripFlexes?: number;
+  /** Bulk flexes that are affine fields (rigid motions, homogeneous mechanisms, strain modes) in the rest. */
+  affineFlexes?: number;
   /**
    * Window flexes at the corners of a free sample whose number had not saturated at the
    * largest window (they went to the rest), counted cumulatively for windows 1…window.

@@ -81,6 +81,8 @@ export interface ModeFlex {
   region?: string;
   fitQuality?: number;
   headWeight?: number;
+  /** A bulk flex that is an affine field (rigid motion, homogeneous mechanism or strain mode). */
+  affine?: boolean;
   /** 2 entries per joint (x, y). */
   velocity: ComplexData;
 }
@@ -168,6 +170,7 @@ export interface ModeInput extends ComplexInput {
   region?: string;
   fitQuality?: number;
   headWeight?: number;
+  affine?: boolean;
 }
 
 export interface ClassificationInput {
@@ -286,6 +289,7 @@ export function modeData(input: ModeDataInput): ModeData {
         ...(m.region !== undefined ? { region: m.region } : {}),
         ...(m.fitQuality !== undefined ? { fitQuality: m.fitQuality } : {}),
         ...(m.headWeight !== undefined ? { headWeight: m.headWeight } : {}),
+        ...(m.affine !== undefined ? { affine: m.affine } : {}),
         velocity: complexOf(m),
       }),
     ),
@@ -610,7 +614,7 @@ function readClassification(r: Reader, v: unknown, p: string): ModeClassificatio
   });
 }
 
-const FLEX_OPTIONAL = ['support', 'extents', 'direction', 'anchor', 'decayLength', 'region', 'fitQuality', 'headWeight'] as const;
+const FLEX_OPTIONAL = ['support', 'extents', 'direction', 'anchor', 'decayLength', 'region', 'fitQuality', 'headWeight', 'affine'] as const;
 
 function readFlex(r: Reader, v: unknown, p: string): ModeFlex | undefined {
   const o = r.record(v, p, ['mode', 'class', 'participation', 'velocity'], FLEX_OPTIONAL);
@@ -632,6 +636,7 @@ function readFlex(r: Reader, v: unknown, p: string): ModeFlex | undefined {
     region: opt('region', (x, w) => r.str(x, w)),
     fitQuality: opt('fitQuality', (x, w) => r.num(x, w)),
     headWeight: opt('headWeight', (x, w) => r.num(x, w)),
+    affine: opt('affine', (x, w) => r.bool(x, w)),
     velocity: readComplex(r, o.velocity, q('velocity')),
   };
   // (An optional metric present but unreadable has been reported; the whole read then fails.)

@@ -87,6 +87,8 @@ import type { Supercell } from '../../supercell/supercell.js';
 import type { Classification, ClassifyOptions, FlexClass } from '../classes.js';
 import { throwIfAborted } from '../solver.js';
 import type { FlexAnalysis } from '../spaces.js';
+import { AFFINE_IN_KERNEL, AFFINE_IN_REST, splitAffine } from './affine.js';
+import { KERNEL_INTERSECTION_MAX_COLUMNS } from './restricted-kernel.js';
 import { makeContext, type RestrictedMethod, type State } from './context.js';
 import { findLines, usableDirections } from './lines.js';
 import { confineCorners, findLocal } from './local.js';
@@ -161,15 +163,21 @@ export function classifyFlexes(sc: Supercell, analysis: FlexAnalysis, options: C
   timings.strips = stripTime.strips;
   timings.lines = stripTime.lines;
   clock = performance.now();
-  if (span.dim > f) warnings.push(`the local, short and line spans have ${span.dim} dimensions, more than the ${f} flexes: the rank tolerance is not consistent between the restricted problems and the whole matrix`);
-  // keep the counts summing to the flexes even then: drop the last line (then local) modes found
-  while (modes.length > f) modes.pop();
-
-  // 3. the rest: ker R ⊖ (L ⊕ lines)
-  const takenIndices = Array.from({ length: span.dim }, (_, t) => t).filter((t) => !shortIdx.has(t) && !confinedIdx.has(t)).slice(0, f);
-  const { rest, leakage } = restOf(ctx, span, f, takenIndices);
-  if (leakage > 1e3 * ctx.spanTol) warnings.push(`the local and line flexes stick out of the flex space by ${leakage.toExponential(2)}: the rank tolerance is not consistent between the restricted problems and the whole matrix`);
+  // 3. the rest: ker R ⊖ (L ⊕ lines), the filtration's dimensions decided inside ker R (rest.ts)
+  const takenIndices = Array.from({ length: span.dim }, (_, t) => t).filter((t) => !shortIdx.has(t) && !confinedIdx.has(t));
+  const { rest: fullRest, inside, leakage, separation } = restOf(ctx, span, f, takenIndices, ctx.n <= KERNEL_INTERSECTION_MAX_COLUMNS);
+  if (inside < modes.length) {
+    warnings.push(
+      `the local and line flexes found span ${modes.length} dimensions but only ${inside} of them lie in the flex space (principal angles: sin² ≤ ½ counts as inside): the rank tolerance is not consistent between the restricted problems and the whole matrix; the last ${modes.length - inside} found are left out`,
+    );
+    modes.length = inside;
+  }
+  if (leakage !== null && leakage > 1e3 * ctx.spanTol) warnings.push(`the local and line flexes stick out of the flex space by ${leakage.toExponential(2)}: the rank tolerance is not consistent between the restricted problems and the whole matrix`);
   throwIfAborted(signal);
+  // 3a. affine flexes (rigid motions, homogeneous mechanisms and strain modes) are bulk by nature
+  const aff = splitAffine(sc, fullRest.length ? ctx.flexBasis() : [], fullRest);
+  const rest = aff.rest;
+  for (const v of aff.affine) modes.push({ class: 'bulk', vector: v, ...basicMetrics(geo, jointWeights(v, J)), affine: true });
   lap('rest');
 
   // 4. near/far: split off the extended part (boundary-distance operator); 5. localise: SCDM
@@ -214,6 +222,9 @@ export function classifyFlexes(sc: Supercell, analysis: FlexAnalysis, options: C
       spanTolerance: ctx.spanTol,
       restrictedSolve: (Object.keys(ctx.used) as RestrictedMethod[]).filter((k) => ctx.used[k] > 0).map((k) => `${k} ×${ctx.used[k]}`).join(', ') || 'none',
       localBasis: 'restricted-kernel vectors as found (compact, unit norm, independent, not mutually orthogonal)',
+      filtration: `dim (local + line) ∩ ker R from the principal angles (sin² ≤ ½ inside): largest sin inside ${leakage === null ? `not measured (over ${KERNEL_INTERSECTION_MAX_COLUMNS} columns the local and line flexes that fill the count are taken as found)` : leakage.toExponential(2)}, smallest outside ${separation === null ? '—' : separation.toExponential(2)}; the rest completes the count`,
+      affine: `fields u_s + L̇·cell from the flexible-lattice unit cell that are flexes (distance ≤ ${AFFINE_IN_KERNEL}) and reach into the rest (component > ${AFFINE_IN_REST}) are bulk; the rest is localised without them`,
+      affineGap: aff.kept === null && aff.dropped === null ? 'none' : `smallest kept ${aff.kept?.toExponential(2) ?? '—'}, largest dropped ${aff.dropped?.toExponential(2) ?? '—'}`,
       restSplit: 'eigenvectors of the nearest-side distance operator compressed to the rest: mean distance ≥ head radius (far) or below it (near), within 1e-9 × head radius',
       restLocalisation: 'SCDM, orthonormal form (Damle, Lin & Ying 2015), within near and within far separately',
       supportAmplitude: SUPPORT_AMPLITUDE,
@@ -226,6 +237,7 @@ export function classifyFlexes(sc: Supercell, analysis: FlexAnalysis, options: C
     },
     modes,
     shortStripFlexes: nShort,
+    affineFlexes: aff.affine.length,
     windowDependence,
     timings,
     ...(warnings.length ? { warnings } : {}),

@@ -8,15 +8,35 @@ import { addScaled, hermitianEigen, scaleInPlace, subtractProjection, type Cx } 
 import type { Span } from './span.js';
 
 /**
- * An orthonormal basis of the rest (f − takenIndices.length vectors), from the eigenvectors of
- * I − CᴴC with C = Qᴴ Φ (Q the taken span, Φ the global flex basis), and the leakage: how far
- * the taken span sticks out of the flex space (it should be about zero).
+ * The filtration (local + line) ⊂ ker R decided in ker R itself: with C = Qᴴ Φ (Q an orthonormal
+ * basis of the taken span, Φ the global flex basis), the eigenvalues of I − CᴴC (f of them, in
+ * [0, 1]) are sin² of the principal angles between ker R and the taken span, padded with 1. The
+ * taken span holds `inside` dimensions of ker R: the eigenvalues ≤ ½. So inside ≤ f and the
+ * rest, the eigenvectors of the f − inside others, completes the count to f by construction.
+ * `leakage` is √ of the largest eigenvalue counted inside (about 0 when the restricted problems
+ * agree with the whole matrix), `separation` √ of the smallest counted outside (about 1).
  */
-export function restOf(ctx: Ctx, span: Span, f: number, takenIndices: number[]): { rest: Cx[]; leakage: number } {
+export interface RestSplit {
+  rest: Cx[];
+  inside: number;
+  /**
+   * null when not measured: on large supercells (measure = false) taken vectors that are exactly
+   * f (each a kernel vector of R by its restricted problem) fill the count without forming a basis.
+   */
+  leakage: number | null;
+  separation: number | null;
+}
+
+export function restOf(ctx: Ctx, span: Span, f: number, takenIndices: number[], measure: boolean): RestSplit {
   const n = ctx.n;
-  const restDim = Math.max(0, f - takenIndices.length);
   const rest: { re: Float64Array; im: Float64Array }[] = [];
-  if (restDim === 0) return { rest, leakage: 0 };
+  if (f === 0) return { rest, inside: 0, leakage: 0, separation: null };
+  if (takenIndices.length === f && !measure) return { rest, inside: f, leakage: null, separation: null };
+  if (takenIndices.length === 0) {
+    // nothing taken: the rest is the whole flex space
+    const phi = ctx.flexBasis();
+    return { rest: phi.map((v) => ({ re: Float64Array.from(v.re), im: Float64Array.from(v.im) })), inside: 0, leakage: 0, separation: 1 };
+  }
   const taken = span.orthonormal(takenIndices);
   // the global flex basis is needed only for a rest (the count f is known without it)
   const phi = ctx.flexBasis();
@@ -49,8 +69,13 @@ export function restOf(ctx: Ctx, span: Span, f: number, takenIndices: number[]):
       if (Gim) Gim[a * f + b] = si;
     }
   const eig = hermitianEigen(Gre, Gim, f);
-  // the d smallest eigenvalues should vanish (L ⊕ lines ⊂ ker R)
-  if (d > 0) leakage = Math.sqrt(Math.max(0, eig.values[Math.min(d, f) - 1]));
+  // ascending eigenvalues: the taken span holds those ≤ ½ (at most d of them)
+  let inside = 0;
+  while (inside < Math.min(d, f) && eig.values[inside] <= 0.5) inside++;
+  if (inside > 0) leakage = Math.sqrt(Math.max(0, eig.values[inside - 1]));
+  const separation = inside < f ? Math.sqrt(Math.max(0, eig.values[inside])) : null;
+  const restDim = f - inside;
+  if (restDim === 0) return { rest, inside, leakage, separation };
   for (let t = f - 1; t >= f - restDim; t--) {
     const y = eig.vectors[t];
     const v = { re: new Float64Array(n), im: new Float64Array(n) };
@@ -66,5 +91,5 @@ export function restOf(ctx: Ctx, span: Span, f: number, takenIndices: number[]):
     scaleInPlace(v, 1 / nv);
     rest.push(v);
   }
-  return { rest, leakage };
+  return { rest, inside, leakage, separation };
 }
