@@ -637,3 +637,30 @@ describe('counts that sum by construction', () => {
     expect(lying.c.counts.line).toBeLessThan(21);
   });
 });
+
+describe('extents: cells spanned along a1 and a2, never more than the supercell', () => {
+  it('kagome lines span a whole row or column (reference note §3: one flex per straight bond line), honeycomb hexagons at most 2 cells', () => {
+    const free = cached('gallery:kagome', [6, 4], 'free');
+    for (const m of free.c.modes) {
+      expect(m.extents[0]).toBeLessThanOrEqual(6);
+      expect(m.extents[1]).toBeLessThanOrEqual(4);
+    }
+    // a line along a1 that is not the short corner piece spans all 6 columns and one row
+    const rows = free.c.modes.filter((m) => m.direction && m.direction[0] === 1 && m.direction[1] === 0);
+    expect(rows.length).toBeGreaterThan(0);
+    expect(rows.some((m) => m.extents[0] === 6 && m.extents[1] === 1)).toBe(true);
+    const hex = cached('gallery:honeycomb', [4, 4], 'free');
+    for (const m of hex.c.modes.filter((x) => x.class === 'local')) expect(Math.max(...m.extents)).toBeLessThanOrEqual(3);
+  });
+  it('on a wrapping axis a support across the seam spans the short arc', () => {
+    // periodic 6×6 kagome: every line closes on itself (6 cells long); a window flex across the seam would be ≤ 3
+    const per = cached('gallery:kagome', [6, 6], 'periodic');
+    for (const m of per.c.modes) {
+      expect(m.extents[0]).toBeLessThanOrEqual(6);
+      expect(m.extents[1]).toBeLessThanOrEqual(6);
+    }
+    // the twisted-axis seam: the rattler bead at cell column 5 and 0 of a 6-cell ring is 2 cells, not 6
+    const r = run(RATTLER, [6, 2], 'x=periodic,y=free');
+    for (const m of r.c.modes.filter((x) => x.class === 'local')) expect(m.extents[0]).toBeLessThanOrEqual(3);
+  });
+});

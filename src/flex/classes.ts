@@ -44,7 +44,7 @@ export interface ClassifiedMode {
   vector: CVec;
   /** Number of joints carrying the vector's weight (to the rank tolerance). */
   support: number;
-  /** Extents of the support along its two principal directions, in cells. */
+  /** Cells spanned by the support along a1 and along a2 (on a twisted axis the shortest arc covering it); at most N1, N2. */
   extents: [number, number];
   /** Lattice direction (p, q) of a line flex's strip. */
   direction?: [number, number];

@@ -23,9 +23,9 @@ const CLASS_TEXT: Record<FlexClass, { title: string; help: string }> = {
 };
 
 /**
- * The extent of a mode as shown. The core measures it along the principal axes of the support
- * (in cell units, plus one), which on a slanted axis can exceed the supercell's sides (a diagonal
- * spread of 12×12 cells measures about 17); a length beyond the longer side reads "whole supercell".
+ * The extent of a mode as shown: the cells its support spans along a1 and a2 (at most the
+ * supercell's sides; a file written by an older version may hold larger principal-axis
+ * lengths, which read "whole supercell").
  */
 export function extentText(extents: [number, number], cells?: readonly [number, number]): string {
   const side = cells ? Math.max(cells[0], cells[1]) : Infinity;

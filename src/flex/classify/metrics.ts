@@ -43,6 +43,30 @@ interface BasicMetrics {
   participation: number;
 }
 
+/**
+ * Cells spanned along one axis by the occupied cell indices: max − min + 1, or on a wrapping axis
+ * the shortest arc that covers them (N minus the longest run of empty cells around the circle).
+ */
+function spanned(used: Uint8Array, wraps: boolean): number {
+  const N = used.length;
+  let first = -1;
+  let last = -1;
+  for (let i = 0; i < N; i++)
+    if (used[i]) {
+      if (first < 0) first = i;
+      last = i;
+    }
+  if (first < 0) return 0;
+  if (!wraps) return last - first + 1;
+  let longestGap = 0;
+  let gap = 0;
+  for (let t = 0; t < 2 * N; t++) {
+    if (used[t % N]) gap = 0;
+    else longestGap = Math.max(longestGap, Math.min(++gap, N));
+  }
+  return N - longestGap;
+}
+
 export function basicMetrics(geo: Geometry, w: Float64Array): BasicMetrics {
   const J = w.length;
   let total = 0;
@@ -54,38 +78,19 @@ export function basicMetrics(geo: Geometry, w: Float64Array): BasicMetrics {
     wmax = Math.max(wmax, w[k]);
   }
   const cut = SUPPORT_AMPLITUDE ** 2 * wmax;
-  const pts: [number, number][] = [];
-  for (let k = 0; k < J; k++) if (w[k] >= cut && w[k] > 0) pts.push([geo.frac[2 * k], geo.frac[2 * k + 1]]);
-  let extents: [number, number] = [0, 0];
-  if (pts.length) {
-    const mx = pts.reduce((s, p) => s + p[0], 0) / pts.length;
-    const my = pts.reduce((s, p) => s + p[1], 0) / pts.length;
-    let sxx = 0;
-    let sxy = 0;
-    let syy = 0;
-    for (const [x, y] of pts) {
-      sxx += (x - mx) ** 2;
-      sxy += (x - mx) * (y - my);
-      syy += (y - my) ** 2;
+  const { N1, N2, px, py } = geo.ax;
+  const usedI = new Uint8Array(N1);
+  const usedJ = new Uint8Array(N2);
+  let support = 0;
+  for (let k = 0; k < J; k++)
+    if (w[k] >= cut && w[k] > 0) {
+      support++;
+      const c = geo.jointCell[k];
+      usedI[c % N1] = 1;
+      usedJ[Math.floor(c / N1)] = 1;
     }
-    const ang = 0.5 * Math.atan2(2 * sxy, sxx - syy);
-    const u: [number, number] = [Math.cos(ang), Math.sin(ang)];
-    const v: [number, number] = [-u[1], u[0]];
-    const range = (dir: [number, number]) => {
-      let lo = Infinity;
-      let hi = -Infinity;
-      for (const [x, y] of pts) {
-        const t = x * dir[0] + y * dir[1];
-        lo = Math.min(lo, t);
-        hi = Math.max(hi, t);
-      }
-      return hi - lo + 1;
-    };
-    const e1 = range(u);
-    const e2 = range(v);
-    extents = e1 >= e2 ? [e1, e2] : [e2, e1];
-  }
-  return { support: pts.length, extents, participation: total > 0 ? (total * total) / (J * sq) : 0 };
+  const extents: [number, number] = support ? [spanned(usedI, px), spanned(usedJ, py)] : [0, 0];
+  return { support, extents, participation: total > 0 ? (total * total) / (J * sq) : 0 };
 }
 
 interface AnchorFit {
