@@ -7,6 +7,7 @@ import { countsOf } from '../flex/spaces.js';
 import { selfCheck, type SelfCheck } from '../flex/verify.js';
 import { AMBIGUOUS_RATIO } from '../linalg/rank.js';
 import { describeBoundary } from '../supercell/boundary.js';
+import { prestress, type PrestressResult } from '../stress/prestress.js';
 import type { Command } from './command.js';
 import { progressLine } from './progress.js';
 import { BOUNDARY_HELP, checkSize, fmt, safeText, FRAMEWORK_HELP, readSupercellArgs, safeJson, SUPERCELL_FLAGS, table, titleOf } from './common.js';
@@ -14,11 +15,12 @@ import { BOUNDARY_HELP, checkSize, fmt, safeText, FRAMEWORK_HELP, readSupercellA
 export const countCommand: Command = {
   name: 'count',
   summary: 'Count the flexes (infinitesimal motions), the trivial ones among them and the self-stresses of an N1×N2 supercell.',
-  usage: 'shimmy count FRAMEWORK [--cells 8x8] [--bc SPEC] [--tol 1e-9] [--verify] [--json]',
+  usage: 'shimmy count FRAMEWORK [--cells 8x8] [--bc SPEC] [--tol 1e-9] [--verify] [--prestress] [--json]',
   flags: [
     ...SUPERCELL_FLAGS,
     { name: '--gap', value: 'value|bound', help: 'value: measure the smallest kept σ on every path; bound: where the count is certified by an inertia count, report its certified lower bound instead (faster)', default: 'bound' },
     { name: '--verify', help: 'also compute both bases and check them independently: ‖R v‖ and ‖Rᴴ w‖ within the tolerance, orthonormal, as many as the count claims (exit code 4 when the check fails)' },
+    { name: '--prestress', help: 'also check prestress stability: whether some self-stress makes the stress energy positive on every non-trivial flex (computes both bases; real boundaries only)' },
     { name: '--json', help: 'print one JSON object instead of a table (with `seconds`, the time the count took)' },
     { name: '--help', help: 'show this help' },
   ],
@@ -26,7 +28,7 @@ export const countCommand: Command = {
   details: [...FRAMEWORK_HELP, '', ...BOUNDARY_HELP],
   run(args, io) {
     const a = readSupercellArgs(args, io, 'count');
-    checkSize(a, args.flags.has('--verify')); // --verify computes both bases
+    checkSize(a, args.flags.has('--verify') || args.flags.has('--prestress')); // both compute both bases
     const progress = progressLine(io, 'count');
     const started = performance.now();
     const gapText = (args.flags.get('--gap') as string | undefined) ?? 'bound';
@@ -35,12 +37,13 @@ export const countCommand: Command = {
     }
     // --verify computes both bases: then the Lanczos run for the kept σ is cheap beside them
     const gap = args.flags.has('--verify') ? 'value' : gapText;
-    const { analysis } = count({ framework: a.framework, cells: a.cells, boundary: a.boundary, tolerance: a.tolerance, solver: a.solver, allowLarge: a.allowLarge, memoryLimit: a.memoryLimit, gap, onProgress: progress.report });
+    const { supercell, analysis } = count({ framework: a.framework, cells: a.cells, boundary: a.boundary, tolerance: a.tolerance, solver: a.solver, allowLarge: a.allowLarge, memoryLimit: a.memoryLimit, gap, onProgress: progress.report });
     const seconds = (performance.now() - started) / 1000;
     progress.done();
     const c = countsOf(analysis);
     const ambiguous = c.gap.ambiguous;
     const check = args.flags.has('--verify') ? selfCheck(analysis) : null;
+    const stability = args.flags.has('--prestress') ? prestressOf(supercell, analysis) : null;
     const warnings = ambiguous ? [ambiguityWarning(c.status.reasons)] : [];
     if (check && !check.passed) warnings.push(`the self-check failed: ${check.failures.join('; ')}`);
     const code = check && !check.passed ? 4 : 0;
@@ -53,6 +56,7 @@ export const countCommand: Command = {
         boundary: a.bcText,
         ...c,
         ...(check ? { selfCheck: check } : {}),
+        ...(stability ? { prestress: stability } : {}),
         warnings,
         /** Wall time of building the supercell and counting, in this process (no start-up). */
         seconds,
@@ -83,6 +87,7 @@ export const countCommand: Command = {
             : ['gap', `smallest kept σ ${fmt(c.gap.kept)}, largest dropped σ ${fmt(c.gap.dropped)}, ratio ${c.gap.ratio === null ? 'unbounded' : fmt(c.gap.ratio, 3)}`],
           ['certified', certificationText(c.status)],
           ...(check ? [['self-check', selfCheckText(check)] as [string, string]] : []),
+          ...(stability ? [['prestress', prestressText(stability)] as [string, string]] : []),
         ]) +
         (c.gapNote ? `  (${c.gapNote})\n` : '') +
         warnings.map((w) => `\nWarning: ${w}\n`).join('') +
@@ -102,6 +107,21 @@ function certificationText(s: SolveStatus): string {
   const how = s.criterion === 'singular-values' ? 'every singular value computed, none within rounding of the cut' : 'inertia count matched by proved null vectors and residual-bounded singular values';
   const fallback = s.fallback ? ` after a fallback from the ${s.fallback.from} to the ${s.fallback.to} solver` : '';
   return s.certified ? `yes: ${how}${fallback}` : `NO${fallback}: ${s.reasons.join('; ') || 'see the warning'}`;
+}
+
+/** The prestress check, its InputErrors renamed to the flag that asked for it. */
+function prestressOf(...args: Parameters<typeof prestress>): PrestressResult {
+  try {
+    return prestress(...args);
+  } catch (e) {
+    if (e instanceof InputError) throw new InputError(e.message.split('\n')[0], e.problems.map((p) => ({ ...p, where: p.where === 'cells' ? '--cells' : p.where === 'boundary' ? '--bc' : p.where, fix: p.fix.replace('leave out the prestress check', 'leave out --prestress') })));
+    throw e;
+  }
+}
+
+function prestressText(p: PrestressResult): string {
+  const lambda = p.smallestEigenvalue === null ? '' : `; smallest eigenvalue of the stress form ${fmt(p.smallestEigenvalue)} (threshold ${fmt(p.threshold)})`;
+  return `${p.explanation}${lambda}${p.certificate ? `; proof: ${p.certificate.detail}` : ''} (${p.selfStresses} self-stresses, ${p.nonTrivialFlexes} non-trivial flexes)`;
 }
 
 function selfCheckText(c: SelfCheck): string {

@@ -15,8 +15,9 @@ import { classifyCommand } from './classify.js';
 import { sweepCommand } from './sweep.js';
 import { exportModesCommand } from './export-modes.js';
 import { edgesCommand } from './edges.js';
+import { strainCommand } from './strain.js';
 
-export const COMMANDS: Command[] = [countCommand, classifyCommand, sweepCommand, spectrumCommand, edgesCommand, exportModesCommand, galleryCommand];
+export const COMMANDS: Command[] = [countCommand, classifyCommand, sweepCommand, spectrumCommand, edgesCommand, strainCommand, exportModesCommand, galleryCommand];
 
 const VERSION = '0.1.0';
 
