@@ -169,3 +169,34 @@ describe('shimmy sweep', () => {
     expect(c.err).toMatch(/--window/);
   });
 });
+
+describe('the symbol beside the fits: a2 from flat bands, a1 from edge modes', () => {
+  it('twisted kagome, free squares and strips: one edge mode per wave number on each side (Sun, Souslov, Mao & Lubensky, PNAS 109, 12369 (2012)), so a1 = 4 (squares) and 2 (N1 fixed)', () => {
+    const fw = buildGallery('gallery:twisted-kagome?twist=15');
+    const sq = sweep(fw, { sizes: [4, 5, 6, 7].map((n) => [n, n] as [number, number]), boundary: 'free' });
+    expect(sq.prediction.genericKernel).toBe(0);
+    expect(sq.prediction.perSide).toEqual({ bottom: 1, top: 1, left: 1, right: 1 });
+    expect(sq.prediction.polynomial!.a1).toBeCloseTo(4, 10);
+    expect(sq.polynomialFits.flexes.a1!).toBeCloseTo(sq.prediction.polynomial!.a1, 8);
+    expect(sq.polynomialFits.flexes.a2!).toBeCloseTo(sq.prediction.polynomial!.a2, 8);
+    const strip = sweep(fw, { sizes: [4, 5, 6, 7].map((n) => [3, n] as [number, number]), boundary: 'free' });
+    expect(strip.linearSize).toBe('N2');
+    expect(strip.prediction.polynomial!.a1).toBeCloseTo(2, 10);
+    expect(strip.polynomialFits.flexes.a1!).toBeCloseTo(2, 8);
+  });
+  it('a polarised deformed kagome puts both edge modes on the bottom (Kane & Lubensky, Nature Physics 10, 39 (2014)), and the count still grows by 4 per cell', () => {
+    const fw = buildGallery('gallery:deformed-kagome?x1=0.1&x2=-0.1&x3=0.1');
+    const r = sweep(fw, { sizes: [4, 5, 6].map((n) => [n, n] as [number, number]), boundary: 'free' });
+    expect(r.prediction.perSide.bottom).toBe(2);
+    expect(r.prediction.perSide.top).toBe(0);
+    expect(r.polynomialFits.flexes.a1!).toBeCloseTo(r.prediction.polynomial!.a1, 8);
+  });
+  it('honeycomb: Φ is 3×4, one flex per cell at every phase (Maxwell counting, common practice), the fitted a2; no edge prediction, and it says why', () => {
+    const r = sweep(buildGallery('gallery:honeycomb'), { sizes: [3, 4, 5, 6].map((n) => [n, n] as [number, number]), boundary: 'free' });
+    expect(r.prediction.genericKernel).toBe(1);
+    expect(r.prediction.areaA2).toBeCloseTo(1, 10);
+    expect(r.polynomialFits.flexes.a2!).toBeCloseTo(1, 8);
+    expect(r.prediction.polynomial).toBeNull();
+    expect(r.prediction.note).toMatch(/not square/);
+  });
+});

@@ -79,6 +79,16 @@ function polynomialLines(r: SweepResult): string[] {
     const exact = f.exact ? `${f.exact.formula} exactly${f.freedom === 0 ? ' (3 sizes: interpolation, not a test)' : ''}; ` : 'not an exact polynomial; ';
     lines.push(`  ${q.padEnd(9)} ${exact}${coeffs}`);
   }
+  const p = r.prediction;
+  const side = (v: number | null) => (v === null ? '—' : fmt(v, 4));
+  lines.push(
+    `From the symbol: ${p.genericKernel} flex${p.genericKernel === 1 ? '' : 'es'} per cell at a generic phase; flexes per edge wave number: bottom ${side(p.perSide.bottom)}, top ${side(p.perSide.top)}, left ${side(p.perSide.left)}, right ${side(p.perSide.right)}`,
+  );
+  const f = r.polynomialFits.flexes;
+  if (p.polynomial && f.a2 !== null && f.a1 !== null)
+    lines.push(`  flexes    predicted a2 ${fmt(p.polynomial.a2, 4)}, a1 ${fmt(p.polynomial.a1, 4)} against fitted a2 ${fmt(f.a2, 4)}, a1 ${fmt(f.a1, 4)}`);
+  else if (p.areaA2 !== null && f.a2 !== null) lines.push(`  flexes    predicted a2 ${fmt(p.areaA2, 4)} (area term) against fitted a2 ${fmt(f.a2, 4)}`);
+  lines.push(`  (${p.note})`);
   return lines;
 }
 

@@ -19,6 +19,7 @@ import { analyse } from '../api/run.js';
 import { FLEX_CLASSES, type Classification, type FlexClass } from './classes.js';
 import { EXACT_TOLERANCE, MAX_DENOMINATOR, polynomialFit, type PolynomialFit } from './growth-fit.js';
 import { throwIfAborted, type SolverChoice } from './solver.js';
+import { symbolPrediction, type SymbolPrediction } from './sweep-prediction.js';
 
 export interface SweepOptions {
   sizes: [number, number][];
@@ -75,6 +76,8 @@ export interface SweepResult {
   polynomialFits: Record<SweepQuantity, PolynomialFit>;
   /** Which linear size N the fits use: 'N1', 'N2' or '√(N1·N2)'. */
   linearSize: 'N1' | 'N2' | '√(N1·N2)';
+  /** What the symbol predicts for a2 (flat bands) and a1 (edge modes), beside the fits. */
+  prediction: SymbolPrediction;
   /** What N means and the classification thresholds of the last size. */
   thresholds: Classification['thresholds'];
 }
@@ -162,6 +165,7 @@ export function sweep(fw: Framework, options: SweepOptions): SweepResult {
     fits,
     polynomialFits,
     linearSize: rule,
+    prediction: symbolPrediction(framework, boundary, rows, N),
     thresholds: {
       ...(last?.thresholds ?? {}),
       linearSize: rule,
