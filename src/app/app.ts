@@ -508,6 +508,7 @@ export class App {
     this.resultState = snapshot;
     this.model = buildScene(result.geometry);
     this.stage.setScene(this.model);
+    this.extrasPanel.resultChanged();
     const gap = result.counts.gap;
     if (gap.ambiguous) {
       this.message('ambiguous', {

@@ -5,7 +5,7 @@
  * An explicit cancel first asks the worker to stop at its next checkpoint and terminates it if
  * it has not stopped within CANCEL_GRACE_MS.
  */
-import type { AnalyseJob, AnalyseResult, PhaseMapData, PhaseMapJob, SweepData, SweepJob, WorkerError, WorkerFeatures, WorkerRequest, WorkerResponse } from '../worker/protocol.js';
+import type { AnalyseJob, AnalyseResult, EdgesData, EdgesJob, PhaseMapData, PhaseMapJob, SweepData, SweepJob, WorkerError, WorkerFeatures, WorkerRequest, WorkerResponse } from '../worker/protocol.js';
 
 export const CANCEL_GRACE_MS = 200;
 
@@ -30,7 +30,8 @@ interface Pending {
 type Job =
   | { type: 'analyse'; job: AnalyseJob }
   | { type: 'phasemap'; job: PhaseMapJob }
-  | { type: 'sweep'; job: SweepJob };
+  | { type: 'sweep'; job: SweepJob }
+  | { type: 'edges'; job: EdgesJob };
 
 function spawn(): Worker {
   return new Worker(new URL('../worker/worker.ts', import.meta.url), { type: 'module', name: 'shimmy-compute' });
@@ -138,6 +139,8 @@ class Channel {
 export class ComputeClient {
   private analysis = new Channel();
   private spectrum = new Channel();
+  /** Edge physics runs beside a phase map or a sweep (its worker starts on the first request). */
+  private edgeChannel = new Channel();
 
   features(): Promise<WorkerFeatures> {
     return this.analysis.featureList();
@@ -151,6 +154,12 @@ export class ComputeClient {
   sweep(job: SweepJob, onProgress?: ProgressListener): Promise<SweepData> {
     return this.spectrum.run({ type: 'sweep', job }, onProgress);
   }
+  edges(job: EdgesJob, onProgress?: ProgressListener): Promise<EdgesData> {
+    return this.edgeChannel.run({ type: 'edges', job }, onProgress);
+  }
+  cancelEdges(): Promise<void> {
+    return this.edgeChannel.cancel();
+  }
   get analysing(): boolean {
     return this.analysis.busy;
   }
@@ -163,5 +172,6 @@ export class ComputeClient {
   dispose(): void {
     this.analysis.dispose();
     this.spectrum.dispose();
+    this.edgeChannel.dispose();
   }
 }

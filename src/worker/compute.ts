@@ -11,9 +11,15 @@ import { CancelledError, throwIfAborted } from '../flex/solver.js';
 import { countsOf } from '../flex/spaces.js';
 import type { CVec } from '../linalg/complex.js';
 import { phaseMap } from '../spectrum/phasemap.js';
+import { zeroTopology } from '../spectrum/zero-set.js';
 import { sweep } from '../flex/sweep.js';
+import { sideWeights } from '../flex/side-weights.js';
+import { edges } from '../edges/edges.js';
 import { geometryOf } from './geometry.js';
-import type { AnalyseJob, AnalyseResult, ModeData, PhaseMapData, PhaseMapJob, StressData, SweepData, SweepJob, WorkerError, WorkerFeatures } from './protocol.js';
+import type { AnalyseJob, AnalyseResult, EdgesData, EdgesJob, ModeData, PhaseMapData, PhaseMapJob, StressData, SweepData, SweepJob, WorkerError, WorkerFeatures } from './protocol.js';
+
+/** Side weights need the whole flex basis: computed up to this many columns (as `shimmy classify` does by default). */
+export const SIDE_WEIGHTS_MAX_DOF = 2400;
 
 export interface Hooks {
   onProgress?: (fraction: number, stage: string) => void;
@@ -135,6 +141,11 @@ export async function analyse(job: AnalyseJob, hooks: Hooks = {}): Promise<Analy
     classification = { counts, thresholds: { ...c.thresholds } };
     if (c.shortStripFlexes !== undefined) classification.shortStripFlexes = c.shortStripFlexes;
     if (c.warnings?.length) classification.warnings = [...c.warnings];
+    if (analysis.dof <= SIDE_WEIGHTS_MAX_DOF) classification.sideWeights = { ...sideWeights(supercell, analysis) };
+    else {
+      classification.sideWeights = null;
+      classification.sideWeightsNote = `not computed: ${analysis.dof} columns is over ${SIDE_WEIGHTS_MAX_DOF} (they need the whole flex basis)`;
+    }
   } else {
     modes = basis.vectors.map((v) => {
       const { re, im } = split(v, analysis.real);
@@ -159,6 +170,10 @@ export async function runPhaseMap(job: PhaseMapJob, hooks: Hooks = {}): Promise<
     signal: hooks.signal,
     onProgress: (p) => hooks.onProgress?.(p.fraction, p.stage),
   });
+  await hooks.checkpoint?.();
+  throwIfAborted(hooks.signal);
+  hooks.onProgress?.(1, 'charges of the zero set');
+  const topology = zeroTopology(job.framework, pm);
   const k = pm.detection ? pm.detection.index - 1 : 0;
   const field = pm.smallest[Math.min(k, pm.smallest.length - 1)] ?? new Float64Array(pm.grid * pm.grid);
   return {
@@ -173,7 +188,23 @@ export async function runPhaseMap(job: PhaseMapJob, hooks: Hooks = {}): Promise<
     lines: pm.zeroSet.lines.map((l) => ({ p: l.p, q: l.q, c: l.c, support: l.support, kernel: l.kernel })),
     isolated: pm.zeroSet.isolated.map((z) => ({ theta: [z.theta[0], z.theta[1]], kernel: z.kernel })),
     points: pm.zeroSet.points.length,
+    zeroPoints: topology.zeroPoints.map((z) => ({ theta: [z.theta[0], z.theta[1]], dimKer: z.dimKer, charge: z.charge })),
+    zeroCurves: topology.zeroCurves.map((c) => ({ points: c.points.map((p) => [p[0], p[1]] as [number, number]), dimKer: c.dimKer })),
+    nearZeros: topology.nearZeros.map((z) => ({ theta: [z.theta[0], z.theta[1]], sigma: z.sigma, rise: z.rise })),
   };
+}
+
+/** Edge physics along a1 and along a2 at the job's phase, each with its ξ(θ) table and strip count. */
+export async function runEdges(job: EdgesJob, hooks: Hooks = {}): Promise<EdgesData> {
+  const out: Partial<EdgesData> = { phase: job.phase };
+  for (const [i, along] of (['a1', 'a2'] as const).entries()) {
+    await hooks.checkpoint?.();
+    throwIfAborted(hooks.signal);
+    hooks.onProgress?.(i / 2, `edges along ${along}`);
+    out[along] = JSON.parse(JSON.stringify(edges({ framework: job.framework, phase: job.phase, along, grid: job.grid }))) as EdgesData['a1'];
+  }
+  hooks.onProgress?.(1, 'done');
+  return out as EdgesData;
 }
 
 export async function runSweep(job: SweepJob, hooks: Hooks = {}): Promise<SweepData> {

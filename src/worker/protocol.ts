@@ -15,6 +15,8 @@ import type { Framework, Vec2 } from '../framework/types.js';
 import type { Problem } from '../errors.js';
 import type { SolverChoice } from '../flex/solver.js';
 import type { SweepResult } from '../flex/sweep.js';
+import type { SideWeights } from '../flex/side-weights.js';
+import type { EdgesResult } from '../edges/edges.js';
 
 /** One supercell analysis: what `shimmy count` does, plus bases and classes for display. */
 export interface AnalyseJob {
@@ -52,10 +54,20 @@ export interface SweepJob {
   strip: number;
 }
 
+/** Edge physics at one edge phase, both edge directions (src/edges/edges.ts). */
+export interface EdgesJob {
+  framework: Framework;
+  /** Edge phase θ in turns. */
+  phase: number;
+  /** Edge phases k/grid for the ξ(θ) table. */
+  grid: number;
+}
+
 export type WorkerRequest =
   | { type: 'analyse'; id: number; job: AnalyseJob }
   | { type: 'phasemap'; id: number; job: PhaseMapJob }
   | { type: 'sweep'; id: number; job: SweepJob }
+  | { type: 'edges'; id: number; job: EdgesJob }
   | { type: 'cancel'; id: number };
 
 /** The supercell as drawn: joints and the rows of the rigidity matrix (kept and grounded bars). */
@@ -108,6 +120,9 @@ export interface ClassificationData {
   thresholds: Record<string, number | string>;
   shortStripFlexes?: number;
   warnings?: string[];
+  /** Flex weight per side of the supercell (src/flex/side-weights.ts); null when not computed (see sideWeightsNote). */
+  sideWeights?: SideWeights | null;
+  sideWeightsNote?: string;
 }
 
 export interface AnalyseResult {
@@ -141,10 +156,21 @@ export interface PhaseMapData {
   lines: { p: number; q: number; c: number; support: number; kernel: number }[];
   isolated: { theta: [number, number]; kernel: number }[];
   points: number;
+  /** The zero set's topology (src/spectrum/zero-set.ts): isolated zeros with their charge, curves, near-zeros. */
+  zeroPoints: { theta: [number, number]; dimKer: number; charge: number | null }[];
+  zeroCurves: { points: [number, number][]; dimKer: number }[];
+  nearZeros: { theta: [number, number]; sigma: number; rise: number }[];
 }
 
 /** A size sweep result (src/flex/sweep.ts's SweepResult is plain data already). */
 export type SweepData = SweepResult;
+
+/** Edge physics along each edge direction at the job's phase (EdgesResult is plain data). */
+export interface EdgesData {
+  phase: number;
+  a1: EdgesResult;
+  a2: EdgesResult;
+}
 
 export interface WorkerFeatures {
   classify: boolean;
@@ -168,6 +194,7 @@ export type WorkerResponse =
   | { type: 'result'; id: number; result: AnalyseResult }
   | { type: 'phasemap-result'; id: number; result: PhaseMapData }
   | { type: 'sweep-result'; id: number; result: SweepData }
+  | { type: 'edges-result'; id: number; result: EdgesData }
   | { type: 'error'; id: number; error: WorkerError };
 
 /** Typed arrays to transfer with a result. */

@@ -4,7 +4,7 @@
  * message can abort the run; inside one long core call (a dense SVD) it cannot, and the app
  * terminates and respawns the worker instead.
  */
-import { analyse, features, runPhaseMap, runSweep, toWorkerError, type Hooks } from './compute.js';
+import { analyse, features, runEdges, runPhaseMap, runSweep, toWorkerError, type Hooks } from './compute.js';
 import { transferablesOf, type WorkerRequest, type WorkerResponse } from './protocol.js';
 
 interface Port {
@@ -51,6 +51,8 @@ port.onmessage = (ev) => {
       } else if (req.type === 'sweep') {
         const result = await runSweep(req.job, hooks);
         port.postMessage({ type: 'sweep-result', id: req.id, result });
+      } else if (req.type === 'edges') {
+        port.postMessage({ type: 'edges-result', id: req.id, result: await runEdges(req.job, hooks) });
       }
     } catch (e) {
       port.postMessage({ type: 'error', id: req.id, error: toWorkerError(e) });
