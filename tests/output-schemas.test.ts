@@ -32,6 +32,7 @@ const validators = {
   spectrum: validator('spectrum.schema.json'),
   edges: validator('edges.schema.json'),
   modes: validator('modes.schema.json'),
+  'twist-sweep': validator('twist-sweep.schema.json'),
 };
 type Kind = keyof typeof validators;
 
@@ -65,7 +66,7 @@ function thinFramework(): string {
 
 describe('every schema', () => {
   it('is valid draft 2020-12 and names its schemaVersion as a constant', () => {
-    const names: Record<Kind, string> = { count: 'shimmy.count/1', classify: 'shimmy.classify/1', sweep: 'shimmy.sweep/1', spectrum: 'shimmy.spectrum/1', edges: 'shimmy.edges/1', modes: MODE_DATA_SCHEMA };
+    const names: Record<Kind, string> = { count: 'shimmy.count/1', classify: 'shimmy.classify/1', sweep: 'shimmy.sweep/1', spectrum: 'shimmy.spectrum/1', edges: 'shimmy.edges/1', modes: MODE_DATA_SCHEMA, 'twist-sweep': 'shimmy.twist-sweep/1' };
     for (const kind of Object.keys(validators) as Kind[]) {
       const s = JSON.parse(readFileSync(join(schemaDir, `${kind}.schema.json`), 'utf8'));
       expect(s.$schema).toBe('https://json-schema.org/draft/2020-12/schema');
@@ -136,6 +137,10 @@ describe('shimmy sweep --json', () => {
     expect(o.schemaVersion).toBe('shimmy.sweep/1');
     expect((o.rows as unknown[]).length).toBe(3);
     await validOutput('sweep', ['sweep', 'gallery:kagome', '--cells', '2..3', '--bc', 'twist:0.25,0.25', '--json']);
+  });
+  it('a twist sweep', async () => {
+    const o = await validOutput('twist-sweep', ['sweep', 'gallery:kagome', '--cells', '3x3', '--twist', '0..0.5:0.25', '--json']);
+    expect((o.rows as { theta: number }[]).map((r) => r.theta)).toEqual([0, 0.25, 0.5]);
   });
 });
 

@@ -3,10 +3,10 @@ import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { parseArgs } from '../src/cli/args.js';
 import type { CliIO, Command } from '../src/cli/command.js';
-import { parseSizeList, sweepCommand } from '../src/cli/sweep.js';
+import { parsePhaseList, parseSizeList, sweepCommand } from '../src/cli/sweep.js';
 import { InputError } from '../src/errors.js';
 import { CancelledError } from '../src/flex/solver.js';
-import { growthFit, linearSizes, sweep, type SweepRow } from '../src/flex/sweep.js';
+import { growthFit, linearSizes, sweep, twistSweep, type SweepRow } from '../src/flex/sweep.js';
 import { buildGallery } from '../src/framework/gallery.js';
 import { parseFramework } from '../src/framework/validate.js';
 
@@ -198,5 +198,24 @@ describe('the symbol beside the fits: a2 from flat bands, a1 from edge modes', (
     expect(r.polynomialFits.flexes.a2!).toBeCloseTo(1, 8);
     expect(r.prediction.polynomial).toBeNull();
     expect(r.prediction.note).toMatch(/not square/);
+  });
+});
+
+describe('twist-phase sweeps', () => {
+  it('kagome 5×5 with both axes twisted by θ: 15 flexes at θ = 0, 5 elsewhere (reference note §3: 3N at zero twist; at equal phases only the (a2 − a1) family of lines survives)', () => {
+    const r = twistSweep(buildGallery('gallery:kagome'), { cells: [5, 5], boundary: 'periodic', phases: [0, 0.1, 0.3, 0.5] });
+    expect(r.rows.map((x) => x.theta)).toEqual([0, 0.1, 0.3, 0.5]);
+    expect(r.rows.map((x) => x.flexes)).toEqual([15, 5, 5, 5]);
+    expect(r.rows.map((x) => x.selfStresses)).toEqual([15, 5, 5, 5]);
+    expect(r.rows[1].boundary).toBe('twist:0.1,0.1');
+    // one axis twisted, the other free: the twist reaches only x
+    const one = twistSweep(buildGallery('gallery:kagome'), { cells: [4, 3], boundary: 'x=periodic,y=free', phases: [0.25] });
+    expect(one.rows[0].boundary).toMatch(/^x=twist:0.25/);
+  });
+  it('refuses a boundary with no twisted axis and a phase that is not a number, naming the field', () => {
+    expect(() => twistSweep(buildGallery('gallery:kagome'), { cells: [3, 3], boundary: 'free', phases: [0.1] })).toThrow(/boundary/);
+    expect(() => twistSweep(buildGallery('gallery:kagome'), { cells: [3, 3], boundary: 'periodic', phases: [NaN] })).toThrow(/phases\[0\]/);
+    expect(() => parsePhaseList('0..0.5')).toThrow(/needs a step/);
+    expect(parsePhaseList('0..0.3:0.1,0.75')).toEqual([0, 0.1, 0.2, 0.3, 0.75]);
   });
 });

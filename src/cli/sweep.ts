@@ -1,6 +1,6 @@
 /** `shimmy sweep`: classify the flexes at a series of sizes and fit their growth with N. */
 import { InputError } from '../errors.js';
-import { SWEEP_QUANTITIES, sweep, type SweepResult, type SweepRow } from '../flex/sweep.js';
+import { SWEEP_QUANTITIES, sweep, twistSweep, type SweepResult, type SweepRow, type TwistSweepRow } from '../flex/sweep.js';
 import { MAX_CELLS_PER_AXIS } from '../supercell/supercell.js';
 import { describeBoundary } from '../supercell/boundary.js';
 import { progressLine } from './progress.js';
@@ -59,6 +59,39 @@ export function parseSizeList(text: string, flag = '--cells'): [number, number][
   return out;
 }
 
+const PHASE_HELP = 'write phases in turns as decimals: A..B:STEP (e.g. 0..0.5:0.05) or a comma list (e.g. 0,0.25,0.3333)';
+
+/** The phases of `--twist`: a comma list of numbers and ranges A..B:STEP (STEP required, values rounded to 12 digits). */
+export function parsePhaseList(text: string, flag = '--twist'): number[] {
+  const bad = (what: string): never => {
+    throw new InputError(`The phases "${text}" cannot be used:`, [{ where: flag, what, fix: PHASE_HELP }]);
+  };
+  const num = (t: string): number => {
+    const v = Number(t.trim());
+    if (t.trim() === '' || !Number.isFinite(v)) return bad(`"${t.trim()}" is not a number of turns`);
+    return v;
+  };
+  const out: number[] = [];
+  if (text.trim() === '') bad('no phase given');
+  for (const part of text.split(',')) {
+    const range = /^(.*)\.\.([^:]*)(?::(.*))?$/.exec(part.trim());
+    if (!range) {
+      out.push(num(part));
+      continue;
+    }
+    const [a, b] = [num(range[1]), num(range[2])];
+    if (range[3] === undefined) bad(`the range "${part.trim()}" needs a step, e.g. ${a}..${b}:0.05`);
+    const step = num(range[3] as string);
+    if (!(step > 0)) bad(`the step of "${part.trim()}" must be positive`);
+    if (b < a) bad(`"${part.trim()}" runs backwards; write the smaller phase first`);
+    const n = Math.floor((b - a) / step + 1e-9);
+    if (n > 1000) bad(`"${part.trim()}" has ${n + 1} phases, over 1000`);
+    for (let k = 0; k <= n; k++) out.push(Number((a + k * step).toPrecision(12)));
+  }
+  if (out.length > 1000) bad(`${out.length} phases is too many for one sweep (at most 1000)`);
+  return out;
+}
+
 const COLUMNS: (keyof SweepRow)[] = ['N1', 'N2', 'joints', 'bars', 'flexes', 'trivial', 'selfStresses', 'local', 'line', 'decaying', 'bulk', 'seconds'];
 
 function cell(row: SweepRow, k: keyof SweepRow): string {
@@ -104,10 +137,11 @@ function fitLines(r: SweepResult): string[] {
 export const sweepCommand: Command = {
   name: 'sweep',
   summary: 'Classify the flexes at a series of supercell sizes and fit how each class count grows with N.',
-  usage: 'shimmy sweep FRAMEWORK --cells A..B[:STEP] [--bc SPEC] [--window 3] [--strip 2] [--tol 1e-9] [--solver auto] [--csv | --json]',
+  usage: 'shimmy sweep FRAMEWORK --cells A..B[:STEP] [--bc SPEC] [--twist A..B:STEP] [--window 3] [--strip 2] [--tol 1e-9] [--solver auto] [--csv | --json]',
   flags: [
     { name: '--cells', value: 'SIZES', help: 'sizes: A..B[:STEP] (squares), A1xA2..B1xB2[:STEP] (both sides together) or a comma list', default: '4..8' },
     ...SUPERCELL_FLAGS.filter((f) => f.name !== '--cells'),
+    { name: '--twist', value: 'PHASES', help: 'sweep the twist phase instead of the size: one size in --cells, and every twisted axis of --bc (default periodic) takes each phase in turn (A..B:STEP or a comma list, turns)' },
     ...CLASSIFY_FLAGS,
     { name: '--csv', help: 'print the rows as CSV on stdout (header first); the growth fits go to stderr, so a redirected file stays plain CSV' },
     { name: '--json', help: 'print one JSON object: rows, polynomialFits, fits and thresholds' },
@@ -124,10 +158,13 @@ export const sweepCommand: Command = {
     'corner terms; exact fractions where they reproduce every count), with the log-log exponent as a',
     'secondary figure. Every size runs the full analysis, so the time grows',
     'quickly with size for the dense solver.',
+    'With --twist the size stays fixed and the twist phase θ runs instead: every twisted (or periodic) axis of --bc',
+    'takes θ in turn (one row per phase, first column theta; no growth fits).',
     '',
     ...CLASSIFY_DETAILS,
   ],
   run(args, io) {
+    if (args.flags.has('--twist')) return runTwist(args, io);
     const sizes = parseSizeList((args.flags.get('--cells') as string | undefined) ?? '4..8');
     if (args.flags.has('--csv') && args.flags.has('--json')) {
       throw new InputError('sweep prints one format:', [{ where: '--csv --json', what: 'both formats were asked for', fix: 'write either --csv or --json (or neither for a table)' }]);
@@ -175,3 +212,51 @@ export const sweepCommand: Command = {
     return 0;
   },
 };
+
+const TWIST_COLUMNS: (keyof TwistSweepRow)[] = ['theta', ...COLUMNS.filter((k) => k !== 'N1' && k !== 'N2')];
+
+function runTwist(args: Parameters<Command['run']>[0], io: Parameters<Command['run']>[1]): number {
+  const phases = parsePhaseList(args.flags.get('--twist') as string);
+  const sizes = parseSizeList((args.flags.get('--cells') as string | undefined) ?? '6x6');
+  if (sizes.length !== 1) throw new InputError('A twist sweep runs at one size:', [{ where: '--cells', what: `${sizes.length} sizes were given`, fix: 'give one size with --twist, e.g. --cells 6x6' }]);
+  if (args.flags.has('--csv') && args.flags.has('--json')) {
+    throw new InputError('sweep prints one format:', [{ where: '--csv --json', what: 'both formats were asked for', fix: 'write either --csv or --json (or neither for a table)' }]);
+  }
+  const flags = new Map(args.flags);
+  flags.set('--cells', `${sizes[0][0]}x${sizes[0][1]}`);
+  if (!flags.has('--bc')) flags.set('--bc', 'periodic');
+  const a = readSupercellArgs({ positional: args.positional, flags }, io, 'sweep');
+  const opts = readClassifyFlags(args);
+  checkSize(a, true);
+  const mode = args.flags.has('--csv') ? 'csv' : args.flags.has('--json') ? 'json' : 'table';
+  const widths = TWIST_COLUMNS.map((k) => Math.max(k.length, 7));
+  const text = (row: TwistSweepRow, k: keyof TwistSweepRow) => (k === 'theta' ? String(row.theta) : cell(row, k as keyof SweepRow));
+  if (mode === 'table') {
+    io.out(`shimmy sweep: ${titleOf(a.framework.name, a.spec)}\n  ${a.cells[0]}×${a.cells[1]} cells, ${describeBoundary(a.boundary)}; twist phase θ over ${phases.length} value${phases.length === 1 ? '' : 's'} (every twisted axis)\n\n`);
+    io.out('  ' + TWIST_COLUMNS.map((k, i) => k.padStart(widths[i])).join(' ') + '\n');
+  }
+  if (mode === 'csv') io.out(TWIST_COLUMNS.join(',') + '\n');
+  const progress = progressLine(io, 'sweep');
+  const result = twistSweep(a.framework, {
+    cells: a.cells,
+    phases,
+    boundary: a.boundary,
+    tolerance: a.tolerance,
+    solver: a.solver,
+    memoryLimit: a.memoryLimit,
+    window: opts.window,
+    strip: opts.strip,
+    onProgress: progress.report,
+    onRow: (row) => {
+      if (mode === 'table') io.out('  ' + TWIST_COLUMNS.map((k, i) => text(row, k).padStart(widths[i])).join(' ') + '\n');
+      if (mode === 'csv') io.out(TWIST_COLUMNS.map((k) => (k === 'seconds' ? String(row.seconds) : text(row, k))).join(',') + '\n');
+    },
+  });
+  progress.done();
+  if (mode === 'json') {
+    // schema/twist-sweep.schema.json
+    io.out(safeJson(JSON.stringify({ schemaVersion: 'shimmy.twist-sweep/1', framework: a.spec, name: a.framework.name ?? null, cells: a.cells, boundary: a.bcText, ...result }, null, 2)) + '\n');
+  }
+  if (mode === 'table') for (const r of result.rows.filter((x) => x.warnings.length)) io.out(`\nWarning at θ = ${r.theta}: ${r.warnings.join('; ')}\n`);
+  return 0;
+}

@@ -13,7 +13,7 @@
 import { InputError } from '../errors.js';
 import type { Framework } from '../framework/types.js';
 import { checkFramework } from '../framework/validate.js';
-import { parseBoundary, type Boundary } from '../supercell/boundary.js';
+import { formatBoundary, parseBoundary, type Boundary } from '../supercell/boundary.js';
 import { checkCells } from '../supercell/supercell.js';
 import { analyse } from '../api/run.js';
 import { FLEX_CLASSES, type Classification, type FlexClass } from './classes.js';
@@ -114,6 +114,36 @@ export function linearSizes(rows: { N1: number; N2: number }[]): { sizes: number
   return { sizes: rows.map((r) => Math.sqrt(r.N1 * r.N2)), rule: '√(N1·N2)' };
 }
 
+/** One size and boundary: the analysis and classification of a sweep row, timed. */
+function sweepRow(framework: Framework, cells: [number, number], boundary: Boundary, options: Omit<SweepOptions, 'sizes' | 'onRow' | 'boundary'>): { row: SweepRow; classification: Classification } {
+  const t0 = performance.now();
+  // no size check here, as before: the CLI checks every size first, in its own wording
+  const { analysis, classification: c } = analyse({
+    framework,
+    cells,
+    boundary,
+    tolerance: options.tolerance,
+    solver: options.solver,
+    memoryLimit: options.memoryLimit,
+    signal: options.signal,
+    classify: { window: options.window, strip: options.strip },
+    sizeCheck: false,
+  });
+  const row: SweepRow = {
+    N1: cells[0],
+    N2: cells[1],
+    joints: analysis.joints,
+    bars: analysis.bars,
+    flexes: analysis.flexes,
+    trivial: analysis.trivialFlexes,
+    selfStresses: analysis.selfStresses,
+    ...c.counts,
+    seconds: (performance.now() - t0) / 1000,
+    warnings: c.warnings ?? [],
+  };
+  return { row, classification: c };
+}
+
 export function sweep(fw: Framework, options: SweepOptions): SweepResult {
   const framework = checkFramework(fw);
   const boundary = typeof options.boundary === 'string' ? parseBoundary(options.boundary) : options.boundary;
@@ -126,32 +156,8 @@ export function sweep(fw: Framework, options: SweepOptions): SweepResult {
   options.sizes.forEach((size, i) => {
     throwIfAborted(options.signal);
     options.onProgress?.({ fraction: i / options.sizes.length, stage: `${size[0]}×${size[1]}`, size });
-    const t0 = performance.now();
-    // no size check here, as before: the CLI checks every size first, in its own wording
-    const { analysis, classification: c } = analyse({
-      framework,
-      cells: size,
-      boundary,
-      tolerance: options.tolerance,
-      solver: options.solver,
-      memoryLimit: options.memoryLimit,
-      signal: options.signal,
-      classify: { window: options.window, strip: options.strip },
-      sizeCheck: false,
-    });
-    last = c;
-    const row: SweepRow = {
-      N1: size[0],
-      N2: size[1],
-      joints: analysis.joints,
-      bars: analysis.bars,
-      flexes: analysis.flexes,
-      trivial: analysis.trivialFlexes,
-      selfStresses: analysis.selfStresses,
-      ...c.counts,
-      seconds: (performance.now() - t0) / 1000,
-      warnings: c.warnings ?? [],
-    };
+    const { row, classification } = sweepRow(framework, size, boundary, options);
+    last = classification;
     rows.push(row);
     options.onRow?.(row);
   });
@@ -173,4 +179,53 @@ export function sweep(fw: Framework, options: SweepOptions): SweepResult {
       polynomialFit: `least squares of count against a2·N² + a1·N + a0 over all sizes (at least 3 distinct N); exact when fractions with denominator ≤ ${MAX_DENOMINATOR} reproduce every count to ${EXACT_TOLERANCE}`,
     },
   };
+}
+
+export interface TwistSweepOptions extends Omit<SweepOptions, 'sizes' | 'onRow'> {
+  cells: [number, number];
+  /** Twist phases θ in turns; each replaces the phase of every twisted axis of `boundary`. */
+  phases: number[];
+  onRow?: (row: TwistSweepRow) => void;
+}
+
+export interface TwistSweepRow extends SweepRow {
+  theta: number;
+  /** The boundary of this row in the --bc grammar. */
+  boundary: string;
+}
+
+/**
+ * Counts and classes at one supercell size over a series of twist phases: the boundary's twisted
+ * axes all take the phase θ in turn (a periodic axis is a twisted one at θ = 0). At least one
+ * axis must be twisted. No growth fits: the size does not change.
+ */
+export function twistSweep(fw: Framework, options: TwistSweepOptions): { rows: TwistSweepRow[]; thresholds: Classification['thresholds'] } {
+  const framework = checkFramework(fw);
+  const boundary = typeof options.boundary === 'string' ? parseBoundary(options.boundary) : options.boundary;
+  checkCells(options.cells, 'cells');
+  const problems = [];
+  if (boundary.x.kind !== 'twist' && boundary.y.kind !== 'twist')
+    problems.push({ where: 'boundary', what: 'no axis is twisted, so a twist phase has nothing to act on', fix: 'give a boundary with a periodic or twisted axis, e.g. periodic or x=periodic,y=free' });
+  if (!Array.isArray(options.phases) || options.phases.length === 0) problems.push({ where: 'phases', what: 'no twist phase was given', fix: 'give phases in turns, e.g. 0..0.5:0.1' });
+  else options.phases.forEach((t, i) => {
+    if (!Number.isFinite(t)) problems.push({ where: `phases[${i}]`, what: `${String(t)} is not a finite number`, fix: 'give phases in turns, e.g. 0.25' });
+  });
+  if (problems.length) throw new InputError('The twist sweep cannot run:', problems);
+  const rows: TwistSweepRow[] = [];
+  let last: Classification | undefined;
+  options.phases.forEach((theta, i) => {
+    throwIfAborted(options.signal);
+    options.onProgress?.({ fraction: i / options.phases.length, stage: `θ = ${theta}` });
+    const b: Boundary = {
+      x: boundary.x.kind === 'twist' ? { kind: 'twist', theta } : boundary.x,
+      y: boundary.y.kind === 'twist' ? { kind: 'twist', theta } : boundary.y,
+    };
+    const { row: base, classification } = sweepRow(framework, options.cells, b, options);
+    last = classification;
+    const row: TwistSweepRow = { theta, boundary: formatBoundary(b), ...base };
+    rows.push(row);
+    options.onRow?.(row);
+  });
+  options.onProgress?.({ fraction: 1, stage: 'done' });
+  return { rows, thresholds: { ...(last?.thresholds ?? {}), twist: 'every twisted axis of the boundary takes the phase θ of the row' } };
 }
