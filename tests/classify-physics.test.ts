@@ -103,6 +103,13 @@ describe('twisted kagome, free: no straight bond lines, so no line flexes', () =
     // each acute corner adds one flex per window size: never saturates (derivation: ours)
     expect(c.windowDependence!.map((x) => x.cornerConfined)).toEqual([2, 4, 6, 8]);
   });
+  it('a strip one cell across cannot show the lines that cross it, and says so (kagome 1×20 against 4×20, x periodic)', () => {
+    const thin = classify('gallery:kagome', [1, 20], 'x=periodic,y=free');
+    expect(thin.warnings!.join(' ')).toMatch(/every strip along \(0, 1\) holds the whole 1×20 supercell/);
+    const wide = classify('gallery:kagome', [4, 20], 'x=periodic,y=free');
+    expect((wide.warnings ?? []).join(' ')).not.toMatch(/holds the whole/);
+    expect(wide.counts.line).toBe(wide.flexes);
+  });
   it('a strip direction with no straight bond line creates no line flex (and says so)', () => {
     const c = classify(tk, [6, 6], 'free', { directions: [[1, 0]] });
     expect(c.counts.line).toBe(0);

@@ -141,6 +141,11 @@ export function classifyFlexes(sc: Supercell, analysis: FlexAnalysis, options: C
   };
   const windows = windowsOf(ax, window);
   const strips = directions.flatMap((d) => stripsOf(ax, d, strip)).sort((a, b) => a.width - b.width);
+  for (const d of directions)
+    if (!strips.some((r) => r.direction![0] === d[0] && r.direction![1] === d[1]))
+      warnings.push(
+        `every strip along (${d[0]}, ${d[1]}) holds the whole ${sc.cells[0]}×${sc.cells[1]} supercell, so flexes on those lines cannot be told from bulk ones here; use a supercell at least 2 cells across that direction`,
+      );
   const totalSteps = windows.length + 2 * strips.length + 1;
   let step = 0;
   const tick = (stage: string) => {
