@@ -664,3 +664,33 @@ describe('extents: cells spanned along a1 and a2, never more than the supercell'
     for (const m of r.c.modes.filter((x) => x.class === 'local')) expect(m.extents[0]).toBeLessThanOrEqual(3);
   });
 });
+
+describe('decaying or bulk: decisions near a threshold are flagged', () => {
+  it('a profile decaying from the bottom side is marginal when its head weight is within 2 % of the threshold, not when it is far above', async () => {
+    const { geometryOf, decayDecision, DECISION_MARGIN } = await import('../src/flex/classify/metrics.js');
+    const { HEAD_WEIGHT } = await import('../src/flex/classify/thresholds.js');
+    const { buildSupercell } = await import('../src/supercell/supercell.js');
+    const { parseBoundary } = await import('../src/supercell/boundary.js');
+    const sc = buildSupercell(buildGallery('gallery:square'), [10, 10], parseBoundary('free'));
+    const geo = geometryOf(sc);
+    // squared amplitude q^row, uniform along the bottom side (one joint per cell, row = j)
+    const profile = (q: number) => Float64Array.from({ length: sc.jointCount }, (_, k) => q ** Math.floor(k / 10));
+    const head = (q: number) => decayDecision(geo, profile(q)).fit?.headWeight ?? 0;
+    // head weight falls as q grows: bisect for a q just above the threshold
+    let lo = 0.01;
+    let hi = 0.99;
+    for (let it = 0; it < 60; it++) {
+      const mid = (lo + hi) / 2;
+      if (head(mid) >= HEAD_WEIGHT * (1 + DECISION_MARGIN / 2)) lo = mid;
+      else hi = mid;
+    }
+    const near = decayDecision(geo, profile(lo));
+    expect(near.fit).not.toBeNull();
+    expect(near.fit!.anchor.name).toBe('bottom');
+    expect(near.fit!.headWeight).toBeLessThan(HEAD_WEIGHT * (1 + DECISION_MARGIN));
+    expect(near.marginal).toBe(true);
+    const far = decayDecision(geo, profile(0.05));
+    expect(far.fit!.headWeight).toBeGreaterThan(0.95);
+    expect(far.marginal).toBe(false);
+  });
+});

@@ -92,7 +92,7 @@ import { KERNEL_INTERSECTION_MAX_COLUMNS } from './restricted-kernel.js';
 import { makeContext, type RestrictedMethod, type State } from './context.js';
 import { findLines, usableDirections } from './lines.js';
 import { confineCorners, findLocal } from './local.js';
-import { basicMetrics, decayOf, geometryOf, jointWeights } from './metrics.js';
+import { basicMetrics, DECISION_MARGIN, decayDecision, geometryOf, jointWeights } from './metrics.js';
 import { gcd, indexStrips, stripsOf, windowsOf } from './regions.js';
 import { splitByBoundaryDistance } from './rest-split.js';
 import { restOf } from './rest.js';
@@ -191,14 +191,21 @@ export function classifyFlexes(sc: Supercell, analysis: FlexAnalysis, options: C
   const cplx = rest.length > 0 && ctx.basisComplex();
   const pivots = pivotOrder(sc);
   const localised = [...(near.length ? scdm(near, cplx, pivots) : []), ...(far.length ? scdm(far, cplx, pivots) : [])];
+  let marginal = 0;
   for (const v of localised) {
     const w = jointWeights(v, J);
-    const fit = decayOf(geo, w);
+    const decision = decayDecision(geo, w);
+    const fit = decision.fit;
+    if (decision.marginal) marginal++;
     const base = basicMetrics(geo, w);
     if (fit) {
       modes.push({ class: 'decaying', vector: v, ...base, anchor: fit.anchor, decayLength: fit.xi, fitQuality: fit.r2, headWeight: fit.headWeight });
     } else modes.push({ class: 'bulk', vector: v, ...base });
   }
+  if (marginal > 0)
+    warnings.push(
+      `${marginal} of the ${localised.length} localised vectors of the rest pass or fail the decaying test within ${DECISION_MARGIN * 100} % of its thresholds (head weight ${HEAD_WEIGHT}, R² ${MIN_R2}): their decaying/bulk class can change with small changes of the sample`,
+    );
   tick('rest');
   lap('localise');
 

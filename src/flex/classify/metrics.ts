@@ -237,9 +237,25 @@ function anchorCandidates(geo: Geometry, w: Float64Array): { corners: AnchorFit[
   return { corners, sides, point };
 }
 
-/** Decaying or bulk for one localised vector of the rest. */
-export function decayOf(geo: Geometry, w: Float64Array): AnchorFit | null {
+/** Relative change of HEAD_WEIGHT and MIN_R2 under which a decaying/bulk decision counts as marginal. */
+export const DECISION_MARGIN = 0.02;
+
+/**
+ * Decaying or bulk for one localised vector of the rest, and whether that decision is marginal:
+ * it would change if HEAD_WEIGHT and MIN_R2 moved by DECISION_MARGIN (relative) either way.
+ */
+export function decayDecision(geo: Geometry, w: Float64Array): { fit: AnchorFit | null; marginal: boolean } {
   const { corners, sides, point } = anchorCandidates(geo, w);
   const best = (fits: AnchorFit[]) => fits.filter((f) => f.pass).sort((a, b) => a.meanDistance - b.meanDistance)[0];
-  return best(corners) ?? best(sides) ?? (point.pass ? point : null);
+  const fit = best(corners) ?? best(sides) ?? (point.pass ? point : null);
+  const passes = (f: AnchorFit, k: number) => f.rings >= 2 && Number.isFinite(f.xi) && f.headWeight >= HEAD_WEIGHT * k && f.r2 >= MIN_R2 * k;
+  const all = [...corners, ...sides, point];
+  const strict = all.some((f) => passes(f, 1 + DECISION_MARGIN));
+  const loose = all.some((f) => passes(f, 1 - DECISION_MARGIN));
+  return { fit, marginal: strict !== loose };
+}
+
+/** Decaying (the anchor fit) or bulk (null) for one localised vector of the rest. */
+export function decayOf(geo: Geometry, w: Float64Array): AnchorFit | null {
+  return decayDecision(geo, w).fit;
 }
