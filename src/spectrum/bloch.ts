@@ -44,7 +44,7 @@ import { boundaryIsReal, reduceTurns, type AxisRule, type Boundary } from '../su
 import { rigidityMatrix } from '../supercell/rigidity.js';
 import { buildSupercell, jointIndex, type Supercell } from '../supercell/supercell.js';
 import type { Framework } from '../framework/types.js';
-import { jacobiSingularValues, jacobiSvd } from './jacobi.js';
+import { jacobiSingularValues, jacobiSvd, jacobiWork, type JacobiWork } from './jacobi.js';
 import { SymbolAssembler, type DenseColumns } from './symbol.js';
 
 // ---------------------------------------------------------------------------------------------
@@ -85,13 +85,17 @@ function columnMajor(A: SparseMatrix, minRows: number): DenseColumns {
   return { re, im, ld };
 }
 
+/** Scratch of the Jacobi sweeps, shared by every block (they are solved one at a time). */
+let work: JacobiWork | undefined;
+
 /** Tiny blocks (one unit cell): one-sided Jacobi, accurate and free of per-call setup cost. */
 const JACOBI_BLOCKS: BlockSolver = {
   name: 'jacobi',
   singularValues(blk) {
     if (blk.rows === 0 || blk.cols === 0) return new Float64Array(0);
     const d = blk.dense(0);
-    return jacobiSingularValues(d.re, d.im, d.ld, blk.cols);
+    if (!work || work.wr.length < d.ld * blk.cols) work = jacobiWork(d.ld, blk.cols);
+    return jacobiSingularValues(d.re, d.im, d.ld, blk.cols, work);
   },
   nullSpace(A, dim) {
     const real = A.im === null;

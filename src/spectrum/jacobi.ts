@@ -26,12 +26,13 @@ const MAX_SWEEPS = 80;
  * The working copy the sweeps rotate: k = min(m, n) columns of length L — A itself when tall,
  * Aᴴ when wide (column r of Aᴴ is the conjugate of row r of A).
  */
-function workingColumns(re: Float64Array, im: Float64Array, m: number, n: number) {
+function workingColumns(re: Float64Array, im: Float64Array, m: number, n: number, work?: JacobiWork) {
   const tall = m >= n;
   const k = tall ? n : m;
   const L = tall ? m : n;
-  const wr = new Float64Array(k * L);
-  const wi = new Float64Array(k * L);
+  const reuse = work && work.wr.length >= k * L;
+  const wr = reuse ? work.wr.subarray(0, k * L) : new Float64Array(k * L);
+  const wi = reuse ? work.wi.subarray(0, k * L) : new Float64Array(k * L);
   if (tall) {
     wr.set(re.subarray(0, m * n));
     wi.set(im.subarray(0, m * n));
@@ -45,14 +46,24 @@ function workingColumns(re: Float64Array, im: Float64Array, m: number, n: number
   return { tall, k, L, wr, wi };
 }
 
+/** Scratch space reused across calls of the same size (the Bloch solver's thousands of blocks). */
+export interface JacobiWork {
+  wr: Float64Array;
+  wi: Float64Array;
+}
+
+export function jacobiWork(m: number, n: number): JacobiWork {
+  return { wr: new Float64Array(m * n), wi: new Float64Array(m * n) };
+}
+
 /**
  * The min(m, n) singular values of the complex m×n matrix A, in DESCENDING order.
  * `re` and `im` hold A column by column: entry (r, c) at index c·m + r.
  * The input arrays are not modified.
  */
-export function jacobiSingularValues(re: Float64Array, im: Float64Array, m: number, n: number): Float64Array {
+export function jacobiSingularValues(re: Float64Array, im: Float64Array, m: number, n: number, work?: JacobiWork): Float64Array {
   if (m === 0 || n === 0) return new Float64Array(0);
-  const { tall, k, L, wr, wi } = workingColumns(re, im, m, n);
+  const { k, L, wr, wi } = workingColumns(re, im, m, n, work);
   let fro2 = 0;
   for (let i = 0; i < wr.length; i++) fro2 += wr[i] * wr[i] + wi[i] * wi[i];
   rotateToOrthogonal(wr, wi, k, L, Math.sqrt(fro2));
