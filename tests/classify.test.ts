@@ -694,3 +694,24 @@ describe('decaying or bulk: decisions near a threshold are flagged', () => {
     expect(far.marginal).toBe(false);
   });
 });
+
+describe('decay lengths from the symbol beside the fits', () => {
+  it('side-anchored decaying flexes of a polarised deformed kagome carry the range of ξ from det Φ on their side (Kane & Lubensky, Nature Physics 10, 39 (2014): edge modes decay with the roots of det Φ)', async () => {
+    const { decaySpectrum } = await import('../src/edges/spectrum.js');
+    const fw = 'gallery:deformed-kagome?x1=0.1&x2=-0.1&x3=0.1';
+    const r = cached(fw, [10, 10], 'free');
+    const sided = r.c.modes.filter((m) => m.class === 'decaying' && m.anchor!.kind === 'side');
+    expect(sided.length).toBeGreaterThan(0);
+    for (const m of sided) {
+      const side = m.anchor!.name as 'bottom' | 'top' | 'left' | 'right';
+      const axis = side === 'bottom' || side === 'top' ? 'a1' : 'a2';
+      // independent recomputation of the range over k/10, k = 1 … 9
+      const xs = Array.from({ length: 9 }, (_, k) => decaySpectrum(buildGallery(fw), axis, (k + 1) / 10).roots.filter((x) => x.side === side).map((x) => x.decayCells!)).flat();
+      expect(m.symbolDecay![0]).toBeCloseTo(Math.min(...xs), 10);
+      expect(m.symbolDecay![1]).toBeCloseTo(Math.max(...xs), 10);
+      // the fit of one localised vector lands near the range (a mixture of those wave numbers)
+      expect(m.decayLength!).toBeGreaterThan(0.5 * m.symbolDecay![0]);
+      expect(m.decayLength!).toBeLessThan(2 * m.symbolDecay![1]);
+    }
+  });
+});

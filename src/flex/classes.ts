@@ -56,6 +56,11 @@ export interface ClassifiedMode {
   participation: number;
   /** Local and line flexes: the window or strip whose restricted kernel gave the vector. */
   region?: string;
+  /**
+   * Decaying flexes anchored at a side: [min, max] of ξ (cells) of the roots of det Φ on that side
+   * over the edge wave numbers k/N the side holds (src/flex/classify/side-decay.ts).
+   */
+  symbolDecay?: [number, number];
   /** Decaying flexes: R² of the fit of log amplitude against distance from the anchor. */
   fitQuality?: number;
   /** Decaying flexes: share of the squared amplitude within the head radius of the anchor. */

@@ -89,6 +89,8 @@ import { throwIfAborted } from '../solver.js';
 import type { FlexAnalysis } from '../spaces.js';
 import { AFFINE_IN_KERNEL, AFFINE_IN_REST, splitAffine } from './affine.js';
 import { KERNEL_INTERSECTION_MAX_COLUMNS } from './restricted-kernel.js';
+import { sideDecay, type SideDecay } from './side-decay.js';
+import type { Side } from '../../edges/spectrum.js';
 import { makeContext, type RestrictedMethod, type State } from './context.js';
 import { findLines, usableDirections } from './lines.js';
 import { confineCorners, findLocal } from './local.js';
@@ -192,6 +194,7 @@ export function classifyFlexes(sc: Supercell, analysis: FlexAnalysis, options: C
   const pivots = pivotOrder(sc);
   const localised = [...(near.length ? scdm(near, cplx, pivots) : []), ...(far.length ? scdm(far, cplx, pivots) : [])];
   let marginal = 0;
+  let decay: SideDecay | undefined;
   for (const v of localised) {
     const w = jointWeights(v, J);
     const decision = decayDecision(geo, w);
@@ -199,7 +202,8 @@ export function classifyFlexes(sc: Supercell, analysis: FlexAnalysis, options: C
     if (decision.marginal) marginal++;
     const base = basicMetrics(geo, w);
     if (fit) {
-      modes.push({ class: 'decaying', vector: v, ...base, anchor: fit.anchor, decayLength: fit.xi, fitQuality: fit.r2, headWeight: fit.headWeight });
+      const fromSymbol = fit.anchor.kind === 'side' ? (decay ??= sideDecay(sc))[fit.anchor.name as Side] : null;
+      modes.push({ class: 'decaying', vector: v, ...base, anchor: fit.anchor, decayLength: fit.xi, fitQuality: fit.r2, headWeight: fit.headWeight, ...(fromSymbol ? { symbolDecay: fromSymbol } : {}) });
     } else modes.push({ class: 'bulk', vector: v, ...base });
   }
   if (marginal > 0)
@@ -244,6 +248,7 @@ export function classifyFlexes(sc: Supercell, analysis: FlexAnalysis, options: C
       headRadius: 'max(1, floor(rings/4)) cells',
       minR2: MIN_R2,
       fit: 'least squares of ln(ring amplitude) against distance, rings weighted by their share of the squared amplitude',
+      symbolDecay: 'decaying flexes anchored at a side also carry the range of ξ (cells) of the roots of det Φ on that side over the edge wave numbers k/N it holds: the physics; decayLength is a fit to one localised vector that mixes those wave numbers',
       fitFloor: FIT_FLOOR,
       distance: 'whole cells: from a side, cells between; from a corner or point, the larger cell offset',
     },
