@@ -8,7 +8,8 @@ import { modeDataOfResult } from '../src/app/export/data.js';
 import { defaultState, type AppState } from '../src/app/state.js';
 import { parseArgs } from '../src/cli/args.js';
 import type { CliIO } from '../src/cli/command.js';
-import { exportModesCommand, SELF_STRESS_NOTE } from '../src/cli/export-modes.js';
+import { exportModesCommand } from '../src/cli/export-modes.js';
+import { classifyStresses } from '../src/stress/classify/classify.js';
 import { InputError } from '../src/errors.js';
 import { classifyFlexes } from '../src/flex/classify.js';
 import { analyseSupercell, countsOf } from '../src/flex/spaces.js';
@@ -283,7 +284,9 @@ describe('one format for the CLI and the app', () => {
   it('shimmy export-modes prints modesToJson / modesToCsv of the same run', () => {
     for (const c of [REAL, TWISTED]) {
       const r = c === REAL ? real : twisted;
-      const d: ModeData = { ...r.data, selfStressNote: SELF_STRESS_NOTE };
+      // the CLI writes the self-stresses too, localised and classified
+      const stressClassification = classifyStresses(r.supercell, r.analysis, { window: 3, strip: 2 });
+      const d: ModeData = modeDataOfRun({ spec: c.spec, supercell: r.supercell, counts: countsOf(r.analysis), classification: r.classification, stressClassification });
       expect(cli(c, '--json')).toBe(modesToJson(d));
       expect(cli(c, '--csv')).toBe(modesToCsv(d));
     }

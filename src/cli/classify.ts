@@ -8,6 +8,7 @@ import { sideWeights, type SideWeights } from '../flex/side-weights.js';
 import type { FlexAnalysis } from '../flex/spaces.js';
 import { describeBoundary } from '../supercell/boundary.js';
 import type { Supercell } from '../supercell/supercell.js';
+import { classifyStresses, type StressClassification } from '../stress/classify/classify.js';
 import { analyse } from '../api/run.js';
 import { parseNumberFlag, type FlagSpec, type ParsedArgs } from './args.js';
 import { progressLine, type ProgressLine } from './progress.js';
@@ -95,7 +96,20 @@ export function modeWhere(m: ClassifiedMode): string {
 /** Up to this many columns the side weights are always computed (the full flex basis is cheap). */
 const SIDE_WEIGHTS_ALWAYS_DOF = 2400;
 
-function outputObject(a: SupercellArgs, r: ClassifyRun, withVectors: boolean, sides: SideWeights | null): Record<string, unknown> {
+/** The `stresses` field of the JSON (--stresses): class counts, macroscopic stress and the modes (vectors with --out). */
+function stressOutput(st: StressClassification, withVectors: boolean): Record<string, unknown> {
+  return {
+    selfStresses: st.selfStresses,
+    counts: st.counts,
+    shortStripStresses: st.shortStripStresses,
+    macroscopic: st.macroscopic,
+    thresholds: st.thresholds,
+    warnings: st.warnings ?? [],
+    modes: st.modes.map((m, i) => (withVectors ? { ...modeSummary(m, i), vector: { re: Array.from(m.vector.re), im: Array.from(m.vector.im) } } : modeSummary(m, i))),
+  };
+}
+
+function outputObject(a: SupercellArgs, r: ClassifyRun, withVectors: boolean, sides: SideWeights | null, stresses: StressClassification | null = null): Record<string, unknown> {
   const c = r.classification;
   return {
     schemaVersion: 'shimmy.classify/1', // schema/classify.schema.json (also the --out file)
@@ -119,6 +133,7 @@ function outputObject(a: SupercellArgs, r: ClassifyRun, withVectors: boolean, si
     warnings: c.warnings ?? [],
     modes: c.modes.map((m, i) => (withVectors ? { ...modeSummary(m, i), vector: { re: Array.from(m.vector.re), im: Array.from(m.vector.im) } } : modeSummary(m, i))),
     ...(withVectors ? { positions: Array.from(r.supercell.positions), vectorLayout: 'vector.re/im hold 2 entries per joint (x then y), joints in supercell order; positions likewise' } : {}),
+    ...(stresses ? { stresses: stressOutput(stresses, withVectors) } : {}),
     caution: CAUTION,
   };
 }
@@ -128,10 +143,11 @@ const PER_CLASS_SHOWN = 5;
 export const classifyCommand: Command = {
   name: 'classify',
   summary: 'Split the flexes of an N1×N2 supercell into local, line, decaying and bulk ones, with a localised basis.',
-  usage: 'shimmy classify FRAMEWORK [--cells 8x8] [--bc SPEC] [--window 3] [--strip 2] [--tol 1e-9] [--solver auto] [--json] [--out FILE]',
+  usage: 'shimmy classify FRAMEWORK [--cells 8x8] [--bc SPEC] [--window 3] [--strip 2] [--tol 1e-9] [--solver auto] [--stresses] [--json] [--out FILE]',
   flags: [
     ...SUPERCELL_FLAGS,
     ...CLASSIFY_FLAGS,
+    { name: '--stresses', help: 'also classify the self-stresses over bars (local, line, decaying, bulk; macroscopic stress per cell when both axes are periodic)' },
     { name: '--side-weights', help: `compute the side weights even above ${SIDE_WEIGHTS_ALWAYS_DOF} columns (they need the whole flex basis, which the classifier otherwise avoids)` },
     { name: '--json', help: 'print one JSON object (counts, thresholds, modes without vectors)' },
     { name: '--out', value: 'FILE', help: 'also write the full JSON, vectors included, to FILE' },
@@ -146,9 +162,10 @@ export const classifyCommand: Command = {
     const r = runClassification(a, opts, progressLine(io, 'classify'));
     const c = r.classification;
     const sides = args.flags.has('--side-weights') || r.analysis.dof <= SIDE_WEIGHTS_ALWAYS_DOF ? sideWeights(r.supercell, r.analysis) : null;
-    if (outPath !== undefined) writeOutFile(outPath, JSON.stringify(outputObject(a, r, true, sides)) + '\n');
+    const st = args.flags.has('--stresses') ? classifyStresses(r.supercell, r.analysis, opts) : null;
+    if (outPath !== undefined) writeOutFile(outPath, JSON.stringify(outputObject(a, r, true, sides, st)) + '\n');
     if (args.flags.has('--json')) {
-      io.out(safeJson(JSON.stringify({ ...outputObject(a, r, false, sides), ...(outPath !== undefined ? { out: outPath } : {}) }, null, 2)) + '\n');
+      io.out(safeJson(JSON.stringify({ ...outputObject(a, r, false, sides, st), ...(outPath !== undefined ? { out: outPath } : {}) }, null, 2)) + '\n');
       return 0;
     }
     const title = titleOf(a.framework.name, a.spec);
@@ -167,6 +184,7 @@ export const classifyCommand: Command = {
         ['short strip pieces', `${c.shortStripFlexes ?? 0} (in no window and on under 2/3 of a strip; counted as decaying or bulk)`],
         ['affine flexes', `${c.affineFlexes ?? 0} of the bulk (rigid motions, homogeneous mechanisms and strain modes: u_s + L̇·cell)`],
         ['solver', `${r.analysis.solver} (${r.analysis.solverReason})`],
+        ...(st ? stressRows(st) : []),
       ]).trimEnd(),
     );
     lines.push('', 'Thresholds:');
@@ -188,6 +206,15 @@ export const classifyCommand: Command = {
     return 0;
   },
 };
+
+/** The table rows of --stresses. */
+function stressRows(st: StressClassification): [string, string][] {
+  const rows: [string, string][] = [['self-stresses', `${st.selfStresses}: ${FLEX_CLASSES.map((k) => `${k} ${st.counts[k]}`).join(', ')} (over bars; ${st.shortStripStresses} short strip pieces among decaying and bulk)`]];
+  const mac = st.macroscopic;
+  if (mac) rows.push(['macroscopic stress', `rank ${mac.rank} of 3 on the self-stresses, ${mac.traceless ? 'every one traceless' : 'not all traceless'} (largest |tr σ| ${fmt(mac.largestTrace, 3)} per unit self-stress, scale ${fmt(mac.scale, 3)})`]);
+  for (const w of st.warnings ?? []) rows.push(['self-stress warning', w]);
+  return rows;
+}
 
 function sideWeightsSkipped(r: ClassifyRun): string {
   return `not computed: ${r.analysis.dof} columns is over ${SIDE_WEIGHTS_ALWAYS_DOF}, and they need the whole flex basis (pass --side-weights)`;

@@ -7,6 +7,7 @@
 import { InputError } from '../errors.js';
 import { countsOf } from '../flex/spaces.js';
 import { MODE_CSV_COLUMNS, modeDataOfRun, modesToCsv, modesToJson, type ModeData } from '../io/modes.js';
+import { classifyStresses, type StressClassification } from '../stress/classify/classify.js';
 import type { Command } from './command.js';
 import { progressLine } from './progress.js';
 import { CLASSIFY_DETAILS, CLASSIFY_FLAGS, readClassifyFlags, runClassification, writeOutFile, type ClassifyRun } from './classify.js';
@@ -15,11 +16,15 @@ import { readSupercellArgs, safeJson, safeLines, safeText, SUPERCELL_FLAGS, type
 /** The CSV columns (the shared mode-data format's). */
 export const CSV_COLUMNS = MODE_CSV_COLUMNS;
 
+/** What export-modes wrote before it classified the self-stresses (kept for readers of old files). */
 export const SELF_STRESS_NOTE = 'not computed by shimmy export-modes (it writes the flexes)';
 
-/** The mode-data document of one export-modes run (src/io/modes.ts). */
-export function exportData(a: SupercellArgs, r: ClassifyRun): ModeData {
-  return modeDataOfRun({ spec: a.spec, supercell: r.supercell, counts: countsOf(r.analysis), classification: r.classification, selfStressNote: SELF_STRESS_NOTE });
+/**
+ * The mode-data document of one export-modes run (src/io/modes.ts): the classified flexes and
+ * the classified self-stresses (w, axial forces, class; src/stress/classify/).
+ */
+export function exportData(a: SupercellArgs, r: ClassifyRun, stresses: StressClassification): ModeData {
+  return modeDataOfRun({ spec: a.spec, supercell: r.supercell, counts: countsOf(r.analysis), classification: r.classification, stressClassification: stresses });
 }
 
 export const exportModesCommand: Command = {
@@ -29,7 +34,7 @@ export const exportModesCommand: Command = {
   flags: [
     ...SUPERCELL_FLAGS,
     ...CLASSIFY_FLAGS,
-    { name: '--json', help: 'one JSON object (format "shimmy mode data"): counts, joints (positions, cells, sites), bars, and flexes (class, metrics, velocities)' },
+    { name: '--json', help: 'one JSON object (format "shimmy mode data"): counts, joints (positions, cells, sites), bars, flexes (class, metrics, velocities) and self-stresses (class, metrics, bar tensions and forces)' },
     { name: '--csv', help: 'one CSV row per mode and joint, columns below' },
     { name: '--out', value: 'FILE', help: 'write to FILE instead of standard output' },
     { name: '--help', help: 'show this help' },
@@ -52,6 +57,10 @@ export const exportModesCommand: Command = {
     'bars (rigidity-matrix rows), and flexes: per mode its class and metrics (participation, support, extents,',
     'direction, anchor, decayLength, region, fitQuality, headWeight) and velocity.re / velocity.im with 2 entries',
     'per joint (x then y; im null when real), plus the caution text.',
+    'selfStresses lists the self-stresses classified like the flexes (local, line, decaying, bulk over bars; counts in',
+    'stressClassification): per self-stress its class and metrics (support in bars), tension (the vector w of Rᴴ, unit',
+    '2-norm, one entry per bar in the order of "bars", positive = tension), axialForce (w_b·|p_b|, the bar forces) and,',
+    'when both axes are periodic, macroscopicStress per cell. The CSV holds the flexes only.',
     '',
     ...CLASSIFY_DETAILS,
   ],
@@ -66,7 +75,7 @@ export const exportModesCommand: Command = {
     const a = readSupercellArgs(args, io, 'export-modes');
     const opts = readClassifyFlags(args);
     const r = runClassification(a, opts, progressLine(io, 'export-modes'));
-    const data = exportData(a, r);
+    const data = exportData(a, r, classifyStresses(r.supercell, r.analysis, opts));
     const text = json ? modesToJson(data) : modesToCsv(data);
     const outPath = args.flags.get('--out') as string | undefined;
     if (outPath !== undefined) {

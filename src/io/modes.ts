@@ -19,6 +19,8 @@ import type { Framework } from '../framework/types.js';
 import { validateFramework } from '../framework/validate.js';
 import { formatBoundary } from '../supercell/boundary.js';
 import { MAX_CELLS_PER_AXIS, type Supercell } from '../supercell/supercell.js';
+import type { StressClassification } from '../stress/classify/classify.js';
+import { axialForces, type MacroStress } from '../stress/classify/macroscopic.js';
 
 export const MODE_DATA_FORMAT = 'shimmy mode data';
 /** Version 1 was the app's earlier export; version 2 is the format shared by CLI and app. */
@@ -37,6 +39,9 @@ export const MODE_DATA_CONVENTIONS: Readonly<Record<string, string>> = {
     'each vector has unit 2-norm; the motion is p + ε·Re(e^{iφ} u)',
   bars: 'one rigidity-matrix row per bar; an end of −1 is fixed ground; vector is the unwrapped bar vector; phase (re, im) multiplies the to-end velocity; wraps counts crossings of twisted axes',
   tension: 'selfStresses[].tension: one tension per bar row, positive = tension (the overall sign of a basis vector is arbitrary); null when the basis was not computed',
+  axialForce:
+    'selfStresses[].axialForce (when written): the bar forces t_b = w_b·|p_b| of the same vector w = tension (R’s rows are p·(u_to − u_from), so Rᴴw = 0 balances the forces w_b·p_b); ' +
+    'class and metrics as for flexes, counted over bars (stressClassification); macroscopicStress (periodic only): Σ_b w_b p_b⊗p_b / (N1·N2)',
   numbers: 'every number is the shortest decimal that reads back as the same double (−0 written as -0)',
 };
 
@@ -89,8 +94,34 @@ export interface ModeFlex {
 
 export interface ModeStress {
   index: number;
-  /** One entry per bar row. */
+  /** The self-stress class (local, line, decaying, bulk) when the self-stresses were classified. */
+  class?: FlexClass;
+  participation?: number;
+  /** Bars carrying the vector's weight. */
+  support?: number;
+  extents?: [number, number];
+  direction?: [number, number];
+  anchor?: Anchor;
+  decayLength?: number;
+  region?: string;
+  fitQuality?: number;
+  headWeight?: number;
+  /** Periodic supercells: the macroscopic stress per cell (src/stress/classify/macroscopic.ts). */
+  macroscopicStress?: MacroStress;
+  /** One entry per bar row: the self-stress vector w of Rᴴ (unit 2-norm). */
   tension: ComplexData;
+  /** One entry per bar row: the axial force w_b·|p_b| (framework units). */
+  axialForce?: ComplexData;
+}
+
+/** The split of the self-stresses into classes (src/stress/classify/). */
+export interface ModeStressClassification {
+  counts: Record<FlexClass, number>;
+  thresholds: Record<string, number | string>;
+  shortStripStresses: number;
+  warnings: string[];
+  /** Periodic supercells: the macroscopic stress map on the self-stresses; else null. */
+  macroscopic: StressClassification['macroscopic'];
 }
 
 export interface ModeClassification {
@@ -128,6 +159,8 @@ export interface ModeData {
   /** null when the self-stress basis was not computed (selfStressNote says why). */
   selfStresses: ModeStress[] | null;
   selfStressNote?: string;
+  /** Present when the self-stresses were classified (selfStresses then carry their class). */
+  stressClassification?: ModeStressClassification;
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -180,6 +213,23 @@ export interface ClassificationInput {
   warnings?: string[];
 }
 
+/** A self-stress to write: the vector w (one entry per bar row) and, when classified, its class and metrics. */
+export interface StressInput extends ComplexInput {
+  class?: FlexClass;
+  participation?: number;
+  support?: number;
+  extents?: readonly number[];
+  direction?: readonly number[];
+  anchor?: Anchor;
+  decayLength?: number;
+  region?: string;
+  fitQuality?: number;
+  headWeight?: number;
+  macroscopicStress?: MacroStress;
+  /** The axial forces w_b·|p_b|. */
+  axialForce?: ComplexInput;
+}
+
 /** Everything a mode-data file is made from, as plain data. */
 export interface ModeDataInput {
   spec: string | null;
@@ -194,8 +244,9 @@ export interface ModeDataInput {
   /** In the order to write them (the classifier's order: local, line, decaying, bulk). */
   modes: readonly ModeInput[];
   /** null when not computed. */
-  selfStresses: readonly ComplexInput[] | null;
+  selfStresses: readonly StressInput[] | null;
   selfStressNote?: string;
+  stressClassification?: ModeStressClassification;
 }
 
 const pair = (v: ArrayLike<number>): [number, number] => [v[0], v[1]];
@@ -293,8 +344,40 @@ export function modeData(input: ModeDataInput): ModeData {
         velocity: complexOf(m),
       }),
     ),
-    selfStresses: input.selfStresses === null ? null : input.selfStresses.map((s, index) => ({ index, tension: complexOf(s) })),
+    selfStresses: input.selfStresses === null ? null : input.selfStresses.map((s, index) => stressOf(s, index)),
     ...(input.selfStressNote !== undefined ? { selfStressNote: input.selfStressNote } : {}),
+    ...(input.stressClassification !== undefined ? { stressClassification: stressClassificationCopy(input.stressClassification) } : {}),
+  };
+}
+
+/** One self-stress entry, optional class and metrics only when present. */
+function stressOf(s: StressInput, index: number): ModeStress {
+  const ms = s.macroscopicStress;
+  return {
+    index,
+    ...(s.class !== undefined ? { class: s.class } : {}),
+    ...(s.participation !== undefined ? { participation: s.participation } : {}),
+    ...(s.support !== undefined ? { support: s.support } : {}),
+    ...(s.extents !== undefined ? { extents: pair(s.extents) } : {}),
+    ...(s.direction !== undefined ? { direction: pair(s.direction) } : {}),
+    ...(s.anchor !== undefined ? { anchor: { kind: s.anchor.kind, name: s.anchor.name, at: pair(s.anchor.at) } } : {}),
+    ...(s.decayLength !== undefined ? { decayLength: s.decayLength } : {}),
+    ...(s.region !== undefined ? { region: s.region } : {}),
+    ...(s.fitQuality !== undefined ? { fitQuality: s.fitQuality } : {}),
+    ...(s.headWeight !== undefined ? { headWeight: s.headWeight } : {}),
+    ...(ms !== undefined ? { macroscopicStress: { xx: ms.xx, xy: ms.xy, yy: ms.yy, trace: ms.trace, traceless: ms.traceless } } : {}),
+    tension: complexOf(s),
+    ...(s.axialForce !== undefined ? { axialForce: complexOf(s.axialForce) } : {}),
+  };
+}
+
+function stressClassificationCopy(c: ModeStressClassification): ModeStressClassification {
+  return {
+    counts: Object.fromEntries(FLEX_CLASSES.map((k) => [k, c.counts[k]])) as Record<FlexClass, number>,
+    thresholds: { ...c.thresholds },
+    shortStripStresses: c.shortStripStresses,
+    warnings: [...c.warnings],
+    macroscopic: c.macroscopic === null ? null : { ...c.macroscopic },
   };
 }
 
@@ -307,8 +390,18 @@ export function modeDataOfRun(run: {
   /** The self-stress basis, when computed (default: not computed). */
   selfStresses?: readonly ComplexInput[] | null;
   selfStressNote?: string;
+  /** The classified self-stresses: written as selfStresses (class, metrics, axial forces) in place of `selfStresses`. */
+  stressClassification?: StressClassification;
 }): ModeData {
   const sc = run.supercell;
+  const st = run.stressClassification;
+  const stresses: readonly StressInput[] | null = st
+    ? st.modes.map((m) => {
+        const { vector, affine: _a, ...metrics } = m;
+        const force = axialForces(sc, vector);
+        return { ...metrics, re: vector.re, im: sc.real ? null : vector.im, axialForce: { re: force.re, im: sc.real ? null : force.im } };
+      })
+    : (run.selfStresses ?? null);
   return modeData({
     spec: run.spec,
     framework: sc.framework,
@@ -318,8 +411,13 @@ export function modeDataOfRun(run: {
     counts: run.counts,
     classification: run.classification,
     modes: run.classification.modes.map((m) => ({ ...m, re: m.vector.re, im: sc.real ? null : m.vector.im })),
-    selfStresses: run.selfStresses ?? null,
+    selfStresses: stresses,
     ...(run.selfStressNote !== undefined ? { selfStressNote: run.selfStressNote } : {}),
+    ...(st
+      ? {
+          stressClassification: { counts: st.counts, thresholds: st.thresholds, shortStripStresses: st.shortStripStresses, warnings: st.warnings ?? [], macroscopic: st.macroscopic },
+        }
+      : {}),
   });
 }
 
@@ -557,7 +655,8 @@ function readCounts(r: Reader, v: unknown, p: string): FlexCounts | undefined {
           ambiguous: r.bool(gap.ambiguous, at(q('gap'), 'ambiguous')),
         }),
       gapNote: o.gapNote === undefined ? undefined : r.str(o.gapNote, q('gapNote')),
-      maxwellCalladine: mc && complete({ lhs: r.int(mc.lhs, at(q('maxwellCalladine'), 'lhs')), rhs: r.int(mc.rhs, at(q('maxwellCalladine'), 'rhs')), ok: r.bool(mc.ok, at(q('maxwellCalladine'), 'ok')) }),
+      // flexes − self-stresses = 2·joints − bars is negative when bars outnumber the degrees of freedom
+      maxwellCalladine: mc && complete({ lhs: r.int(mc.lhs, at(q('maxwellCalladine'), 'lhs'), null), rhs: r.int(mc.rhs, at(q('maxwellCalladine'), 'rhs'), null), ok: r.bool(mc.ok, at(q('maxwellCalladine'), 'ok')) }),
       real: r.bool(o.real, q('real')),
       solver: r.oneOf(o.solver, q('solver'), ['dense', 'bloch', 'sparse'] as const),
       solverReason: r.str(o.solverReason, q('solverReason')),
@@ -643,6 +742,78 @@ function readFlex(r: Reader, v: unknown, p: string): ModeFlex | undefined {
   return complete<ModeFlex>(flex, FLEX_OPTIONAL);
 }
 
+const STRESS_OPTIONAL = ['class', 'participation', 'support', 'extents', 'direction', 'anchor', 'decayLength', 'region', 'fitQuality', 'headWeight', 'macroscopicStress', 'axialForce'] as const;
+
+function readAnchor(r: Reader, x: unknown, w: string): Anchor | undefined {
+  const a = r.record(x, w, ['kind', 'name', 'at']);
+  return a && complete<Anchor>({ kind: r.oneOf(a.kind, at(w, 'kind'), ['side', 'corner', 'point'] as const), name: r.str(a.name, at(w, 'name')), at: r.pair(a.at, at(w, 'at')) });
+}
+
+function readStress(r: Reader, v: unknown, p: string): ModeStress | undefined {
+  const o = r.record(v, p, ['index', 'tension'], STRESS_OPTIONAL);
+  if (!o) return undefined;
+  const q = (k: string) => at(p, k);
+  const opt = <T>(k: string, f: (x: unknown, w: string) => T | undefined): T | undefined => (o[k] === undefined ? undefined : f(o[k], q(k)));
+  const stress: Fields<ModeStress> = {
+    index: r.int(o.index, q('index')),
+    class: opt('class', (x, w) => r.oneOf(x, w, FLEX_CLASSES)),
+    participation: opt('participation', (x, w) => r.num(x, w)),
+    support: opt('support', (x, w) => r.int(x, w)),
+    extents: opt('extents', (x, w) => r.pair(x, w)),
+    direction: opt('direction', (x, w) => r.pair(x, w, (y, u) => r.int(y, u, null))),
+    anchor: opt('anchor', (x, w) => readAnchor(r, x, w)),
+    decayLength: opt('decayLength', (x, w) => r.num(x, w)),
+    region: opt('region', (x, w) => r.str(x, w)),
+    fitQuality: opt('fitQuality', (x, w) => r.num(x, w)),
+    headWeight: opt('headWeight', (x, w) => r.num(x, w)),
+    macroscopicStress: opt('macroscopicStress', (x, w) => {
+      const ms = r.record(x, w, ['xx', 'xy', 'yy', 'trace', 'traceless']);
+      return ms && complete<MacroStress>({ xx: r.num(ms.xx, at(w, 'xx')), xy: r.num(ms.xy, at(w, 'xy')), yy: r.num(ms.yy, at(w, 'yy')), trace: r.num(ms.trace, at(w, 'trace')), traceless: r.bool(ms.traceless, at(w, 'traceless')) });
+    }),
+    tension: readComplex(r, o.tension, q('tension')),
+    axialForce: opt('axialForce', (x, w) => readComplex(r, x, w)),
+  };
+  return complete<ModeStress>(stress, STRESS_OPTIONAL);
+}
+
+function readStressClassification(r: Reader, v: unknown, p: string): ModeStressClassification | undefined {
+  const o = r.record(v, p, ['counts', 'thresholds', 'shortStripStresses', 'warnings', 'macroscopic']);
+  if (!o) return undefined;
+  const co = r.record(o.counts, at(p, 'counts'), FLEX_CLASSES);
+  const counts = co && complete<Record<FlexClass, number>>(Object.fromEntries(FLEX_CLASSES.map((k) => [k, r.int(co[k], at(at(p, 'counts'), k))])) as Fields<Record<FlexClass, number>>);
+  let thresholds: Record<string, number | string> | undefined;
+  const to = r.object(o.thresholds, at(p, 'thresholds'));
+  if (to) {
+    thresholds = {};
+    for (const [k, x] of Object.entries(to)) {
+      if (typeof x === 'string' || (typeof x === 'number' && Number.isFinite(x))) thresholds[k] = x;
+      else r.expected(at(at(p, 'thresholds'), k), x, 'a number or a text', 'write the threshold as a number or a string');
+    }
+  }
+  const w = at(p, 'macroscopic');
+  const macroscopic = r.nullable(o.macroscopic, w, (x) => {
+    const m = r.record(x, w, ['cellArea', 'convention', 'rank', 'traceless', 'largestTrace', 'scale']);
+    return (
+      m &&
+      complete<NonNullable<ModeStressClassification['macroscopic']>>({
+        cellArea: r.num(m.cellArea, at(w, 'cellArea')),
+        convention: r.str(m.convention, at(w, 'convention')),
+        rank: r.int(m.rank, at(w, 'rank')),
+        traceless: r.bool(m.traceless, at(w, 'traceless')),
+        largestTrace: r.num(m.largestTrace, at(w, 'largestTrace')),
+        scale: r.num(m.scale, at(w, 'scale')),
+      })
+    );
+  });
+  return complete<ModeStressClassification>({
+    counts,
+    thresholds,
+    shortStripStresses: r.int(o.shortStripStresses, at(p, 'shortStripStresses')),
+    warnings: r.list(o.warnings, at(p, 'warnings'), (x, q) => r.str(x, q)),
+    macroscopic,
+  });
+}
+
 function checkLength(r: Reader, v: ComplexData, p: string, n: number, what: string): void {
   if (v.re.length !== n) r.report(at(p, 're'), `has ${v.re.length} entries but needs ${n} (${what})`, REEXPORT);
   if (v.im && v.im.length !== n) r.report(at(p, 'im'), `has ${v.im.length} entries but needs ${n} (${what})`, `give ${n} entries, or null for a real vector`);
@@ -696,7 +867,20 @@ function checkConsistency(r: Reader, d: ModeData): void {
     d.selfStresses.forEach((s, i) => {
       if (s.index !== i) r.report(`selfStresses[${i}].index`, `is ${s.index} but the self-stresses must be numbered in order (${i} here)`, `write ${i}`);
       checkLength(r, s.tension, `selfStresses[${i}].tension`, d.bars.length, `one per bar, ${d.bars.length} bars`);
+      if (s.axialForce) checkLength(r, s.axialForce, `selfStresses[${i}].axialForce`, d.bars.length, `one per bar, ${d.bars.length} bars`);
+      if ((s.class === undefined) !== (d.stressClassification === undefined)) {
+        r.report(`selfStresses[${i}].class`, d.stressClassification === undefined ? 'is given but there is no stressClassification' : 'is missing but the self-stresses are classified', REEXPORT);
+      }
     });
+    if (d.stressClassification) {
+      for (const k of FLEX_CLASSES) {
+        const n = d.stressClassification.counts[k];
+        const found = d.selfStresses.filter((s) => s.class === k).length;
+        if (n !== found) r.report(`stressClassification.counts.${k}`, `is ${n} but "selfStresses" holds ${found} of class ${k}`, REEXPORT);
+      }
+    }
+  } else if (d.stressClassification) {
+    r.report('stressClassification', 'is given but selfStresses is null', REEXPORT);
   }
 }
 
@@ -725,7 +909,7 @@ export function parseModesJson(text: string, source = 'mode data file'): ModeDat
   }
   const r = new Reader();
   const required = ['format', 'version', 'caution', 'framework', 'cells', 'boundary', 'tolerance', 'counts', 'classification', 'conventions', 'joints', 'bars', 'flexes', 'selfStresses'];
-  const o = r.record(value, '', required, ['schemaVersion', 'classificationNote', 'selfStressNote']);
+  const o = r.record(value, '', required, ['schemaVersion', 'classificationNote', 'selfStressNote', 'stressClassification']);
   if (!o) throw new InputError(context, r.problems);
 
   let framework: ModeData['framework'] | undefined;
@@ -774,15 +958,11 @@ export function parseModesJson(text: string, source = 'mode data file'): ModeDat
         return b && complete<ModeBar>({ from: r.int(b.from, at(p, 'from'), -1), to: r.int(b.to, at(p, 'to'), -1), vector: r.pair(b.vector, at(p, 'vector')), phase: r.pair(b.phase, at(p, 'phase')), wraps: r.pair(b.wraps, at(p, 'wraps'), int) });
       }),
       flexes: r.list(o.flexes, 'flexes', (x, p) => readFlex(r, x, p)),
-      selfStresses: r.nullable(o.selfStresses, 'selfStresses', (x, w) =>
-        r.list(x, w, (y, p) => {
-          const s = r.record(y, p, ['index', 'tension']);
-          return s && complete<ModeStress>({ index: r.int(s.index, at(p, 'index')), tension: readComplex(r, s.tension, at(p, 'tension')) });
-        }),
-      ),
+      selfStresses: r.nullable(o.selfStresses, 'selfStresses', (x, w) => r.list(x, w, (y, p) => readStress(r, y, p))),
       selfStressNote: o.selfStressNote === undefined ? undefined : r.str(o.selfStressNote, 'selfStressNote'),
+      stressClassification: o.stressClassification === undefined ? undefined : readStressClassification(r, o.stressClassification, 'stressClassification'),
     },
-    ['schemaVersion', 'classificationNote', 'selfStressNote'],
+    ['schemaVersion', 'classificationNote', 'selfStressNote', 'stressClassification'],
   );
   if (doc && r.problems.length === 0) checkConsistency(r, doc);
   if (r.more) r.problems.push({ where: '(more)', what: `${r.more} further problems are not listed`, fix: 'fix the ones above and read the file again' });
