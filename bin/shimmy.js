@@ -1,14 +1,17 @@
 #!/usr/bin/env node
-// The CLI. `npm ci` builds it to build/cli/run.js (a single ES module, fast to start); when that
-// build is missing or older than any file under src/ (an edit since), the TypeScript sources
-// run directly through tsx instead, so the command is never stale. SHIMMY_FROM_SOURCE=1 forces
-// the sources.
+// The CLI. In the installed package (no src/ folder) it runs lib/cli/run.js, the compiled
+// modules. In a checkout, `npm ci` builds build/cli/run.js (a single ES module, fast to start);
+// when that build is missing or older than any file under src/ (an edit since), the TypeScript
+// sources run directly through tsx instead, so the command is never stale. SHIMMY_FROM_SOURCE=1
+// forces the sources.
 import { existsSync, readdirSync, statSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 
 const root = join(dirname(fileURLToPath(import.meta.url)), '..');
 const built = join(root, 'build', 'cli', 'run.js');
+const lib = join(root, 'lib', 'cli', 'run.js');
+const sources = join(root, 'src', 'cli', 'run.ts');
 
 /** Newest modification time of the files below dir (0 when it does not exist). */
 function newest(dir) {
@@ -22,7 +25,9 @@ function newest(dir) {
 }
 
 const fresh = process.env.SHIMMY_FROM_SOURCE !== '1' && existsSync(built) && statSync(built).mtimeMs >= newest(join(root, 'src'));
-if (fresh) {
+if (!existsSync(sources)) {
+  await import(pathToFileURL(lib).href);
+} else if (fresh) {
   await import(pathToFileURL(built).href);
 } else {
   const { tsImport } = await import('tsx/esm/api');

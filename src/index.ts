@@ -33,7 +33,7 @@ export { decideRank, DEFAULT_RELATIVE_TOLERANCE, AMBIGUOUS_RATIO, type Gap, type
 export type { SparseMatrix } from './linalg/sparse.js';
 export type { CVec } from './linalg/complex.js';
 export type { NullBasis } from './linalg/dense.js';
-export { count, type CountRequest, type CountResult } from './analysis.js';
+export { count, classify, type CountRequest, type CountResult, type ClassifyRequest, type ClassifyResult } from './analysis.js';
 export { analyse, type RunRequest, type RunResult, type ClassifiedRun } from './api/run.js';
 export { modeData, modeDataOfRun, modesToJson, modesToCsv, parseModesJson } from './io/modes.js';
 export { InputError, TooLargeError, type Problem } from './errors.js';

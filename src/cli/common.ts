@@ -7,6 +7,7 @@ import { parseCells, parseNumberFlag, type FlagSpec, type ParsedArgs } from './a
 import type { CliIO } from './command.js';
 import { SOLVER_CHOICES, type SolverChoice } from '../flex/solver.js';
 import { checkRunSize, MIN_RELATIVE_TOLERANCE, type RunEstimate } from '../flex/estimate.js';
+import { readFileSync } from 'node:fs';
 import { totalmem } from 'node:os';
 import { getHeapStatistics } from 'node:v8';
 
@@ -147,4 +148,17 @@ export function fmt(x: number | null, digits = 4): string {
 export function table(rows: [string, string][]): string {
   const w = Math.max(...rows.map((r) => r[0].length));
   return rows.map(([k, v]) => `  ${k.padEnd(w)}  ${v}`).join('\n') + '\n';
+}
+
+/** A framework file read from disk, with a clear error naming the path when it cannot be. */
+export function readTextFile(path: string): string {
+  try {
+    return readFileSync(path, 'utf8');
+  } catch (e) {
+    const code = (e as NodeJS.ErrnoException).code;
+    const what = code === 'ENOENT' ? 'no such file' : code === 'EISDIR' ? 'it is a folder, not a file' : code === 'EACCES' ? 'permission denied' : `it cannot be read (${code ?? 'unknown error'})`;
+    throw new InputError(`The framework file "${path}" cannot be read:`, [
+      { where: path, what, fix: 'give the path of a framework JSON file, or a built-in lattice such as gallery:kagome' },
+    ]);
+  }
 }

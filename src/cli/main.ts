@@ -3,11 +3,11 @@
  * Exit codes: 0 success, 2 bad input (flags, sizes, files), 3 too large for memory, 4 a failed
  * self-check (count --verify), 1 internal error.
  */
-import { readFileSync } from 'node:fs';
 import { InputError, TooLargeError } from '../errors.js';
 import { parseArgs, suggest } from './args.js';
 import { commandHelp, type CliIO, type Command } from './command.js';
-import { safeLines, safeText } from './common.js';
+import { readTextFile, safeLines, safeText } from './common.js';
+export { readTextFile };
 import { countCommand } from './count.js';
 import { galleryCommand } from './gallery.js';
 import { spectrumCommand } from './spectrum.js';
@@ -15,9 +15,10 @@ import { classifyCommand } from './classify.js';
 import { sweepCommand } from './sweep.js';
 import { exportModesCommand } from './export-modes.js';
 import { edgesCommand } from './edges.js';
+import { batchCommand } from './batch.js';
 import { strainCommand } from './strain.js';
 
-export const COMMANDS: Command[] = [countCommand, classifyCommand, sweepCommand, spectrumCommand, edgesCommand, strainCommand, exportModesCommand, galleryCommand];
+export const COMMANDS: Command[] = [countCommand, classifyCommand, sweepCommand, spectrumCommand, edgesCommand, strainCommand, exportModesCommand, galleryCommand, batchCommand];
 
 const VERSION = '0.1.0';
 
@@ -35,18 +36,6 @@ function mainHelp(): string {
     'Example: shimmy count gallery:kagome --cells 6x6 --bc periodic',
     '',
   ].join('\n');
-}
-
-export function readTextFile(path: string): string {
-  try {
-    return readFileSync(path, 'utf8');
-  } catch (e) {
-    const code = (e as NodeJS.ErrnoException).code;
-    const what = code === 'ENOENT' ? 'no such file' : code === 'EISDIR' ? 'it is a folder, not a file' : code === 'EACCES' ? 'permission denied' : `it cannot be read (${code ?? 'unknown error'})`;
-    throw new InputError(`The framework file "${path}" cannot be read:`, [
-      { where: path, what, fix: 'give the path of a framework JSON file, or a built-in lattice such as gallery:kagome' },
-    ]);
-  }
 }
 
 export const nodeIO: CliIO = {
