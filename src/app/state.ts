@@ -117,7 +117,7 @@ export const LIMITS = {
   window: { min: 1, max: 50, integer: true },
   strip: { min: 1, max: 50, integer: true },
   flex: { min: 0, max: 1e6, integer: true },
-  amplitude: { min: 0, max: 2 },
+  amplitude: { min: 0, max: 5 },
   speed: { min: 0.05, max: 5 },
   phase: { min: 0, max: 1, open: true },
   zoom: { min: 0.02, max: 200 },

@@ -14,6 +14,7 @@ import { phaseMap } from '../spectrum/phasemap.js';
 import { zeroTopology } from '../spectrum/zero-set.js';
 import { sweep } from '../flex/sweep.js';
 import { sideWeights } from '../flex/side-weights.js';
+import { rigidMotions } from '../flex/rigid.js';
 import { edges } from '../edges/edges.js';
 import { geometryOf } from './geometry.js';
 import type { AnalyseJob, AnalyseResult, EdgesData, EdgesJob, ModeData, PhaseMapData, PhaseMapJob, StressData, SweepData, SweepJob, WorkerError, WorkerFeatures } from './protocol.js';
@@ -85,6 +86,7 @@ export async function analyse(job: AnalyseJob, hooks: Hooks = {}): Promise<Analy
   lap('rank');
   const counts = countsOf(analysis);
   const geometry = geometryOf(supercell);
+  const rigid = rigidMotions(supercell).map((m) => ({ name: m.name, field: Float64Array.from(m.field) }));
 
   progress(0.4, 'finding the flexes');
   await step();
@@ -159,7 +161,7 @@ export async function analyse(job: AnalyseJob, hooks: Hooks = {}): Promise<Analy
     }
   }
   progress(1, 'done');
-  return { counts, geometry, modes, modeSource, classification, ...(classificationNote ? { classificationNote } : {}), stresses, ...(stressNote ? { stressNote } : {}), timings };
+  return { counts, rigid, geometry, modes, modeSource, classification, ...(classificationNote ? { classificationNote } : {}), stresses, ...(stressNote ? { stressNote } : {}), timings };
 }
 
 export async function runPhaseMap(job: PhaseMapJob, hooks: Hooks = {}): Promise<PhaseMapData> {

@@ -125,8 +125,16 @@ export interface ClassificationData {
   sideWeightsNote?: string;
 }
 
+/** A rigid motion the boundary allows (src/flex/rigid.ts): unit-norm real field, 2 entries per joint. */
+export interface RigidData {
+  name: string;
+  field: Float64Array;
+}
+
 export interface AnalyseResult {
   counts: FlexCounts;
+  /** The rigid motions the boundary allows (orthonormal), so the app can project them out of a drawn flex. */
+  rigid: RigidData[];
   geometry: GeometryData;
   /** Display order: grouped by class (local, line, decaying, bulk), else basis order. */
   modes: ModeData[];
@@ -205,6 +213,7 @@ export function transferablesOf(r: AnalyseResult): ArrayBuffer[] {
     out.push(m.re.buffer);
     if (m.im) out.push(m.im.buffer);
   }
+  for (const m of r.rigid) out.push(m.field.buffer);
   for (const s of r.stresses) {
     out.push(s.re.buffer);
     if (s.im) out.push(s.im.buffer);

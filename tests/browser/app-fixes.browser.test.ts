@@ -12,7 +12,7 @@ import { count } from '../../src/analysis.js';
 import { classifyFlexes } from '../../src/flex/classify.js';
 import { buildGallery } from '../../src/framework/gallery.js';
 import { parseFramework } from '../../src/framework/validate.js';
-import { appSession, browserAvailable, ROOT } from './harness.js';
+import { appSession, browserAvailable, open as openApp, ROOT } from './harness.js';
 
 const available = browserAvailable();
 
@@ -21,13 +21,7 @@ describe.skipIf(!available)('browser app fixes (issue 12, item 6)', () => {
 
   const pageErrors: string[] = [];
 
-  async function open(hash: string): Promise<Page> {
-    const page = await session.browser.context.newPage();
-    page.on('pageerror', (e) => pageErrors.push(e.message));
-    await page.goto(session.server.url + hash);
-    await waitForResult(page, 0);
-    return page;
-  }
+  const open = (hash: string): Promise<Page> => openApp(session, hash, pageErrors);
 
   const version = async (page: Page) => Number(await page.getByTestId('results').getAttribute('data-version'));
 

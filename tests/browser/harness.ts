@@ -8,7 +8,7 @@ import net from 'node:net';
 import os from 'node:os';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { chromium, type BrowserContext } from 'playwright-core';
+import { chromium, type BrowserContext, type Page } from 'playwright-core';
 import { build, createServer, preview } from 'vite';
 
 export const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../..');
@@ -157,4 +157,16 @@ export function appSession(): { readonly server: Served; readonly browser: Brows
     await session.server?.close();
   });
   return session;
+}
+
+/**
+ * Opens the app at `hash` in a new page of the session's browser and waits for its first
+ * result; page errors are collected in `errors`.
+ */
+export async function open(session: { readonly server: Served; readonly browser: Browser }, hash: string, errors?: string[]): Promise<Page> {
+  const page = await session.browser.context.newPage();
+  if (errors) page.on('pageerror', (e) => errors.push(e.message));
+  await page.goto(session.server.url + hash);
+  await page.waitForFunction(() => Number(document.querySelector('[data-testid=results]')?.getAttribute('data-version')) > 0, null, { timeout: 30_000 });
+  return page;
 }

@@ -13,7 +13,7 @@ import { sweep } from '../../src/flex/sweep.js';
 import { buildGallery } from '../../src/framework/gallery.js';
 import { phaseMap } from '../../src/spectrum/phasemap.js';
 import { SWEEP_SERIES } from '../../src/app/plots/sweep.js';
-import { artifact, appSession, browserAvailable } from './harness.js';
+import { artifact, appSession, browserAvailable, open as openApp } from './harness.js';
 
 const available = browserAvailable();
 
@@ -21,13 +21,7 @@ describe.skipIf(!available)('browser plots (issue 12, item 4)', () => {
   const session = appSession();
   const pageErrors: string[] = [];
 
-  async function open(hash: string): Promise<Page> {
-    const page = await session.browser.context.newPage();
-    page.on('pageerror', (e) => pageErrors.push(e.message));
-    await page.goto(session.server.url + hash);
-    await page.waitForFunction(() => Number(document.querySelector('[data-testid=results]')?.getAttribute('data-version')) > 0, null, { timeout: 30_000 });
-    return page;
-  }
+  const open = (hash: string): Promise<Page> => openApp(session, hash, pageErrors);
 
   it('runs a sweep, plots one curve per class and exports the counts as CSV', async () => {
     const core = sweep(buildGallery('gallery:kagome'), { sizes: [[2, 2], [3, 3], [4, 4]], boundary: 'free' });

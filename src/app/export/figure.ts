@@ -1,5 +1,5 @@
 /** What a still or animated figure shows: shared by the PNG, GIF and SVG exports. */
-import type { ArrowMode, Field, SceneModel, View } from '../stage/scene.js';
+import { strokeSizes, type ArrowMode, type Field, type SceneModel, type View } from '../stage/scene.js';
 
 export interface FigureSpec {
   model: SceneModel;
@@ -15,6 +15,21 @@ export interface FigureSpec {
   caption: string[];
   /** Legend title, or null for none. */
   legend: { kind: 'amplitude' | 'stress'; title: string } | null;
+  /** Background colour; null for transparent; left out: the stage's paper colour. */
+  background?: string | null;
+  /** Multiplies the bar and joint sizes (1 as on the stage). */
+  lineScale?: number;
+  /** Multiplies the arrows' length and width (1 as on the stage). */
+  arrowScale?: number;
+  /** The SVG's outer width and height with their unit (e.g. "80mm"); left out: the layout's px. */
+  outerSize?: [string, string];
+}
+
+/** Stroke sizes of a figure: the stage's, scaled by lineScale and arrowScale. */
+export function figureStrokes(f: FigureSpec): { bar: number; joint: number; arrow: number } {
+  const s = strokeSizes(f.model, f.view);
+  const line = f.lineScale ?? 1;
+  return { bar: s.bar * line, joint: s.joint * line, arrow: s.arrow * (f.arrowScale ?? 1) };
 }
 
 export const CAPTION_LINE = 15;

@@ -1,19 +1,23 @@
 /** Paints a figure on a 2D canvas (PNG snapshots and GIF frames). */
 import { AMPLITUDE_GRADIENT, amplitudeColour, INK, STRESS_GRADIENT, stressColour } from '../stage/colours.js';
-import { BarKind, computeFrame, labelPlacement, newFrame, strokeSizes, toScreen, type Vec } from '../stage/scene.js';
-import { CAPTION_LINE, captionHeight, type FigureSpec } from './figure.js';
+import { BarKind, computeFrame, labelPlacement, newFrame, toScreen, type Vec } from '../stage/scene.js';
+import { CAPTION_LINE, captionHeight, figureStrokes, type FigureSpec } from './figure.js';
 
 export function paintFigure(ctx: CanvasRenderingContext2D, f: FigureSpec): void {
   const { model, view: v } = f;
   const W = v.width;
   const H = v.height + captionHeight(f.caption.length);
   ctx.save();
-  ctx.fillStyle = INK.background;
-  ctx.fillRect(0, 0, W, H);
+  const bg = f.background === undefined ? INK.background : f.background;
+  if (bg !== null) {
+    ctx.fillStyle = bg;
+    ctx.fillRect(0, 0, W, H);
+  }
   ctx.beginPath();
   ctx.rect(0, 0, W, v.height);
   ctx.clip();
-  const sizes = strokeSizes(model, v);
+  const sizes = figureStrokes(f);
+  const gain = f.arrowScale ?? 1;
   const sc = (x: number, y: number) => toScreen(v, x, y);
   const frame = computeFrame(model, f.field, f.turns, f.field ? f.arrows : 'none', newFrame(model));
   ctx.lineCap = 'round';
@@ -38,7 +42,7 @@ export function paintFigure(ctx: CanvasRenderingContext2D, f: FigureSpec): void 
     ctx.lineWidth = sizes.arrow;
     for (let j = 0; j < model.n; j++) {
       const [x, y] = sc(frame.joints[2 * j], frame.joints[2 * j + 1]);
-      arrow(ctx, x, y, frame.arrows[2 * j] * v.scale, -frame.arrows[2 * j + 1] * v.scale, sizes.arrow);
+      arrow(ctx, x, y, frame.arrows[2 * j] * v.scale * gain, -frame.arrows[2 * j + 1] * v.scale * gain, sizes.arrow);
     }
   }
   const rel = f.field?.relative;

@@ -1,7 +1,7 @@
 /** The SVG figure: rest shape, displaced shape, arrows, boundary marks, legend and caption, as vectors. */
 import { AMPLITUDE_GRADIENT, amplitudeColour, INK, STRESS_GRADIENT, stressColour } from '../stage/colours.js';
-import { BarKind, computeFrame, labelPlacement, newFrame, strokeSizes, toScreen, type Vec } from '../stage/scene.js';
-import { CAPTION_LINE, captionHeight, type FigureSpec } from './figure.js';
+import { BarKind, computeFrame, labelPlacement, newFrame, toScreen, type Vec } from '../stage/scene.js';
+import { CAPTION_LINE, captionHeight, figureStrokes, type FigureSpec } from './figure.js';
 
 const n2 = (x: number) => (Math.round(x * 100) / 100).toString();
 
@@ -13,12 +13,13 @@ export function svgFigure(f: FigureSpec, title: string, description: string): st
   const { model, view: v } = f;
   const W = v.width;
   const H = v.height + captionHeight(f.caption.length);
-  const sizes = strokeSizes(model, v);
+  const sizes = figureStrokes(f);
+  const gain = f.arrowScale ?? 1;
   const sc = (x: number, y: number) => toScreen(v, x, y);
   const frame = computeFrame(model, f.field, f.turns, f.field ? f.arrows : 'none', newFrame(model));
   const out: string[] = [];
   out.push(`<?xml version="1.0" encoding="UTF-8"?>`);
-  out.push(`<svg xmlns="http://www.w3.org/2000/svg" width="${W}" height="${H}" viewBox="0 0 ${W} ${H}" font-family="system-ui, Helvetica, Arial, sans-serif">`);
+  out.push(`<svg xmlns="http://www.w3.org/2000/svg" width="${f.outerSize ? f.outerSize[0] : n2(W)}" height="${f.outerSize ? f.outerSize[1] : n2(H)}" viewBox="0 0 ${n2(W)} ${n2(H)}" font-family="system-ui, Helvetica, Arial, sans-serif">`);
   out.push(`<title>${esc(title)}</title>`);
   out.push(`<desc>${esc(description)}</desc>`);
   out.push(`<defs><clipPath id="drawing"><rect x="0" y="0" width="${W}" height="${v.height}"/></clipPath>`);
@@ -27,7 +28,8 @@ export function svgFigure(f: FigureSpec, title: string, description: string): st
     out.push(`<linearGradient id="legend-gradient" x1="0" x2="1" y1="0" y2="0">${stops.map((c, i) => `<stop offset="${n2(i / (stops.length - 1))}" stop-color="${c}"/>`).join('')}</linearGradient>`);
   }
   out.push(`</defs>`);
-  out.push(`<rect x="0" y="0" width="${W}" height="${H}" fill="${INK.background}"/>`);
+  const bg = f.background === undefined ? INK.background : f.background;
+  if (bg !== null) out.push(`<rect id="background" x="0" y="0" width="${n2(W)}" height="${n2(H)}" fill="${bg}"/>`);
   out.push(`<g clip-path="url(#drawing)">`);
   const seg = (a: Vec, b: Vec, attrs = '') => `<line x1="${n2(a[0])}" y1="${n2(a[1])}" x2="${n2(b[0])}" y2="${n2(b[1])}"${attrs}/>`;
   if (f.rest && f.field) {
@@ -46,8 +48,8 @@ export function svgFigure(f: FigureSpec, title: string, description: string): st
     out.push(`<g id="arrows" stroke="${INK.arrow}" fill="${INK.arrow}" stroke-width="${n2(sizes.arrow)}">`);
     for (let j = 0; j < model.n; j++) {
       const [x, y] = sc(frame.joints[2 * j], frame.joints[2 * j + 1]);
-      const ax = frame.arrows[2 * j] * v.scale;
-      const ay = -frame.arrows[2 * j + 1] * v.scale;
+      const ax = frame.arrows[2 * j] * v.scale * gain;
+      const ay = -frame.arrows[2 * j + 1] * v.scale * gain;
       const len = Math.hypot(ax, ay);
       if (len < 1.5) continue;
       const ux = ax / len;

@@ -5,7 +5,7 @@
  */
 import { InputError } from '../../errors.js';
 import type { EdgesData } from '../../worker/protocol.js';
-import type { App } from '../app.js';
+import type { Host } from '../host.js';
 import { RunError } from '../client.js';
 import { clear, fmt, h, newId } from '../dom.js';
 import { download } from '../export/download.js';
@@ -22,7 +22,7 @@ export interface EdgesPanel {
 /** Edge phases k/EDGE_GRID in the ξ(θ) table; 48 has many divisors, so a supercell's phases k/N1 are often in it. */
 export const EDGE_GRID = 48;
 
-export function buildEdgesPanel(app: App): EdgesPanel {
+export function buildEdgesPanel(app: Host): EdgesPanel {
   const phaseId = newId('edge-phase');
   const phase = h('input', { type: 'number', id: phaseId, class: 'num', step: 0.125, value: '0.25', 'data-testid': 'edges-phase' });
   const status = h('span', { class: 'hint', 'aria-live': 'polite', 'data-testid': 'edges-status' });

@@ -1,6 +1,6 @@
 /** Further analyses: the phase-torus map of the unit-cell symbol, the size sweep, and the edge modes. */
 import type { PhaseMapData, SweepData, WorkerFeatures } from '../../worker/protocol.js';
-import type { App } from '../app.js';
+import type { Host } from '../host.js';
 import { RunError } from '../client.js';
 import { append, clear, fmt, h, newId } from '../dom.js';
 import { download } from '../export/download.js';
@@ -19,11 +19,9 @@ export interface ExtrasPanel {
   setFeatures(f: WorkerFeatures): void;
   /** Clears the map and the sweep table: they belong to the previous framework. */
   frameworkChanged(): void;
-  /** A new analysis result is shown (the edge panel compares with its side weights). */
-  resultChanged(): void;
 }
 
-export function buildExtrasPanel(app: App): ExtrasPanel {
+export function buildExtrasPanel(app: Host): ExtrasPanel {
   // ---- phase map
   const gridId = newId('grid');
   const grid = h('select', { id: gridId, 'data-testid': 'phasemap-grid' }, [16, 24, 32, 48, 64, 96].map((g) => h('option', { value: g, selected: g === 32 }, `${g} × ${g}`)));
@@ -275,6 +273,7 @@ export function buildExtrasPanel(app: App): ExtrasPanel {
     if (pm) showPhaseMap();
     edgesPanel.resultChanged();
   };
+  app.onResult(resultChanged);
   const el = h('div', { class: 'extras' }, phaseCard, sweepCard, edgesPanel.el);
   return {
     el,
@@ -283,7 +282,6 @@ export function buildExtrasPanel(app: App): ExtrasPanel {
       frameworkChanged();
       edgesPanel.frameworkChanged();
     },
-    resultChanged,
   };
 }
 

@@ -3,7 +3,7 @@ import { InputError, type Problem } from '../../errors.js';
 import { GALLERY, galleryEntry } from '../../framework/gallery.js';
 import type { Framework } from '../../framework/types.js';
 import { parseFramework } from '../../framework/validate.js';
-import type { App } from '../app.js';
+import type { Host } from '../host.js';
 import { clear, h, section, sliderField, type NumberControl } from '../dom.js';
 import { locate } from '../jsonpath.js';
 import { INK } from '../stage/colours.js';
@@ -23,7 +23,7 @@ function demoName(path: string): string {
   return path.split('/').pop()!.replace(/\.json$/, '');
 }
 
-export function buildFrameworkPanel(app: App): FrameworkPanel {
+export function buildFrameworkPanel(app: Host): FrameworkPanel {
   const picker = h('select', { id: 'framework-picker', 'data-testid': 'gallery-select' });
   const galleryGroup = h('optgroup', { label: 'Gallery lattices' }, GALLERY.map((e) => h('option', { value: `gallery:${e.name}` }, e.title)));
   const demoGroup = h(

@@ -2,7 +2,7 @@
 import { CAUTION_SHORT } from '../../caution.js';
 import { FLEX_CLASSES, type FlexClass } from '../../flex/classes.js';
 import type { ModeData } from '../../worker/protocol.js';
-import type { App } from '../app.js';
+import type { Host } from '../host.js';
 import { clear, fmt, h, section } from '../dom.js';
 import { displayBoundary } from '../state.js';
 
@@ -48,7 +48,7 @@ export function modeSummary(m: ModeData, cells?: readonly [number, number]): str
   return parts.join(' · ');
 }
 
-export function buildResultsPanel(app: App): ResultsPanel {
+export function buildResultsPanel(app: Host): ResultsPanel {
   const status = h('div', { class: 'status', 'data-testid': 'status', 'aria-live': 'polite' });
   const stale = h('div', { class: 'stale', hidden: true, 'data-testid': 'stale' }, 'Settings changed since this result. ', h('button', { type: 'button', class: 'link', onclick: () => app.run() }, 'Run to update'));
   const title = h('p', { class: 'result-title', 'data-testid': 'result-title' });

@@ -1,9 +1,10 @@
 /** The stage panel: animation controls, the pixi canvas host, the colour legend. */
 import { describeBoundary, parseBoundary } from '../../supercell/boundary.js';
-import type { App } from '../app.js';
+import type { Host } from '../host.js';
 import { checkbox, h, select, sliderField } from '../dom.js';
 import { AMPLITUDE_GRADIENT, STRESS_GRADIENT } from '../stage/colours.js';
-import type { ArrowMode } from '../stage/scene.js';
+import { jointVelocity, nearestJoint } from '../export/compose.js';
+import { computeFrame, fieldOf, newFrame, toScreen, toWorldPoint, type ArrowMode } from '../stage/scene.js';
 import type { Stage } from '../stage/stage.js';
 import { LIMITS } from '../state.js';
 import { modeSummary } from './results.js';
@@ -17,9 +18,16 @@ export interface StagePanel {
   showPhase(turns: number): void;
   /** Text shown on the empty stage (before the first result). */
   setEmpty(text: string): void;
+  /** The selection or the drawn flex changed: the joint readout follows. */
+  selectionChanged(): void;
+  /** Where joint k is drawn now (css px from the canvas's top left), or null. */
+  jointOnScreen(k: number): [number, number] | null;
 }
 
-export function buildStagePanel(app: App): StagePanel {
+/** A click picks the nearest joint within this many css px. */
+const PICK_RADIUS = 14;
+
+export function buildStagePanel(app: Host): StagePanel {
   const v = () => app.state.view;
   let stage: Stage | null = null;
   const play = h('button', { type: 'button', class: 'primary small', 'data-testid': 'play', 'aria-pressed': 'true', onclick: () => app.togglePlay() }, 'Pause');
@@ -89,6 +97,55 @@ export function buildStagePanel(app: App): StagePanel {
     else if (e.key === '0') stage?.fit();
   });
   const legend = h('div', { class: 'legend', 'data-testid': 'legend', hidden: true });
+  const readout = h('div', { class: 'joint-readout mono', 'data-testid': 'joint-readout', 'aria-live': 'polite', hidden: true });
+  /** The joint whose velocity the readout shows. */
+  let picked: number | null = null;
+  /** Joint positions as drawn now (world units), with the view; null without a drawn flex. */
+  const drawnJoints = () => {
+    const src = app.figureSource();
+    const view = stage?.view();
+    if (!src || !view) return null;
+    const u = app.drawnMotion();
+    const field = u ? fieldOf(src.model, u, app.state.view.amplitude) : null;
+    return { frame: computeFrame(src.model, field, src.turns, 'none', newFrame(src.model)), view };
+  };
+  const jointOnScreen = (k: number): [number, number] | null => {
+    const d = drawnJoints();
+    if (!d || k < 0 || 2 * k + 1 >= d.frame.joints.length) return null;
+    return toScreen(d.view, d.frame.joints[2 * k], d.frame.joints[2 * k + 1]);
+  };
+  const showReadout = () => {
+    const r = app.result;
+    const u = app.drawnMotion();
+    if (picked === null || !r || !u || 2 * picked + 1 >= u.re.length) {
+      readout.hidden = true;
+      readout.textContent = '';
+      for (const k of ['joint', 'uxRe', 'uxIm', 'uyRe', 'uyIm']) delete readout.dataset[k];
+      return;
+    }
+    const jv = jointVelocity(u, picked);
+    const g = r.geometry;
+    const c = (z: [number, number]) => (z[1] === 0 ? z[0].toPrecision(6) : `${z[0].toPrecision(6)} ${z[1] < 0 ? '−' : '+'} ${Math.abs(z[1]).toPrecision(6)}i`);
+    readout.hidden = false;
+    readout.textContent = `joint ${picked} (cell ${g.jointCells[2 * picked]}, ${g.jointCells[2 * picked + 1]}; site ${picked % g.sites}): u = (${c(jv.ux)}, ${c(jv.uy)}), |u| = ${jv.norm.toPrecision(6)}, ${(100 * jv.relative).toFixed(1)} % of the largest`;
+    Object.assign(readout.dataset, { joint: String(picked), uxRe: String(jv.ux[0]), uxIm: String(jv.ux[1]), uyRe: String(jv.uy[0]), uyIm: String(jv.uy[1]) });
+  };
+  // a new result may have other joints: the readout starts empty
+  app.onResult(() => (picked = null));
+  // a click (not a drag) on the stage reads the velocity of the nearest joint
+  let down: [number, number] | null = null;
+  host.addEventListener('pointerdown', (e) => (down = [e.clientX, e.clientY]));
+  host.addEventListener('pointerup', (e) => {
+    const start = down;
+    down = null;
+    if (!start || Math.hypot(e.clientX - start[0], e.clientY - start[1]) > 4) return;
+    const d = drawnJoints();
+    if (!d || !app.drawnMotion()) return;
+    const box = (host.querySelector('canvas') ?? host).getBoundingClientRect();
+    const [x, y] = toWorldPoint(d.view, e.clientX - box.left, e.clientY - box.top);
+    picked = nearestJoint(d.frame.joints, x, y, PICK_RADIUS / d.view.scale);
+    showReadout();
+  });
   const info = h('div', { class: 'stage-info', 'data-testid': 'stage-info' });
   const empty = h('div', { class: 'stage-empty' }, 'Computing the demo…');
   const frame = h('div', { class: 'stage-frame' }, host, empty);
@@ -149,7 +206,7 @@ export function buildStagePanel(app: App): StagePanel {
     phase.textContent = `φ/2π = ${t.toFixed(3)}`;
   };
 
-  const el = h('section', { class: 'panel stage-panel', 'aria-label': 'Stage' }, toolbar, frame, h('div', { class: 'stage-foot' }, info, legend));
+  const el = h('section', { class: 'panel stage-panel', 'aria-label': 'Stage' }, toolbar, frame, readout, h('div', { class: 'stage-foot' }, info, legend));
   return {
     el,
     host,
@@ -167,5 +224,7 @@ export function buildStagePanel(app: App): StagePanel {
     setEmpty(text: string) {
       empty.textContent = text;
     },
+    selectionChanged: showReadout,
+    jointOnScreen,
   };
 }

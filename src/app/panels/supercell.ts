@@ -1,7 +1,7 @@
 /** Supercell panel: size, boundary rule per side or per axis, tolerance, class widths, Run. */
 import { InputError, formatProblem } from '../../errors.js';
 import { describeBoundary, parseBoundary, type AxisRule, type Boundary, type SideRule } from '../../supercell/boundary.js';
-import type { App } from '../app.js';
+import type { Host } from '../host.js';
 import type { SolverChoice } from '../../flex/solver.js';
 import { checkbox, clear, h, newId, section, select, sliderField } from '../dom.js';
 import { estimateText } from './size-guard.js';
@@ -27,7 +27,7 @@ function intInput(label: string, value: number, min: number, max: number, testid
   return { el: h('div', { class: 'field' }, h('label', { for: id }, label), input, msg), input, msg };
 }
 
-export function buildSupercellPanel(app: App): SupercellPanel {
+export function buildSupercellPanel(app: Host): SupercellPanel {
   const s = () => app.state;
   const n1 = intInput('N1 (cells along a₁)', s().cells[0], 1, LIMITS.cells.max, 'cells-n1', (v) => {
     s().cells = [v, s().cells[1]];
