@@ -1,7 +1,7 @@
 /**
  * The shimmy command line: a thin shell over the computational core.
  * Exit codes: 0 success, 2 bad input (flags, sizes, files), 3 too large for memory, 4 a failed
- * self-check (count --verify), 1 internal error.
+ * self-check (count --verify), 5 a batch with at least one failed job, 1 internal error.
  */
 import { InputError, TooLargeError } from '../errors.js';
 import { parseArgs, suggest } from './args.js';
