@@ -57,9 +57,9 @@ import type { Supercell } from '../supercell/supercell.js';
 import { rigidityMatrix } from '../supercell/rigidity.js';
 import { denseFallback } from './solve-dense.js';
 import { throwIfAborted, type Progress, type SolvedSpaces, type SolveOptions, type SolveStatus, type SpaceSolver } from './solver.js';
-import { checkMemory, choleskyShifted, inertiaCount, inertiaError, type Ctx, type InertiaRun } from './sparse/factors.js';
+import { checkMemory, choleskyShifted, factorReport, inertiaCount, inertiaError, type Ctx, type FactorChoice, type FactorReport, type InertiaRun } from './sparse/factors.js';
 import { certifiedIteration, nullBasisIteration, type InertiaEvidence } from './sparse/iteration.js';
-import { makeSides, type Side } from './sparse/sides.js';
+import { makeSides, type Side, type SidePositions } from './sparse/sides.js';
 
 /** Largest growth of the unpivoted LDLᴴ of K − τI for which it also serves as the shift-invert operator. */
 const GROWTH_LIMIT = 1e4;
@@ -88,7 +88,14 @@ export interface SparseSolveOptions extends SolveOptions {
   denseFallback?: (R: SparseMatrix) => SolvedSpaces | null;
   /** Text after "Fix: " in a TooLargeError, given the bytes needed and allowed. */
   sizeAdvice?: (bytesNeeded: number, bytesAllowed: number) => string;
+  /** Band or sparse (nested-dissection) factorisations of K; default 'auto' (sparse/factors.ts factorPlan). */
+  factor?: FactorChoice;
+  /** Positions of R's columns and rows for the nested-dissection ordering; without them it uses the graph alone. */
+  positions?: SidePositions;
 }
+
+/** The status of a sparse count, with how its count side was factored (count --json: status.factorisation). */
+export type SparseStatus = SolveStatus & { factorisation: FactorReport };
 
 /** The band layout the solver would use, and what it would allocate. */
 export interface SparsePlan {
@@ -157,6 +164,7 @@ export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): Solv
     progress: report,
     advice: options.sizeAdvice ?? (() => 'use fewer cells'),
     rand: seededUniform(options.seed ?? 1, -0.5, 0.5),
+    factor: options.factor,
   };
   const c = options.inertiaShift ?? 1e-3;
   const cChol = options.choleskyShift ?? 1e-4;
@@ -165,7 +173,7 @@ export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): Solv
   check();
   report(0, 'ordering');
   const RH = conjugateTranspose(R);
-  const { flex, stress } = makeSides(R, RH);
+  const { flex, stress } = makeSides(R, RH, options.positions);
   // 2. the inertia count runs on the smaller Gram matrix: check its band fits before anything else
   const countSide = m <= n ? stress : flex;
   const otherSide = countSide === stress ? flex : stress;
@@ -199,6 +207,7 @@ export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): Solv
 
   const tau = (c * sigmaMax) ** 2;
   const first = inertiaCount(countSide, tau, ctx, 0.06, 0.45);
+  const factor = factorReport(countSide, ctx);
   const kCount = first.below;
   // The inertia count runs on the smaller Gram matrix, and the subspace iteration on the same
   // side: the other side has (its dimension − this one's) more small eigenvalues.
@@ -267,11 +276,13 @@ export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): Solv
           it.sweeps === 0 ? 'none at or below the cut (the inertia count puts no eigenvalue below τ)' : `${nullCount} at or below the cut by subspace iteration (${it.sweeps} sweeps on ${q0}+ vectors)`
         }, ${it.keptIsBound ? 'the smallest above it not measured (its certified lower bound is reported)' : `the smallest above it by Lanczos (${it.lanczosSteps ?? 0} steps, an upper bound)`}, with ${operator}`
       : `σ from ‖${side.opName} v‖ of the eigenvectors of K = ${side.gramName} (a full Rayleigh–Ritz: the side has only ${side.dim} dimensions)`,
+    `${side.gramName} factored by ${factor.reason}`,
     `inertia counts: ${counts.join(', ')}; rounding bound e = ${(evidence.error / (sigmaMax * sigmaMax)).toExponential(1)}·σ_max² (growth ${first.growth.toPrecision(3)})`,
     given !== undefined ? 'σ_max given by the caller' : `σ_max by Lanczos (${lz.steps} steps)`,
   ];
   if (!it.converged) notes.push('the iteration stopped before the smallest kept σ settled: it is an upper bound');
-  const status: SolveStatus = {
+  const status: SparseStatus = {
+    factorisation: factor,
     certified: certificate.certified,
     criterion: 'inertia-and-residuals',
     converged: it.converged,
@@ -330,5 +341,20 @@ function adviceFor(sc: Supercell): (need: number, allowed: number) => string {
   };
 }
 
+/** Joint positions for R's columns, bar midpoints for its rows (a grounded bar's from its joint). */
+function sidePositions(sc: Supercell): SidePositions {
+  const p = sc.positions;
+  const columns = new Float64Array(4 * sc.jointCount);
+  for (let k = 0; k < sc.jointCount; k++) columns.set([p[2 * k], p[2 * k + 1], p[2 * k], p[2 * k + 1]], 4 * k);
+  const rows = new Float64Array(2 * sc.bars.length);
+  sc.bars.forEach((b, r) => {
+    const [vx, vy] = b.vector;
+    const [x, y] = b.a >= 0 ? [p[2 * b.a] + vx / 2, p[2 * b.a + 1] + vy / 2] : [p[2 * b.b] - vx / 2, p[2 * b.b + 1] - vy / 2];
+    rows[2 * r] = x;
+    rows[2 * r + 1] = y;
+  });
+  return { columns, rows };
+}
+
 export const sparseSolver: SpaceSolver = (sc, R, options) =>
-  sparseSpaces(R ?? rigidityMatrix(sc), { ...options, sizeAdvice: adviceFor(sc), denseFallback: denseFallback(options) });
+  sparseSpaces(R ?? rigidityMatrix(sc), { ...options, positions: sidePositions(sc), sizeAdvice: adviceFor(sc), denseFallback: denseFallback(options) });

@@ -55,6 +55,19 @@ export interface SolveStatus {
    * asked for: `gap: 'bound'`), which spares the Lanczos run that measures it.
    */
   keptSigma: 'measured' | 'lower-bound';
+  /** Sparse solver only: how the count side's Gram matrix was factored (src/flex/sparse/factors.ts). */
+  factorisation?: FactorReport;
+}
+
+export interface FactorReport {
+  method: 'band' | 'sparse-ldl';
+  reason: string;
+  /** nnz(L) and flops of one factorisation by the method used. */
+  nnzL: number;
+  flops: number;
+  /** The band's figures, for comparison. */
+  bandNnzL: number;
+  bandFlops: number;
 }
 
 export interface SolvedSpaces {

@@ -13,11 +13,10 @@ import {
   orthonormalise,
   type Block,
 } from '../../linalg/block.js';
-import type { LdlFactor } from '../../linalg/banded.js';
 import { certifyCount, type CountCertificate } from '../../linalg/count-certificate.js';
 import { hermitianEigen } from '../../linalg/hermitian-eig.js';
 import { EPS } from '../../linalg/rank.js';
-import { applyInverse, type Ctx } from './factors.js';
+import { applyInverse, type Ctx, type GramFactor } from './factors.js';
 import type { Side } from './sides.js';
 
 // ---------------------------------------------------------------------------------------------
@@ -158,7 +157,7 @@ export interface InertiaEvidence {
  */
 export function certifiedIteration(
   side: Side,
-  F: LdlFactor | null,
+  F: GramFactor | null,
   q0: number,
   inertia: InertiaEvidence,
   tol: number,
@@ -285,7 +284,7 @@ export function certifiedIteration(
  */
 export function lanczosSmallestKept(
   side: Side,
-  F: LdlFactor,
+  F: GramFactor,
   locked: Block,
   lockedSigma: number[],
   start: Block,
@@ -416,7 +415,7 @@ export function lanczosSmallestKept(
  * shrinks the other directions by δ/σ_{k+1}²; the block is orthonormalised and every vector's
  * residual ‖A v‖ measured, and solves repeat until each is ≤ max(1e-3·tol, 16ε·σ_max) (at most 8).
  */
-export function nullBasisIteration(side: Side, F: LdlFactor, k: number, tol: number, sigmaMax: number, ctx: Ctx, p0: number, p1: number): Block {
+export function nullBasisIteration(side: Side, F: GramFactor, k: number, tol: number, sigmaMax: number, ctx: Ctx, p0: number, p1: number): Block {
   const dim = side.dim;
   const X: Block = { len: dim, re: [], im: ctx.complex ? [] : null };
   addRandomColumns(X, k, ctx.rand);

@@ -3,6 +3,7 @@
  * band orderings and the Gram band K = AᴴA.
  */
 import { createBand, reverseCuthillMcKee, type BandMatrix, type Graph } from '../../linalg/banded.js';
+import type { HermitianCsr } from '../../linalg/sparse-ldl/index.js';
 import type { SparseMatrix } from '../../linalg/sparse.js';
 
 // ---------------------------------------------------------------------------------------------
@@ -19,6 +20,14 @@ export interface Side {
   bw: number;
   gramName: string;
   opName: string;
+  /** x, y of each unknown (2 per unknown) for the nested-dissection ordering, or null (graph only). */
+  positions: Float64Array | null;
+}
+
+/** Where the unknowns of each side lie: R's columns (joint positions) and rows (bar midpoints), 2 numbers each. */
+export interface SidePositions {
+  columns: Float64Array | null;
+  rows: Float64Array | null;
 }
 
 /** Half-bandwidth of AᴴA when its rows/columns are permuted by perm. */
@@ -76,7 +85,7 @@ export function narrowest(A: SparseMatrix, perms: Int32Array[]): { perm: Int32Ar
   return best;
 }
 
-export function makeSides(R: SparseMatrix, RH: SparseMatrix): { flex: Side; stress: Side } {
+export function makeSides(R: SparseMatrix, RH: SparseMatrix, positions?: SidePositions): { flex: Side; stress: Side } {
   const n = R.cols;
   const m = R.rows;
   const identity = (k: number) => Int32Array.from({ length: k }, (_, i) => i);
@@ -98,8 +107,8 @@ export function makeSides(R: SparseMatrix, RH: SparseMatrix): { flex: Side; stre
   const rowRcm = inversePermutation(reverseCuthillMcKee(gramGraph(RH, R)));
   const rows = narrowest(RH, [inversePermutation(byCell), rowRcm]);
   return {
-    flex: { kind: 'flexes', A: R, AH: RH, dim: n, perm: cols.perm, bw: Math.min(cols.bw, Math.max(0, n - 1)), gramName: 'RᴴR', opName: 'R' },
-    stress: { kind: 'selfStresses', A: RH, AH: R, dim: m, perm: rows.perm, bw: Math.min(rows.bw, Math.max(0, m - 1)), gramName: 'RRᴴ', opName: 'Rᴴ' },
+    flex: { kind: 'flexes', A: R, AH: RH, dim: n, perm: cols.perm, bw: Math.min(cols.bw, Math.max(0, n - 1)), gramName: 'RᴴR', opName: 'R', positions: positions?.columns ?? null },
+    stress: { kind: 'selfStresses', A: RH, AH: R, dim: m, perm: rows.perm, bw: Math.min(rows.bw, Math.max(0, m - 1)), gramName: 'RRᴴ', opName: 'Rᴴ', positions: positions?.rows ?? null },
   };
 }
 
@@ -128,4 +137,60 @@ export function gramBand(side: Side): BandMatrix {
     }
   }
   return G;
+}
+
+/** K = AᴴA with both triangles stored, in the side's own (unpermuted) numbering. */
+export function gramCsr(side: Side): HermitianCsr {
+  const { A, AH } = side;
+  const n = side.dim;
+  const mark = new Int32Array(n).fill(-1);
+  const accR = new Float64Array(n);
+  const accI = A.im ? new Float64Array(n) : null;
+  const ptr = new Int32Array(n + 1);
+  let idx = new Int32Array(Math.max(16, 8 * n));
+  let re = new Float64Array(idx.length);
+  let im = accI ? new Float64Array(idx.length) : null;
+  let w = 0;
+  const row: number[] = [];
+  for (let i = 0; i < n; i++) {
+    row.length = 0;
+    // K_ij = Σ_r conj(A_ri) A_rj; AH's row i holds conj(A_ri)
+    for (let a = AH.rowPtr[i]; a < AH.rowPtr[i + 1]; a++) {
+      const r = AH.colIdx[a];
+      const xr = AH.re[a];
+      const xi = AH.im ? AH.im[a] : 0;
+      for (let b = A.rowPtr[r]; b < A.rowPtr[r + 1]; b++) {
+        const j = A.colIdx[b];
+        if (mark[j] !== i) {
+          mark[j] = i;
+          accR[j] = 0;
+          if (accI) accI[j] = 0;
+          row.push(j);
+        }
+        const yr = A.re[b];
+        accR[j] += xr * yr - (A.im ? xi * A.im[b] : 0);
+        if (accI) accI[j] += xr * A.im![b] + xi * yr;
+      }
+    }
+    if (mark[i] !== i) row.push(i); // an empty column still gets its (zero) diagonal
+    row.sort((x, y) => x - y);
+    if (w + row.length > idx.length) {
+      const size = Math.max(2 * idx.length, w + row.length);
+      const grow = <T extends Int32Array | Float64Array>(old: T, fresh: T): T => {
+        fresh.set(old);
+        return fresh;
+      };
+      idx = grow(idx, new Int32Array(size));
+      re = grow(re, new Float64Array(size));
+      if (im) im = grow(im, new Float64Array(size));
+    }
+    for (const j of row) {
+      idx[w] = j;
+      re[w] = mark[j] === i ? accR[j] : 0;
+      if (im) im[w] = mark[j] === i && j !== i ? accI![j] : 0;
+      w++;
+    }
+    ptr[i + 1] = w;
+  }
+  return { n, ptr, idx: idx.slice(0, w), re: re.slice(0, w), im: im ? im.slice(0, w) : null };
 }
