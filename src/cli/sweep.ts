@@ -1,4 +1,5 @@
 /** `shimmy sweep`: classify the flexes at a series of sizes and fit their growth with N. */
+import { CAUTION } from '../caution.js';
 import { InputError } from '../errors.js';
 import { SWEEP_QUANTITIES, sweep, twistSweep, type SweepResult, type SweepRow, type TwistSweepRow } from '../flex/sweep.js';
 import { MAX_CELLS_PER_AXIS } from '../supercell/supercell.js';
@@ -208,6 +209,7 @@ export const sweepCommand: Command = {
       const warned = result.rows.filter((r) => r.warnings.length);
       io.out('\n' + fitLines(result).join('\n') + '\n');
       for (const r of warned) io.out(`\nWarning at ${r.N1}×${r.N2}: ${r.warnings.join('; ')}\n`);
+      io.out(`\n${CAUTION}\n`);
     }
     return 0;
   },
@@ -257,6 +259,9 @@ function runTwist(args: Parameters<Command['run']>[0], io: Parameters<Command['r
     // schema/twist-sweep.schema.json
     io.out(safeJson(JSON.stringify({ schemaVersion: 'shimmy.twist-sweep/1', framework: a.spec, name: a.framework.name ?? null, cells: a.cells, boundary: a.bcText, ...result }, null, 2)) + '\n');
   }
-  if (mode === 'table') for (const r of result.rows.filter((x) => x.warnings.length)) io.out(`\nWarning at θ = ${r.theta}: ${r.warnings.join('; ')}\n`);
+  if (mode === 'table') {
+    for (const r of result.rows.filter((x) => x.warnings.length)) io.out(`\nWarning at θ = ${r.theta}: ${r.warnings.join('; ')}\n`);
+    io.out(`\n${CAUTION}\n`);
+  }
   return 0;
 }
