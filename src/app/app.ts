@@ -17,7 +17,7 @@ import { buildResultsPanel, type ResultsPanel } from './panels/results.js';
 import { buildSizeGuard, type SizeGuard } from './panels/size-guard.js';
 import { buildStagePanel, type StagePanel } from './panels/stage-panel.js';
 import { buildSupercellPanel, type SupercellPanel } from './panels/supercell.js';
-import { buildScene, fieldOf, stressValues, type SceneModel } from './stage/scene.js';
+import { buildScene, fieldOf, stressForceValues, stressWidths, type SceneModel } from './stage/scene.js';
 import { Stage, type DrawMode } from './stage/stage.js';
 
 export { AUTO_RUN_MAX_DOF, GUARD_LIMITS, round, roundTurns } from './controller.js';
@@ -162,8 +162,11 @@ export class App implements ViewPort {
     const r = this.controller.result;
     const v = this.controller.state.view;
     if (r && this.model) {
-      if (v.show === 'stress' && r.stresses[v.stress]) this.stage.setStress(stressValues(r.stresses[v.stress]));
-      else {
+      if (v.show === 'stress' && r.stresses[v.stress]) {
+        // colour and width both follow the bar force t_b = w_b·|p_b|
+        const values = stressForceValues(r.stresses[v.stress], r.geometry);
+        this.stage.setStress(values, stressWidths(values));
+      } else {
         const u = this.controller.drawnMotion();
         this.stage.setField(u ? fieldOf(this.model, u, v.amplitude) : null);
       }
@@ -244,6 +247,20 @@ export class App implements ViewPort {
   /** Where joint k is drawn now on the stage canvas (css px from its top left), for scripts and tests. */
   jointOnScreen(k: number): [number, number] | null {
     return this.stagePanel.jointOnScreen(k);
+  }
+
+  /**
+   * The self-stress on the stage, for scripts and tests: its index, its bar forces as the
+   * result holds them (null for an unclassified basis vector) and the bar widths as drawn
+   * (css px, read back from the stage).
+   */
+  stressDrawing(): { index: number; forces: number[] | null; widths: number[]; baseWidth: number } | null {
+    const r = this.controller.result;
+    const v = this.controller.state.view;
+    const st = r && v.show === 'stress' ? r.stresses[v.stress] : undefined;
+    const drawn = st ? this.stage.drawnBarWidths() : null;
+    if (!st || !drawn) return null;
+    return { index: v.stress, forces: st.forces ? Array.from(st.forces) : null, widths: Array.from(drawn.factors, (f) => f * drawn.base), baseWidth: drawn.base };
   }
 
   // ---- keyboard and drag-and-drop ---------------------------------------------------------------

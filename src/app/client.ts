@@ -5,7 +5,24 @@
  * An explicit cancel first asks the worker to stop at its next checkpoint and terminates it if
  * it has not stopped within CANCEL_GRACE_MS.
  */
-import type { AnalyseJob, AnalyseResult, EdgesData, EdgesJob, PhaseMapData, PhaseMapJob, SweepData, SweepJob, WorkerError, WorkerFeatures, WorkerRequest, WorkerResponse } from '../worker/protocol.js';
+import type {
+  AnalyseJob,
+  AnalyseResult,
+  EdgesData,
+  EdgesJob,
+  PhaseMapData,
+  PhaseMapJob,
+  PrestressData,
+  PrestressJob,
+  StrainData,
+  StrainJob,
+  SweepData,
+  SweepJob,
+  WorkerError,
+  WorkerFeatures,
+  WorkerRequest,
+  WorkerResponse,
+} from '../worker/protocol.js';
 
 export const CANCEL_GRACE_MS = 200;
 
@@ -31,7 +48,9 @@ type Job =
   | { type: 'analyse'; job: AnalyseJob }
   | { type: 'phasemap'; job: PhaseMapJob }
   | { type: 'sweep'; job: SweepJob }
-  | { type: 'edges'; job: EdgesJob };
+  | { type: 'edges'; job: EdgesJob }
+  | { type: 'strain'; job: StrainJob }
+  | { type: 'prestress'; job: PrestressJob };
 
 function spawn(): Worker {
   return new Worker(new URL('../worker/worker.ts', import.meta.url), { type: 'module', name: 'shimmy-compute' });
@@ -141,6 +160,9 @@ export class ComputeClient {
   private spectrum = new Channel();
   /** Edge physics runs beside a phase map or a sweep (its worker starts on the first request). */
   private edgeChannel = new Channel();
+  /** The strain view and the prestress check each run on their own (workers start on the first request). */
+  private strainChannel = new Channel();
+  private prestressChannel = new Channel();
 
   features(): Promise<WorkerFeatures> {
     return this.analysis.featureList();
@@ -160,6 +182,18 @@ export class ComputeClient {
   cancelEdges(): Promise<void> {
     return this.edgeChannel.cancel();
   }
+  strain(job: StrainJob, onProgress?: ProgressListener): Promise<StrainData> {
+    return this.strainChannel.run({ type: 'strain', job }, onProgress);
+  }
+  cancelStrain(): Promise<void> {
+    return this.strainChannel.cancel();
+  }
+  prestress(job: PrestressJob, onProgress?: ProgressListener): Promise<PrestressData> {
+    return this.prestressChannel.run({ type: 'prestress', job }, onProgress);
+  }
+  cancelPrestress(): Promise<void> {
+    return this.prestressChannel.cancel();
+  }
   get analysing(): boolean {
     return this.analysis.busy;
   }
@@ -173,5 +207,7 @@ export class ComputeClient {
     this.analysis.dispose();
     this.spectrum.dispose();
     this.edgeChannel.dispose();
+    this.strainChannel.dispose();
+    this.prestressChannel.dispose();
   }
 }

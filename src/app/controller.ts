@@ -400,7 +400,8 @@ export class Controller implements Host {
     const framework = checkFramework(frameworkOf(s.framework));
     checkCells(s.cells);
     parseBoundary(s.bc);
-    return { framework, cells: [s.cells[0], s.cells[1]], bc: s.bc, tolerance: s.tolerance, solver: s.solver, window: s.window, strip: s.strip, stresses: s.stresses, classify: s.classify };
+    // with classes on, the self-stresses come localised and classified too
+    return { framework, cells: [s.cells[0], s.cells[1]], bc: s.bc, tolerance: s.tolerance, solver: s.solver, window: s.window, strip: s.strip, stresses: s.stresses, classify: s.classify, classifyStresses: s.classify };
   }
 
   run(): void {

@@ -16,8 +16,32 @@ import { sweep } from '../flex/sweep.js';
 import { sideWeights } from '../flex/side-weights.js';
 import { rigidMotions } from '../flex/rigid.js';
 import { edges } from '../edges/edges.js';
+import { checkFramework } from '../framework/validate.js';
+import { flexibleLattice } from '../strain/flexible-lattice.js';
+import { prestress } from '../stress/prestress.js';
+import { axialForces, classifyStresses } from '../stress/classify/classify.js';
+import { parseBoundary } from '../supercell/boundary.js';
+import { buildSupercell } from '../supercell/supercell.js';
 import { geometryOf } from './geometry.js';
-import type { AnalyseJob, AnalyseResult, EdgesData, EdgesJob, ModeData, PhaseMapData, PhaseMapJob, StressData, SweepData, SweepJob, WorkerError, WorkerFeatures } from './protocol.js';
+import type {
+  AnalyseJob,
+  AnalyseResult,
+  EdgesData,
+  EdgesJob,
+  ModeData,
+  PhaseMapData,
+  PhaseMapJob,
+  PrestressData,
+  PrestressJob,
+  StrainData,
+  StrainJob,
+  StressClassificationData,
+  StressData,
+  SweepData,
+  SweepJob,
+  WorkerError,
+  WorkerFeatures,
+} from './protocol.js';
 
 /** Side weights need the whole flex basis: computed up to this many columns (as `shimmy classify` does by default). */
 export const SIDE_WEIGHTS_MAX_DOF = 2400;
@@ -95,11 +119,28 @@ export async function analyse(job: AnalyseJob, hooks: Hooks = {}): Promise<Analy
 
   let stresses: StressData[] = [];
   let stressNote: string | undefined;
+  let stressSource: AnalyseResult['stressSource'] = 'basis';
+  let stressClassification: StressClassificationData | null = null;
+  let stressClassificationNote: string | undefined;
   if (job.stresses && analysis.selfStresses > 0) {
-    progress(0.55, 'finding the self-stresses');
+    progress(0.55, job.classifyStresses ? 'finding the self-stresses and where they live' : 'finding the self-stresses');
     await step();
     try {
-      stresses = analysis.selfStressBasis().vectors.map((v) => split(v, analysis.real));
+      let c: ReturnType<typeof classifyStresses> | null = null;
+      if (job.classifyStresses) {
+        try {
+          c = classifyStresses(supercell, analysis, { window: job.window, strip: job.strip });
+        } catch (e) {
+          // the basis is still worth showing; the note says why it is not classified
+          if (e instanceof TooLargeError || e instanceof CancelledError) throw e;
+          stressClassificationNote = `the self-stresses could not be classified (${e instanceof Error ? e.message : String(e)}); the list shows the solver's basis`;
+        }
+      }
+      if (c) {
+        stresses = c.modes.map((m) => stressDataOf(m, supercell, analysis.real));
+        stressSource = 'classified';
+        stressClassification = { counts: { ...c.counts }, thresholds: { ...c.thresholds }, shortStripStresses: c.shortStripStresses, macroscopic: c.macroscopic ? { ...c.macroscopic } : null, ...(c.warnings?.length ? { warnings: [...c.warnings] } : {}) };
+      } else stresses = analysis.selfStressBasis().vectors.map((v) => split(v, analysis.real));
     } catch (e) {
       if (!(e instanceof TooLargeError)) throw e;
       stressNote = e.message;
@@ -161,7 +202,49 @@ export async function analyse(job: AnalyseJob, hooks: Hooks = {}): Promise<Analy
     }
   }
   progress(1, 'done');
-  return { counts, rigid, geometry, modes, modeSource, classification, ...(classificationNote ? { classificationNote } : {}), stresses, ...(stressNote ? { stressNote } : {}), timings };
+  return { counts, rigid, geometry, modes, modeSource, classification, ...(classificationNote ? { classificationNote } : {}), stresses, stressSource, stressClassification, ...(stressClassificationNote ? { stressClassificationNote } : {}), ...(stressNote ? { stressNote } : {}), timings };
+}
+
+/** A classified self-stress as sent to the app: its vector, metrics, axial forces and macroscopic stress. */
+function stressDataOf(m: ReturnType<typeof classifyStresses>['modes'][number], sc: Parameters<typeof axialForces>[0], real: boolean): StressData {
+  const { re, im } = split(m.vector, real);
+  const out: StressData = { re, im, class: m.class, participation: m.participation, support: m.support, extents: [m.extents[0], m.extents[1]] };
+  // real supercells only: a complex stress's forces are aligned by the app before drawing
+  if (real) out.forces = Float64Array.from(axialForces(sc, m.vector).re);
+  if (m.direction) out.direction = [m.direction[0], m.direction[1]];
+  if (m.anchor) out.anchor = { kind: m.anchor.kind, name: m.anchor.name, at: [m.anchor.at[0], m.anchor.at[1]] };
+  if (m.decayLength !== undefined) out.decayLength = m.decayLength;
+  if (m.region !== undefined) out.region = m.region;
+  if (m.fitQuality !== undefined) out.fitQuality = m.fitQuality;
+  if (m.headWeight !== undefined) out.headWeight = m.headWeight;
+  if (m.macroscopicStress) out.macroscopicStress = { ...m.macroscopicStress };
+  return out;
+}
+
+/** Flexes with a flexible lattice on the periodic cell (1×1 or the job's block), with the cell as drawn. */
+export async function runStrain(job: StrainJob, hooks: Hooks = {}): Promise<StrainData> {
+  await hooks.checkpoint?.();
+  throwIfAborted(hooks.signal);
+  hooks.onProgress?.(0, 'flexes of the cell with a deforming lattice');
+  const result = JSON.parse(JSON.stringify(flexibleLattice(job.framework, { cells: job.cells, tolerance: job.tolerance }))) as StrainData['result'];
+  // the same validated framework and cell as flexibleLattice builds, so joints come in its order
+  const geometry = geometryOf(buildSupercell(checkFramework(job.framework), [job.cells[0], job.cells[1]], parseBoundary('periodic')));
+  hooks.onProgress?.(1, 'done');
+  return { result, geometry };
+}
+
+/** The prestress check of the job's supercell (the boundary must be real: src/stress/prestress.ts says why). */
+export async function runPrestress(job: PrestressJob, hooks: Hooks = {}): Promise<PrestressData> {
+  await hooks.checkpoint?.();
+  throwIfAborted(hooks.signal);
+  hooks.onProgress?.(0, 'flexes and self-stresses of the supercell');
+  const { supercell, analysis } = run({ framework: job.framework, cells: job.cells, boundary: job.bc, tolerance: job.tolerance, solver: job.solver, signal: hooks.signal, classify: false });
+  await hooks.checkpoint?.();
+  throwIfAborted(hooks.signal);
+  hooks.onProgress?.(0.5, 'the stress energy on the flexes');
+  const r = JSON.parse(JSON.stringify(prestress(supercell, analysis))) as PrestressData;
+  hooks.onProgress?.(1, 'done');
+  return r;
 }
 
 export async function runPhaseMap(job: PhaseMapJob, hooks: Hooks = {}): Promise<PhaseMapData> {

@@ -17,6 +17,9 @@ import type { SolverChoice } from '../flex/solver.js';
 import type { SweepResult } from '../flex/sweep.js';
 import type { SideWeights } from '../flex/side-weights.js';
 import type { EdgesResult } from '../edges/edges.js';
+import type { FlexibleLatticeResult } from '../strain/flexible-lattice.js';
+import type { PrestressResult } from '../stress/prestress.js';
+import type { MacroStress } from '../stress/classify/macroscopic.js';
 
 /** One supercell analysis: what `shimmy count` does, plus bases and classes for display. */
 export interface AnalyseJob {
@@ -36,6 +39,25 @@ export interface AnalyseJob {
   stresses: boolean;
   /** Split the flexes into classes (local / line / decaying / bulk). */
   classify: boolean;
+  /** Send the self-stresses localised and classified (src/stress/classify) in place of the raw basis. */
+  classifyStresses?: boolean;
+}
+
+/** Flexes of the framework with a flexible lattice (src/strain/flexible-lattice.ts) on a periodic cell. */
+export interface StrainJob {
+  framework: Framework;
+  /** The cell: [1, 1] for the unit cell, or an N1×N2 periodic block. */
+  cells: [number, number];
+  tolerance: number;
+}
+
+/** The prestress check (src/stress/prestress.ts) of one supercell; the boundary must be real. */
+export interface PrestressJob {
+  framework: Framework;
+  cells: [number, number];
+  bc: string;
+  tolerance: number;
+  solver: SolverChoice;
 }
 
 export interface PhaseMapJob {
@@ -68,6 +90,8 @@ export type WorkerRequest =
   | { type: 'phasemap'; id: number; job: PhaseMapJob }
   | { type: 'sweep'; id: number; job: SweepJob }
   | { type: 'edges'; id: number; job: EdgesJob }
+  | { type: 'strain'; id: number; job: StrainJob }
+  | { type: 'prestress'; id: number; job: PrestressJob }
   | { type: 'cancel'; id: number };
 
 /** The supercell as drawn: joints and the rows of the rigidity matrix (kept and grounded bars). */
@@ -109,10 +133,29 @@ export interface ModeData extends Partial<Omit<ClassifiedMode, 'class' | 'vector
   participation: number;
 }
 
-/** One basis self-stress: a tension per row (bar), im null when real. */
-export interface StressData {
+/**
+ * One self-stress: w per row (bar; unit 2-norm, force per unit length), im null when real.
+ * Classified self-stresses also carry their class, the metrics of src/stress/classify (support
+ * in bars, extents in cells, …), on a real supercell the axial bar forces t_b = w_b·|p_b|
+ * (tension positive) and, on a periodic supercell, the macroscopic stress per cell.
+ */
+export interface StressData extends Partial<Omit<ClassifiedMode, 'class' | 'vector' | 'affine'>> {
   re: Float64Array;
   im: Float64Array | null;
+  class?: FlexClass;
+  forces?: Float64Array;
+  macroscopicStress?: MacroStress;
+}
+
+/** The self-stress classification sent with the classified self-stresses. */
+export interface StressClassificationData {
+  counts: Record<FlexClass, number>;
+  thresholds: Record<string, number | string>;
+  /** Self-stresses on short strip pieces (counted as decaying or bulk). */
+  shortStripStresses: number;
+  /** Periodic supercells: the macroscopic stress map on the self-stresses (classify.ts). */
+  macroscopic: { cellArea: number; convention: string; rank: number; traceless: boolean; largestTrace: number; scale: number } | null;
+  warnings?: string[];
 }
 
 export interface ClassificationData {
@@ -144,6 +187,11 @@ export interface AnalyseResult {
   /** Why there is no classification, when there is none. */
   classificationNote?: string;
   stresses: StressData[];
+  /** 'classified': localised and grouped by class (local, line, decaying, bulk); 'basis': the solver's orthonormal basis. */
+  stressSource?: 'classified' | 'basis';
+  stressClassification?: StressClassificationData | null;
+  /** Why the self-stresses are not classified though classes were asked for. */
+  stressClassificationNote?: string;
   /** Why the self-stress basis is missing, when it is. */
   stressNote?: string;
   /** Milliseconds spent per stage. */
@@ -180,6 +228,16 @@ export interface EdgesData {
   a2: EdgesResult;
 }
 
+/** The flexible-lattice result (plain data) and the periodic cell as drawn. */
+export interface StrainData {
+  result: FlexibleLatticeResult;
+  /** The periodic cell (1×1 or the N1×N2 block): joints in the result's order, bars with their wraps. */
+  geometry: GeometryData;
+}
+
+/** The prestress check's result (plain data). */
+export type PrestressData = PrestressResult;
+
 export interface WorkerFeatures {
   classify: boolean;
   phaseMap: boolean;
@@ -203,10 +261,12 @@ export type WorkerResponse =
   | { type: 'phasemap-result'; id: number; result: PhaseMapData }
   | { type: 'sweep-result'; id: number; result: SweepData }
   | { type: 'edges-result'; id: number; result: EdgesData }
+  | { type: 'strain-result'; id: number; result: StrainData }
+  | { type: 'prestress-result'; id: number; result: PrestressData }
   | { type: 'error'; id: number; error: WorkerError };
 
 /** Typed arrays to transfer with a result. */
-export function transferablesOf(r: AnalyseResult): ArrayBuffer[] {
+export function transferablesOf(r: Pick<AnalyseResult, 'geometry' | 'modes' | 'rigid' | 'stresses'>): ArrayBuffer[] {
   const g = r.geometry;
   const out: ArrayBufferLike[] = [g.positions.buffer, g.jointCells.buffer, g.barA.buffer, g.barB.buffer, g.barVector.buffer, g.barPhase.buffer, g.barWraps.buffer];
   for (const m of r.modes) {
@@ -217,6 +277,7 @@ export function transferablesOf(r: AnalyseResult): ArrayBuffer[] {
   for (const s of r.stresses) {
     out.push(s.re.buffer);
     if (s.im) out.push(s.im.buffer);
+    if (s.forces) out.push(s.forces.buffer);
   }
   // Only whole, distinct buffers can be transferred.
   return [...new Set(out)].filter((b): b is ArrayBuffer => b instanceof ArrayBuffer);

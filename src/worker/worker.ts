@@ -4,7 +4,7 @@
  * message can abort the run; inside one long core call (a dense SVD) it cannot, and the app
  * terminates and respawns the worker instead.
  */
-import { analyse, features, runEdges, runPhaseMap, runSweep, toWorkerError, type Hooks } from './compute.js';
+import { analyse, features, runEdges, runPhaseMap, runPrestress, runStrain, runSweep, toWorkerError, type Hooks } from './compute.js';
 import { transferablesOf, type WorkerRequest, type WorkerResponse } from './protocol.js';
 
 interface Port {
@@ -53,6 +53,11 @@ port.onmessage = (ev) => {
         port.postMessage({ type: 'sweep-result', id: req.id, result });
       } else if (req.type === 'edges') {
         port.postMessage({ type: 'edges-result', id: req.id, result: await runEdges(req.job, hooks) });
+      } else if (req.type === 'strain') {
+        const result = await runStrain(req.job, hooks);
+        port.postMessage({ type: 'strain-result', id: req.id, result }, transferablesOf({ geometry: result.geometry, modes: [], rigid: [], stresses: [] }));
+      } else if (req.type === 'prestress') {
+        port.postMessage({ type: 'prestress-result', id: req.id, result: await runPrestress(req.job, hooks) });
       }
     } catch (e) {
       port.postMessage({ type: 'error', id: req.id, error: toWorkerError(e) });

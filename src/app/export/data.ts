@@ -24,8 +24,20 @@ export function modeDataOfResult(r: AnalyseResult, s: AppState): ModeData {
     ...(r.classificationNote !== undefined ? { classificationNote: r.classificationNote } : {}),
     modes: r.modes,
     // A note means the basis was not computed (switched off or too large).
-    selfStresses: r.stressNote !== undefined ? null : r.stresses,
+    // classified self-stresses carry their axial forces and the classification with them
+    selfStresses: r.stressNote !== undefined ? null : r.stresses.map((st) => (st.forces ? { ...st, axialForce: { re: st.forces, im: null } } : st)),
     ...(r.stressNote !== undefined ? { selfStressNote: r.stressNote } : {}),
+    ...(r.stressClassification
+      ? {
+          stressClassification: {
+            counts: r.stressClassification.counts,
+            thresholds: r.stressClassification.thresholds,
+            shortStripStresses: r.stressClassification.shortStripStresses,
+            warnings: r.stressClassification.warnings ?? [],
+            macroscopic: r.stressClassification.macroscopic,
+          },
+        }
+      : {}),
   });
 }
 

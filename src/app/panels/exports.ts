@@ -12,7 +12,7 @@ import { encodeGif } from '../export/gif.js';
 import { figureCanvas } from '../export/paint2d.js';
 import { svgFigure } from '../export/svg.js';
 import type { Host } from '../host.js';
-import { fieldOf, stressValues, viewFor } from '../stage/scene.js';
+import { fieldOf, stressForceValues, viewFor } from '../stage/scene.js';
 import { LIMITS } from '../state.js';
 
 export interface ExportPanel {
@@ -145,7 +145,7 @@ export function buildExportPanel(app: Host): ExportPanel {
     const { result: r, state, model } = src;
     const v = state.view;
     const t = turns ?? src.turns;
-    const stress = v.show === 'stress' && r.stresses[v.stress] ? stressValues(r.stresses[v.stress]) : null;
+    const stress = v.show === 'stress' && r.stresses[v.stress] ? stressForceValues(r.stresses[v.stress], r.geometry) : null;
     const motion = stress ? null : app.drawnMotion();
     const field = motion ? fieldOf(model, motion, v.amplitude) : null;
     const rc = recipe();

@@ -1,4 +1,4 @@
-/** Further analyses: the phase-torus map of the unit-cell symbol, the size sweep, and the edge modes. */
+/** Further analyses: the phase-torus map of the unit-cell symbol, the size sweep, the edge modes and the strain of the cell. */
 import type { PhaseMapData, SweepData, WorkerFeatures } from '../../worker/protocol.js';
 import type { Host } from '../host.js';
 import { RunError } from '../client.js';
@@ -10,6 +10,7 @@ import { el as svgEl, svgDocument } from '../plots/svg.js';
 import { parseSweepSizes, sweepCsv, sweepFigure } from '../plots/sweep.js';
 import { frameworkOf, frameworkTitle, slug } from '../state.js';
 import { buildEdgesPanel } from './edges-panel.js';
+import { buildStrainPanel } from './strain-panel.js';
 
 /** Side of the phase map's square in the panel (css px). */
 const PM_SIDE = 288;
@@ -268,19 +269,21 @@ export function buildExtrasPanel(app: Host): ExtrasPanel {
   };
 
   const edgesPanel = buildEdgesPanel(app);
+  const strainPanel = buildStrainPanel(app);
   const resultChanged = () => {
     // the white dots show the current cells' phases k/N
     if (pm) showPhaseMap();
     edgesPanel.resultChanged();
   };
   app.onResult(resultChanged);
-  const el = h('div', { class: 'extras' }, phaseCard, sweepCard, edgesPanel.el);
+  const el = h('div', { class: 'extras' }, phaseCard, sweepCard, edgesPanel.el, strainPanel.el);
   return {
     el,
     setFeatures,
     frameworkChanged: () => {
       frameworkChanged();
       edgesPanel.frameworkChanged();
+      strainPanel.frameworkChanged();
     },
   };
 }

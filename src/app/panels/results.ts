@@ -1,10 +1,12 @@
 /** Results panel: run status and progress, counts, rank evidence, classes, and the lists of flexes and self-stresses. */
 import { CAUTION_SHORT } from '../../caution.js';
 import { FLEX_CLASSES, type FlexClass } from '../../flex/classes.js';
-import type { ModeData } from '../../worker/protocol.js';
+import { MAX_FLEXES, MAX_SELF_STRESSES } from '../../stress/prestress.js';
+import type { ModeData, PrestressData, StressData } from '../../worker/protocol.js';
 import type { Host } from '../host.js';
+import { RunError } from '../client.js';
 import { clear, fmt, h, section } from '../dom.js';
-import { displayBoundary } from '../state.js';
+import { displayBoundary, frameworkOf } from '../state.js';
 
 export interface ResultsPanel {
   el: HTMLElement;
@@ -47,6 +49,39 @@ export function modeSummary(m: ModeData, cells?: readonly [number, number]): str
   if (m.im) parts.push('complex (travelling phase)');
   return parts.join(' · ');
 }
+
+const STRESS_CLASS_TEXT: Record<FlexClass, string> = {
+  local: 'supported on the bars of a small window of cells',
+  line: 'the tension of one straight line of bars',
+  decaying: 'force falls off away from a side, corner or point',
+  bulk: 'spread through the supercell',
+};
+
+/** A classified self-stress in one line: bars carrying it, extent, direction, decay, anchor. */
+export function stressSummary(st: StressData, cells?: readonly [number, number]): string {
+  const parts: string[] = [];
+  if (st.support !== undefined) parts.push(`${st.support} bars`);
+  if (st.extents) parts.push(extentText(st.extents, cells));
+  if (st.direction) parts.push(`direction (${st.direction[0]}, ${st.direction[1]})`);
+  if (st.decayLength !== undefined) parts.push(`ξ ${fmt(st.decayLength, 3)} cells`);
+  if (st.anchor) parts.push(`anchor ${st.anchor.kind === 'point' ? `point (${fmt(st.anchor.at[0], 3)}, ${fmt(st.anchor.at[1], 3)})` : `${st.anchor.kind} ${st.anchor.name}`}`);
+  if (st.im) parts.push('complex (shown after aligning its phase)');
+  return parts.join(' · ');
+}
+
+/** The macroscopic stress per cell as text: the tensor, its trace, and whether it is traceless. */
+export function macroText(m: NonNullable<StressData['macroscopicStress']>): string {
+  const n = (x: number) => fmt(Math.abs(x) < 1e-12 ? 0 : x, 4);
+  return `σ = [[${n(m.xx)}, ${n(m.xy)}], [${n(m.xy)}, ${n(m.yy)}]] per cell · trace ${n(m.trace)}${m.traceless ? ' (traceless)' : ''}`;
+}
+
+/** The prestress verdict in words for the results panel. */
+export const PRESTRESS_VERDICT_TEXT: Record<PrestressData['verdict'], string> = {
+  'prestress-stable': 'prestress stable',
+  'not-prestress-stable': 'not prestress stable',
+  'not-found': 'no stabilising self-stress found (not a proof that none exists)',
+  'no-flexes': 'no non-trivial flex: nothing to stabilise',
+};
 
 export function buildResultsPanel(app: Host): ResultsPanel {
   const status = h('div', { class: 'status', 'data-testid': 'status', 'aria-live': 'polite' });
@@ -113,6 +148,80 @@ export function buildResultsPanel(app: Host): ResultsPanel {
     else app.selectStress(i);
     list.querySelector<HTMLElement>('[aria-selected=true]')?.focus();
   });
+  const stressClasses = h('p', { class: 'hint', 'data-testid': 'stress-classes', hidden: true });
+  const macro = h('p', { class: 'stress-macro', 'data-testid': 'stress-macro', hidden: true, 'aria-live': 'polite' });
+
+  // ---- the prestress check (real boundaries only), run on request for the result on show
+  const preRun = h('button', { type: 'button', class: 'small', 'data-testid': 'prestress-run', title: 'Whether some self-stress makes the stress energy positive on every non-trivial flex (Connelly & Whiteley 1996)' }, 'Check prestress');
+  const preCancel = h('button', { type: 'button', class: 'small', hidden: true, 'data-testid': 'prestress-cancel', onclick: () => void app.client.cancelPrestress() }, 'Cancel');
+  const preOut = h('div', { class: 'prestress-out', 'data-testid': 'prestress-verdict', 'aria-live': 'polite' });
+  const preNote = h('span', { class: 'hint', 'data-testid': 'prestress-note' });
+  const preBox = h('div', { class: 'prestress', 'data-testid': 'prestress' }, h('div', { class: 'row' }, preRun, preCancel, preNote), preOut);
+  /** Bumped by every new result: a check of an older one is dropped when it arrives. */
+  let preGeneration = 0;
+  preRun.addEventListener('click', () => {
+    const s = app.resultState;
+    if (!s || !app.result) return;
+    let framework;
+    try {
+      framework = frameworkOf(s.framework);
+    } catch (e) {
+      app.reportError('prestress', e);
+      return;
+    }
+    const gen = preGeneration;
+    app.message('prestress', null);
+    preOut.replaceChildren(h('span', { class: 'hint' }, 'checking…'));
+    delete preOut.dataset.verdict;
+    preCancel.hidden = false;
+    preRun.disabled = true;
+    app.client
+      .prestress({ framework, cells: [s.cells[0], s.cells[1]], bc: s.bc, tolerance: s.tolerance, solver: s.solver })
+      .then((p) => {
+        if (gen !== preGeneration) return;
+        preOut.dataset.verdict = p.verdict;
+        preOut.replaceChildren(
+          h('div', { class: `verdict ${p.verdict === 'prestress-stable' ? 'good' : p.verdict === 'not-prestress-stable' ? 'bad' : ''}`, 'data-testid': 'prestress-result' }, PRESTRESS_VERDICT_TEXT[p.verdict]),
+          h('div', null, p.explanation),
+          h('div', { 'data-testid': 'prestress-eigenvalue' }, `smallest eigenvalue of the stress energy on the non-trivial flexes: ${p.smallestEigenvalue === null ? '—' : fmt(p.smallestEigenvalue)} (counts as positive above ${fmt(p.threshold)}); ${p.selfStresses} self-stresses, ${p.nonTrivialFlexes} non-trivial flexes`),
+          h('div', { class: 'hint', 'data-testid': 'prestress-method' }, `Method: ${p.method}. Limits: up to ${p.limits.maxSelfStresses} self-stresses and ${p.limits.maxFlexes} non-trivial flexes.`),
+        );
+        if (p.certificate) preOut.append(h('div', { class: 'hint' }, `Proof: ${p.certificate.detail}.`));
+      })
+      .catch((e: unknown) => {
+        if (gen !== preGeneration) return;
+        preOut.replaceChildren();
+        if (e instanceof RunError && e.error.kind === 'cancelled') preOut.append(h('span', { class: 'hint' }, 'cancelled'));
+        else app.reportError('prestress', e, 'The prestress check could not be made:');
+      })
+      .finally(() => {
+        if (gen !== preGeneration) return;
+        preCancel.hidden = true;
+        refreshPrestress();
+      });
+  });
+  /** A new result: the old verdict goes; the button is offered when the check can run. */
+  const resetPrestress = () => {
+    preGeneration++;
+    preOut.replaceChildren();
+    delete preOut.dataset.verdict;
+    preCancel.hidden = true;
+    app.message('prestress', null);
+    refreshPrestress();
+  };
+  const refreshPrestress = () => {
+    const r = app.result;
+    preBox.hidden = !r;
+    if (!r) return;
+    const k = r.counts;
+    const f = k.flexes - k.trivialFlexes;
+    let why = '';
+    if (!r.geometry.real) why = 'The prestress check needs a real boundary (twists 0 or ½): the flexes and self-stresses are complex here.';
+    else if (k.selfStresses > MAX_SELF_STRESSES || f > MAX_FLEXES) why = `The check handles up to ${MAX_SELF_STRESSES} self-stresses and ${MAX_FLEXES} non-trivial flexes; this supercell has ${k.selfStresses} and ${f}.`;
+    preRun.disabled = why !== '' || !preCancel.hidden;
+    preNote.textContent = why || 'Optional: can a self-stress stabilise the non-trivial flexes?';
+  };
+
   tabFlex.addEventListener('click', () => {
     listing = 'flex';
     renderList();
@@ -152,6 +261,24 @@ export function buildResultsPanel(app: Host): ResultsPanel {
           ),
         );
       });
+    } else if (r.stressSource === 'classified') {
+      let group: string | null = null;
+      r.stresses.forEach((st, i) => {
+        const g = st.class ?? 'bulk';
+        if (g !== group) {
+          group = g;
+          list.append(h('div', { class: 'group-head', role: 'presentation' }, `${CLASS_TEXT[g].title} — ${STRESS_CLASS_TEXT[g]}`));
+        }
+        list.append(
+          h(
+            'button',
+            { type: 'button', role: 'option', class: `mode class-${g}`, 'data-index': i, 'data-testid': `stress-${i}`, 'data-class': g, 'aria-selected': 'false', onclick: () => app.selectStress(i) },
+            h('span', { class: 'mode-index' }, `#${i}`),
+            h('span', { class: 'mode-class' }, g),
+            h('span', { class: 'mode-metrics' }, stressSummary(st, r.geometry.cells)),
+          ),
+        );
+      });
     } else {
       if (!r.stresses.length) list.append(h('p', { class: 'hint' }, r.stressNote ? `Self-stress basis ${r.stressNote}.` : 'No self-stresses.'));
       r.stresses.forEach((st, i) => {
@@ -176,7 +303,24 @@ export function buildResultsPanel(app: Host): ResultsPanel {
     refreshSelection();
   };
 
+  const refreshStressInfo = () => {
+    const r = app.result;
+    const v = app.state.view;
+    const on = listing === 'stress' && !!r;
+    const sc = r?.stressClassification;
+    stressClasses.hidden = !on || !r!.stresses.length;
+    stressClasses.textContent = !on
+      ? ''
+      : sc
+        ? `Self-stresses by class: ${FLEX_CLASSES.map((k) => `${k} ${sc.counts[k]}`).join(' · ')}. Bar width and colour show the bar force (tension blue, compression orange).${sc.warnings?.length ? ` ⚠ ${sc.warnings.join(' ')}` : ''}`
+        : `The solver's orthonormal basis of the self-stresses (not localised)${r!.stressClassificationNote ? `: ${r!.stressClassificationNote}` : '; switch the classes on to localise and classify them'}.`;
+    const st = on ? r!.stresses[v.stress] : undefined;
+    macro.hidden = !st?.macroscopicStress;
+    macro.textContent = st?.macroscopicStress ? `Self-stress #${v.stress}, macroscopic stress: ${macroText(st.macroscopicStress)}${sc?.macroscopic ? `; over all self-stresses the map has rank ${sc.macroscopic.rank}${sc.macroscopic.traceless ? ', every one traceless' : ''}` : ''}.` : '';
+  };
+
   const refreshSelection = () => {
+    refreshStressInfo();
     const v = app.state.view;
     if ((v.show === 'stress') !== (listing === 'stress')) {
       listing = v.show === 'stress' ? 'stress' : 'flex';
@@ -268,6 +412,7 @@ export function buildResultsPanel(app: Host): ResultsPanel {
     c.solver.textContent = `${k.solver} (${k.solverReason})`;
     const cls = r.classification;
     for (const key of FLEX_CLASSES) classCells[key].textContent = cls ? String(cls.counts[key]) : '—';
+    resetPrestress();
     classNote.textContent = cls
       ? `Windows up to ${s.window}×${s.window} cells, strips up to ${s.strip} cells wide.${cls.shortStripFlexes ? ` ${cls.shortStripFlexes} short strip pieces are counted as decaying or bulk.` : ''} Rigid motions are not projected out: they usually count as bulk.`
       : r.classificationNote ?? 'Not classified.';
@@ -286,8 +431,12 @@ export function buildResultsPanel(app: Host): ResultsPanel {
     h('h3', null, 'Where the flexes live'),
     classes,
     classNote,
+    h('h3', null, 'Prestress'),
+    preBox,
     h('div', { class: 'tabs', role: 'tablist' }, tabFlex, tabStress),
+    stressClasses,
     list,
+    macro,
     h('p', { class: 'hint' }, 'Select a flex to animate it; ← / → step through the list, space plays or pauses.'),
   );
   el.setAttribute('data-testid', 'results');

@@ -168,7 +168,13 @@ export function buildStagePanel(app: Host): StagePanel {
     legend.replaceChildren();
     if (showStress) {
       legend.hidden = false;
-      legend.append(h('div', { class: 'legend-title' }, 'bar tension of the self-stress'), h('div', { class: 'legend-bar', style: `background:${gradient(STRESS_GRADIENT)}` }), h('div', { class: 'legend-ends' }, h('span', null, 'compression'), h('span', null, 'tension')), h('div', { class: 'legend-note' }, 'the overall sign of a basis self-stress is arbitrary'));
+      legend.append(
+        h('div', { class: 'legend-title' }, 'bar force of the self-stress (colour and width)'),
+        h('div', { class: 'legend-bar', style: `background:${gradient(STRESS_GRADIENT)}` }),
+        h('div', { class: 'legend-ends' }, h('span', null, 'compression'), h('span', null, 'tension')),
+        h('div', { class: 'legend-widths', 'aria-hidden': 'true' }, h('span', { class: 'legend-width thin' }), h('span', null, 'no force'), h('span', { class: 'legend-width thick' }), h('span', null, 'largest |force|')),
+        h('div', { class: 'legend-note' }, 'force scaled to the largest; the overall sign of a self-stress is arbitrary'),
+      );
     } else if (mode && vs.colour) {
       legend.hidden = false;
       legend.append(h('div', { class: 'legend-title' }, 'joint amplitude |u| / max |u|'), h('div', { class: 'legend-bar', style: `background:${gradient(AMPLITUDE_GRADIENT)}` }), h('div', { class: 'legend-ends' }, h('span', null, '0'), h('span', null, '0.5'), h('span', null, '1')));
@@ -180,7 +186,7 @@ export function buildStagePanel(app: Host): StagePanel {
       // keep the text
     }
     const what = showStress
-      ? `self-stress #${vs.stress} of ${r.stresses.length}`
+      ? `self-stress #${vs.stress} of ${r.stresses.length}${r.stresses[vs.stress].class ? ` · ${r.stresses[vs.stress].class}` : ''}`
       : mode
         ? `flex #${vs.flex} of ${r.modes.length}${mode.class ? ` · ${mode.class}` : ''} · ${modeSummary(mode, r.geometry.cells)}`
         : r.modes.length === 0

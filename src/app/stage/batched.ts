@@ -37,8 +37,10 @@ in vec4 aUa;     // u at the first end: Re x, Re y, Im x, Im y
 in vec4 aUb;     // u at the second end
 in vec2 aCorner; // which end (0, 1), which side (−1, 1)
 in vec3 aColor;
+in float aWidth; // this bar's width as a multiple of the bar width (self-stress drawings), else 1
 out vec3 vColor;
 out float vAcross;
+out float vHalf;
 ${PLACE}
 void main() {
   vec2 a = place(aEnds.xy, aUa);
@@ -46,7 +48,8 @@ void main() {
   vec2 d = b - a;
   float len = length(d);
   vec2 n = len > 0.0 ? vec2(-d.y, d.x) / len : vec2(0.0, 1.0);
-  float hw = uSize.x + 1.0;
+  vHalf = uSize.x * aWidth;
+  float hw = vHalf + 1.0;
   vAcross = aCorner.y * hw;
   vColor = aColor;
   gl_Position = clip(mix(a, b, aCorner.x) + n * vAcross);
@@ -56,11 +59,11 @@ void main() {
 const BAR_FRAGMENT = `
 in vec3 vColor;
 in float vAcross;
-uniform highp vec4 uSize;
+in float vHalf;
 uniform vec4 uInk; // a fixed colour, used when its alpha is 1
 out vec4 finalColor;
 void main() {
-  float a = clamp(uSize.x + 0.5 - abs(vAcross), 0.0, 1.0);
+  float a = clamp(vHalf + 0.5 - abs(vAcross), 0.0, 1.0);
   vec3 c = mix(vColor, uInk.rgb, uInk.a);
   finalColor = vec4(c * a, a);
 }
@@ -235,6 +238,7 @@ export class BatchedMeshes {
           aUb: { buffer: new Float32Array(16 * m), format: 'float32x4' },
           aCorner: { buffer: barCorner, format: 'float32x2' },
           aColor: { buffer: new Float32Array(12 * m), format: 'float32x3' },
+          aWidth: { buffer: new Float32Array(4 * m).fill(1), format: 'float32' },
         },
         indexBuffer: quadIndices(m, 4, QUAD),
       });
@@ -391,6 +395,19 @@ export class BatchedMeshes {
     }
     this.updated(this.bars, 'aColor');
     this.updated(this.joints, 'aColor');
+  }
+
+  /** Per-bar widths as multiples of the bar width (null: all 1); written when a self-stress is selected. */
+  setWidths(widths: Float32Array | null): void {
+    const w = this.buffer(this.bars, 'aWidth');
+    for (let r = 0; r < this.model.m; r++) w.fill(widths ? widths[r] : 1, 4 * r, 4 * r + 4);
+    this.updated(this.bars, 'aWidth');
+  }
+
+  /** The width multiples as stored for the shader (one per bar), read back for checks. */
+  widths(): Float32Array {
+    const w = this.buffer(this.bars, 'aWidth');
+    return Float32Array.from({ length: this.model.m }, (_, r) => w[4 * r]);
   }
 
   /** Sets the uniforms of one frame; nothing is allocated or uploaded besides them. */

@@ -5,13 +5,14 @@
  * a deep blue (moving joints stand out). Its CIE lightness falls monotonically, which keeps it
  * readable with any colour-vision deficiency and in greyscale print (common practice: a
  * sequential map should be monotone in lightness). Self-stress: a diverging map, compression
- * orange-brown, zero light grey, tension blue — the blue/orange pair stays distinct for red-
+ * orange-brown, zero mid grey, tension blue — the blue/orange pair stays distinct for red-
  * and green-deficient viewers (common practice).
  */
 import { scaleLinear } from 'd3-scale';
 
 const AMPLITUDE_STOPS = ['#e4e1da', '#bac3c9', '#8aa2b6', '#55799f', '#2b5282', '#12305a'];
-const STRESS_STOPS = ['#a34d0f', '#d98c4e', '#dcdad6', '#5f95c9', '#1f5596'];
+// the zero stop is a mid grey (not near the background), so that unloaded bars stay in sight
+const STRESS_STOPS = ['#a34d0f', '#d98c4e', '#c2beb6', '#5f95c9', '#1f5596'];
 
 const amplitude = scaleLinear<string>()
   .domain(AMPLITUDE_STOPS.map((_, i) => i / (AMPLITUDE_STOPS.length - 1)))

@@ -265,6 +265,26 @@ export function stressValues(st: StressData): Float32Array {
   return out;
 }
 
+/**
+ * Axial bar forces t_b = w_b·|p_b| of a self-stress (tension positive), scaled to [−1, 1] as
+ * stressValues does: the worker's forces when it sent them, else computed from w and the bar
+ * vectors (a complex stress aligned by the phase of its largest force).
+ */
+export function stressForceValues(st: StressData, geom: GeometryData): Float32Array {
+  if (st.forces) return stressValues({ re: st.forces, im: null });
+  const m = st.re.length;
+  const len = Float64Array.from({ length: m }, (_, r) => Math.hypot(geom.barVector[2 * r], geom.barVector[2 * r + 1]));
+  return stressValues({ re: st.re.map((x, r) => x * len[r]), im: st.im ? st.im.map((x, r) => x * len[r]) : null });
+}
+
+/** Bar widths of a self-stress drawing, as multiples of the plain bar width: thin at zero force, thick at the largest. */
+export const STRESS_WIDTH = { min: 0.6, max: 3.4 } as const;
+
+/** Width multiple per bar for values in [−1, 1]: min + (max − min)·|value|. */
+export function stressWidths(values: Float32Array): Float32Array {
+  return values.map((v) => STRESS_WIDTH.min + (STRESS_WIDTH.max - STRESS_WIDTH.min) * Math.min(1, Math.abs(v)));
+}
+
 // ---------------------------------------------------------------------------------------------
 // Boundary marks
 

@@ -93,6 +93,8 @@ export class Stage {
   private restFrame: Frame | null = null;
   private field: Field | null = null;
   private stress: Float32Array | null = null;
+  /** Bar widths (multiples of the bar width) of the self-stress drawn, or null. */
+  private widths: Float32Array | null = null;
   private s: StageSettings = { playing: true, speed: 0.5, turns: 0, arrows: 'none', colour: true, rest: false, zoom: 1, centre: null };
   private dirty = true;
   private colourDirty = true;
@@ -201,6 +203,7 @@ export class Stage {
     this.restFrame = model ? computeFrame(model, null, 0, 'none', newFrame(model)) : null;
     this.field = null;
     this.stress = null;
+    this.widths = null;
     this.cachedView = null;
     if (this.ok) this.buildMeshes();
     this.dirty = this.colourDirty = this.fieldDirty = this.overlayDirty = true;
@@ -209,13 +212,29 @@ export class Stage {
   setField(field: Field | null): void {
     this.field = field;
     this.stress = null;
+    this.widths = null;
     this.dirty = this.colourDirty = this.fieldDirty = true;
   }
 
-  setStress(values: Float32Array | null): void {
+  /** A self-stress: bar colours from `values` in [−1, 1], and bar widths (multiples of the bar width) when given. */
+  setStress(values: Float32Array | null, widths: Float32Array | null = null): void {
     this.stress = values;
+    this.widths = values ? widths : null;
     this.field = null;
     this.dirty = this.colourDirty = this.fieldDirty = true;
+  }
+
+  /**
+   * The bar widths as drawn now, for checks: the plain bar width in css px and each bar's
+   * multiple of it (read back from the mesh buffer in mesh mode), or null without a scene.
+   */
+  drawnBarWidths(): { base: number; factors: Float32Array } | null {
+    if (!this.model || !this.view()) return null;
+    if (this.ok && this.mode === 'mesh' && this.meshes) {
+      this.renderNow();
+      return { base: this.cachedSizes.bar, factors: this.meshes.widths() };
+    }
+    return { base: this.cachedSizes.bar, factors: this.widths ? Float32Array.from(this.widths) : new Float32Array(this.model.m).fill(1) };
   }
 
   settings(): StageSettings {
@@ -388,6 +407,7 @@ export class Stage {
     }
     if (this.colourDirty) {
       m.setColours(this.stress, this.field && this.s.colour ? this.field.relative : null);
+      m.setWidths(this.stress ? this.widths : null);
       this.colourDirty = false;
     }
     const f = this.frameInput;
@@ -417,21 +437,24 @@ export class Stage {
       }
       g.stroke({ width: Math.max(0.5, sizes.bar / 1.25), color: hexToNumber(INK.rest) });
     }
-    // bars grouped by colour
+    // bars grouped by colour and width (widths in steps of 1/8 of the bar width)
     const groups = new Map<string, number[]>();
     for (let r = 0; r < model.m; r++) {
       const colour = this.stress ? stressColour(Math.round(this.stress[r] * 8) / 8) : model.kinds[r] === BarKind.Wrapped ? INK.stub : INK.bar;
-      let list = groups.get(colour);
-      if (!list) groups.set(colour, (list = []));
+      const width = this.stress && this.widths ? Math.round(this.widths[r] * 8) / 8 : 1;
+      const key = `${colour} ${width}`;
+      let list = groups.get(key);
+      if (!list) groups.set(key, (list = []));
       list.push(r);
     }
-    for (const [colour, list] of groups) {
+    for (const [key, list] of groups) {
+      const [colour, width] = key.split(' ');
       for (const r of list) {
         const [x1, y1] = sc(F.bars[4 * r], F.bars[4 * r + 1]);
         const [x2, y2] = sc(F.bars[4 * r + 2], F.bars[4 * r + 3]);
         g.moveTo(x1, y1).lineTo(x2, y2);
       }
-      g.stroke({ width: sizes.bar, color: hexToNumber(colour) });
+      g.stroke({ width: sizes.bar * Number(width), color: hexToNumber(colour) });
     }
     if (this.field && this.s.arrows !== 'none') {
       for (let j = 0; j < model.n; j++) {
