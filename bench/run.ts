@@ -3,6 +3,9 @@
  * regular and twisted kagome, free and periodic, N×N supercells, with peak memory, speed ratios
  * against the dense path and against scipy.linalg.null_space on the same matrix, fitted scaling
  * exponents, and the speed targets. A benchmark is never a unit test: nothing here fails a build.
+ * References (bench/reference.ts) run single-threaded and alternate with shimmy's runs
+ * (--repeats, default 3); medians and min–max are printed, with scipy's SuperLU and (when
+ * libsuitesparse-dev is installed) CHOLMOD inertia counts of the same Gram matrix K − τI.
  *
  *   npm run bench                      # full table, per-run budget 240 s
  *   npm run bench -- --quick           # N = 8, 16, 24 and a 30 s budget
@@ -26,6 +29,7 @@ import { DENSE_MEMORY_LIMIT } from '../src/linalg/dense.js';
 import { parseBoundary } from '../src/supercell/boundary.js';
 import { rigidityMatrix } from '../src/supercell/rigidity.js';
 import { buildSupercell } from '../src/supercell/supercell.js';
+import { compileCholmod, fmtSpread, inertiaReferences, pythonWorks, scipyNullSpace, singleThreadEnv, spread, type CholmodProgram, type Ordering, type ReferenceResult, type Spread } from './reference.js';
 
 const ROOT = join(dirname(fileURLToPath(import.meta.url)), '..');
 const BIN = join(ROOT, 'bin', 'shimmy.js');
@@ -38,11 +42,15 @@ interface Options {
   budget: number;
   sizes: number[];
   scipy: boolean;
+  /** Runs of each shimmy path and each reference per size, interleaved (medians and spread reported). */
+  repeats: number;
+  /** SuperLU's column ordering. */
+  ordering: Ordering;
   json?: string;
 }
 
 function parseOptions(argv: string[]): Options {
-  const o: Options = { budget: 240, sizes: [8, 16, 24, 32, 48, 64, 128, 256], scipy: true };
+  const o: Options = { budget: 240, sizes: [8, 16, 24, 32, 48, 64, 128, 256], scipy: true, repeats: 3, ordering: 'MMD_AT_PLUS_A' };
   for (let i = 0; i < argv.length; i++) {
     const a = argv[i];
     if (a === '--quick') {
@@ -51,14 +59,16 @@ function parseOptions(argv: string[]): Options {
     } else if (a === '--budget') o.budget = Number(argv[++i]);
     else if (a === '--sizes') o.sizes = argv[++i].split(',').map(Number);
     else if (a === '--no-scipy') o.scipy = false;
+    else if (a === '--repeats') o.repeats = Number(argv[++i]);
+    else if (a === '--ordering') o.ordering = argv[++i] as Ordering;
     else if (a === '--json') o.json = argv[++i];
     else {
-      console.error(`bench: unknown option ${a}. Options: --quick, --budget SECONDS, --sizes 8,16,..., --no-scipy, --json FILE`);
+      console.error(`bench: unknown option ${a}. Options: --quick, --budget SECONDS, --sizes 8,16,..., --repeats N, --ordering COLAMD|MMD_AT_PLUS_A, --no-scipy, --json FILE`);
       process.exit(2);
     }
   }
-  if (!(o.budget > 0) || o.sizes.some((n) => !Number.isInteger(n) || n < 1)) {
-    console.error('bench: --budget must be a positive number of seconds and --sizes positive integers');
+  if (!(o.budget > 0) || o.sizes.some((n) => !Number.isInteger(n) || n < 1) || !(Number.isInteger(o.repeats) && o.repeats >= 1) || !['COLAMD', 'MMD_AT_PLUS_A'].includes(o.ordering)) {
+    console.error('bench: --budget must be a positive number of seconds, --sizes positive integers, --repeats a whole number ≥ 1 and --ordering COLAMD or MMD_AT_PLUS_A');
     process.exit(2);
   }
   return o;
@@ -79,6 +89,11 @@ interface RunResult {
   flexes?: number;
   selfStresses?: number;
   note?: string;
+  /** Over the repeats: whole-process and in-process seconds (`seconds`, `solveSeconds` are their medians). */
+  spread?: Spread;
+  solveSpread?: Spread;
+  /** status.factorisation of count --json (sparse path): method, nnz(L), flops. */
+  factorisation?: { method: string; nnzL: number; flops: number };
 }
 
 function timeCommand(args: string[], timeoutSeconds: number): RunResult & { json?: Record<string, unknown> } {
@@ -108,6 +123,7 @@ function timeCommand(args: string[], timeoutSeconds: number): RunResult & { json
       solver: typeof json.solver === 'string' ? json.solver : undefined,
       flexes: typeof json.flexes === 'number' ? json.flexes : undefined,
       selfStresses: typeof json.selfStresses === 'number' ? json.selfStresses : undefined,
+      factorisation: (json.status as { factorisation?: RunResult['factorisation'] } | undefined)?.factorisation,
       json,
     };
   } catch {
@@ -121,53 +137,14 @@ function firstLine(s: string | null | undefined): string {
 }
 
 // ---------------------------------------------------------------------------------------------
-// scipy.linalg.null_space on the same matrix
+// References (bench/reference.ts): scipy null_space, SuperLU and CHOLMOD inertia, single-threaded
 
-const PYTHON = String.raw`
-import json, sys, time
-import numpy as np
-import scipy.linalg as sl
-path = sys.argv[1]
-t0 = time.perf_counter()
-with open(path) as f:
-    m, n, cx = map(int, f.readline().split())
-    data = np.loadtxt(f, ndmin=2)
-A = np.zeros((m, n), dtype=complex if cx else float)
-if data.size:
-    i = data[:, 0].astype(int); j = data[:, 1].astype(int)
-    v = data[:, 2] + (1j * data[:, 3] if cx else 0)
-    np.add.at(A, (i, j), v)
-Z = sl.null_space(A, rcond=1e-9)
-print(json.dumps({"seconds": time.perf_counter() - t0, "nullity": int(Z.shape[1])}))
-`;
-
-function scipyWorks(): boolean {
-  const r = spawnSync('python3', ['-c', 'import scipy, numpy'], { encoding: 'utf8' });
-  return r.status === 0;
-}
-
+/** Seconds per m·n² of scipy's SVD on this machine, single-threaded, from one 900×900 null_space. */
 function calibrateScipy(): number {
   const code = 'import time, numpy as np, scipy.linalg as sl\nA = np.random.default_rng(1).standard_normal((900, 900))\nt = time.perf_counter(); sl.null_space(A); print(time.perf_counter() - t)';
-  const r = spawnSync('python3', ['-c', code], { encoding: 'utf8' });
+  const r = spawnSync('python3', ['-c', code], { encoding: 'utf8', env: singleThreadEnv() });
   const t = Number(r.stdout);
   return (Number.isFinite(t) && t > 0 ? t : 1) / 900 ** 3;
-}
-
-function scipyNullSpace(spec: string, N: number, bc: string, timeoutSeconds: number): { seconds?: number; nullity?: number; note?: string } {
-  const sc = buildSupercell(buildGallery(spec), [N, N], parseBoundary(bc));
-  const R = rigidityMatrix(sc);
-  const dir = mkdtempSync(join(tmpdir(), 'shimmy-scipy-'));
-  const file = join(dir, 'matrix.coo');
-  const script = join(dir, 'null_space.py');
-  const lines = [`${R.rows} ${R.cols} ${R.im ? 1 : 0}`];
-  for (let r = 0; r < R.rows; r++)
-    for (let k = R.rowPtr[r]; k < R.rowPtr[r + 1]; k++) lines.push(`${r} ${R.colIdx[k]} ${R.re[k]} ${R.im ? R.im[k] : 0}`);
-  writeFileSync(file, lines.join('\n') + '\n');
-  writeFileSync(script, PYTHON);
-  const p = spawnSync('python3', [script, file], { encoding: 'utf8', timeout: Math.round(timeoutSeconds * 1000) });
-  rmSync(dir, { recursive: true, force: true });
-  if (p.status !== 0) return { note: p.error ? 'timeout' : firstLine(p.stderr) };
-  return JSON.parse(p.stdout) as { seconds: number; nullity: number };
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -229,6 +206,80 @@ interface Row {
   vsScipy?: number;
 }
 
+/** A reference column at one size: its runs over the repeats. */
+interface RefRow {
+  lattice: string;
+  bc: string;
+  N: number;
+  dof: number;
+  label: string;
+  /** What is computed, in a few words. */
+  what: string;
+  countText: (k: number) => string;
+  /** One run, with what it produced for this row and the rows right after it (CHOLMOD after SuperLU). */
+  run: (timeoutSeconds: number) => ReferenceResult[];
+  timeout: number;
+  more: boolean;
+  seconds: number[];
+  spread?: Spread;
+  count?: number;
+  nnzL?: number;
+  flops?: number;
+  note?: string;
+  add(res: ReferenceResult, opts: Options): void;
+}
+
+function newRef(lattice: string, bc: string, N: number, dof: number, label: string, what: string, countText: (k: number) => string, run: RefRow['run'], timeout: number): RefRow {
+  const row: RefRow = {
+    lattice,
+    bc,
+    N,
+    dof,
+    label,
+    what,
+    countText,
+    run,
+    timeout,
+    // a row filled by another's run (timeout 0) never runs itself
+    more: timeout > 0,
+    seconds: [],
+    add(res, opts) {
+      if (res.seconds === undefined) {
+        row.note = res.note ?? 'failed';
+        row.more = false;
+        return;
+      }
+      row.seconds.push(res.seconds);
+      row.spread = spread(row.seconds);
+      row.count = res.count;
+      row.nnzL = res.nnzL;
+      row.flops = res.flops;
+      if (res.note) row.note = res.note;
+      if (row.timeout > 0) row.more = res.seconds * opts.repeats <= opts.budget;
+    },
+  };
+  return row;
+}
+
+/** One row from the repeats of a shimmy run: medians of the times, the largest peak memory. */
+function summarise(runs: RunResult[]): RunResult {
+  const ok = runs.filter((r) => r.status === 'ok');
+  if (!ok.length) return runs[runs.length - 1] ?? { status: 'error', note: 'no run' };
+  const whole = spread(ok.map((r) => r.seconds ?? NaN));
+  const inner = spread(ok.map((r) => r.solveSeconds ?? NaN));
+  const peaks = ok.map((r) => r.peakMB ?? 0);
+  const failed = runs.length - ok.length;
+  return {
+    ...ok[0],
+    seconds: whole?.median,
+    solveSeconds: inner?.median,
+    peakMB: Math.max(...peaks) || undefined,
+    spread: whole,
+    solveSpread: inner,
+    ...(failed ? { note: `${failed} of ${runs.length} repeats failed: ${runs.find((r) => r.status !== 'ok')?.note ?? ''}` } : {}),
+  };
+}
+
 function fmtSeconds(s: number | undefined): string {
   if (s === undefined) return '—';
   return s < 10 ? s.toFixed(2) : s < 100 ? s.toFixed(1) : s.toFixed(0);
@@ -241,17 +292,22 @@ function pad(s: string, w: number, right = false): string {
 function main(): void {
   const opts = parseOptions(process.argv.slice(2));
   const solversHere = availableSolvers();
-  const scipy = opts.scipy && scipyWorks();
+  const scipy = opts.scipy && pythonWorks();
   const started = Date.now();
-  console.log(`shimmy benchmark — ${new Date().toISOString()}, node ${process.version}, per-run budget ${opts.budget} s`);
-  console.log(`solvers registered: ${solversHere.join(', ')}; scipy: ${scipy ? 'yes' : opts.scipy ? 'not available (python3 -c "import scipy" failed)' : 'off'}`);
+  console.log(`shimmy benchmark — ${new Date().toISOString()}, node ${process.version}, per-run budget ${opts.budget} s, ${opts.repeats} interleaved repeat(s) per row`);
+  console.log(`solvers registered: ${solversHere.join(', ')}; scipy: ${scipy ? 'yes (single-threaded: OMP/OpenBLAS/MKL threads 1)' : opts.scipy ? 'not available (python3 -c "import scipy" failed)' : 'off'}`);
+  const compiled = scipy ? compileCholmod() : { note: 'CHOLMOD skipped with scipy' };
+  const cholmod: CholmodProgram | null = 'run' in compiled ? compiled : null;
+  console.log('run' in compiled ? 'CHOLMOD: compiled (simplicial LDLᵀ, default ordering)' : compiled.note);
   // warm-up: fills tsx's transpile cache so the first measured run is not penalised
   timeCommand(['count', 'gallery:square', '--cells', '2x2', '--json'], 120);
   const startupRuns = [0, 1, 2].map(() => timeCommand(['count', 'gallery:square', '--cells', '1x1', '--json', '--solver', 'dense'], 120).seconds ?? 0);
   const startup = Math.min(...startupRuns);
-  console.log(`process start-up (count of a 1×1 square, best of 3): ${startup.toFixed(2)} s — included in every time below\n`);
+  console.log(`process start-up (count of a 1×1 square, best of 3): ${startup.toFixed(2)} s — included in every shimmy "seconds" below`);
+  console.log('seconds: median over the repeats, range: min–max; reference rows time only their own work inside python or C (no start-up, no loading)\n');
 
   const rows: Row[] = [];
+  const refRows: RefRow[] = [];
   const history = new Map<string, { N: number; seconds: number }[]>();
   /** In-process count times per path, for the growth fits. */
   const solveHistory = new Map<string, { N: number; seconds: number }[]>();
@@ -260,19 +316,39 @@ function main(): void {
   const scipyNote = new Map<string, string>();
   // seconds per m·n² of scipy's SVD on this machine, from one 900×900 calibration
   const scipyPerCube = scipy ? calibrateScipy() : 0;
-  if (scipy) console.log(`scipy calibration: null_space of a 900×900 matrix ${fmtSeconds(scipyPerCube * 900 ** 3)} s\n`);
-  const header = `${pad('lattice', 15)} ${pad('bc', 9)} ${pad('N', 4, true)} ${pad('dof', 7, true)} ${pad('solver', 14)} ${pad('seconds', 8, true)} ${pad('solve s', 8, true)} ${pad('peak MB', 8, true)} ${pad('×dense', 7, true)} ${pad('×scipy', 7, true)}  note`;
+  if (scipy) console.log(`scipy calibration (single-threaded): null_space of a 900×900 matrix ${fmtSeconds(scipyPerCube * 900 ** 3)} s\n`);
+  const header = `${pad('lattice', 15)} ${pad('bc', 9)} ${pad('N', 4, true)} ${pad('dof', 7, true)} ${pad('solver', 16)} ${pad('seconds', 8, true)} ${pad('range', 13, true)} ${pad('solve s', 8, true)} ${pad('peak MB', 8, true)} ${pad('×dense', 7, true)} ${pad('×scipy', 7, true)}  note`;
   console.log(header);
   console.log('-'.repeat(header.length + 10));
+  const range = (s: Spread | undefined) => (s && s.n > 1 ? `${fmtSeconds(s.min)}–${fmtSeconds(s.max)}` : '—');
+  const lead = (lattice: string, bc: string, N: number, dof: number, solver: string) => `${pad(lattice, 15)} ${pad(bc, 9)} ${pad(String(N), 4, true)} ${pad(String(dof), 7, true)} ${pad(solver, 16)}`;
   const print = (r: Row) => {
     const res = r.result;
     const sec = res.status === 'ok' ? fmtSeconds(res.seconds) : res.status;
-    const note = [res.solver && res.solver !== r.solver ? `ran ${res.solver}` : '', res.flexes !== undefined ? `flexes ${res.flexes}, self-stresses ${res.selfStresses}` : '', res.note ?? '']
+    const f = res.factorisation;
+    const note = [
+      res.solver && res.solver !== r.solver ? `ran ${res.solver}` : '',
+      res.flexes !== undefined ? `flexes ${res.flexes}, self-stresses ${res.selfStresses}` : '',
+      f ? `${f.method}: nnz(L) ${f.nnzL.toExponential(2)}, flops ${f.flops.toExponential(2)}` : '',
+      res.solveSpread && res.solveSpread.n > 1 ? `solve s ${fmtSpread(res.solveSpread, fmtSeconds)}` : '',
+      res.note ?? '',
+    ]
       .filter(Boolean)
       .join('; ');
     console.log(
-      `${pad(r.lattice, 15)} ${pad(r.bc, 9)} ${pad(String(r.N), 4, true)} ${pad(String(r.dof), 7, true)} ${pad(r.solver, 14)} ${pad(sec, 8, true)} ${pad(res.status === 'ok' ? fmtSeconds(res.solveSeconds) : '—', 8, true)} ${pad(res.peakMB ? res.peakMB.toFixed(0) : '—', 8, true)} ${pad(r.vsDense ? `${r.vsDense.toFixed(1)}` : '—', 7, true)} ${pad(r.vsScipy ? `${r.vsScipy.toFixed(1)}` : '—', 7, true)}  ${note}`,
+      `${lead(r.lattice, r.bc, r.N, r.dof, r.solver)} ${pad(sec, 8, true)} ${pad(range(res.spread), 13, true)} ${pad(res.status === 'ok' ? fmtSeconds(res.solveSeconds) : '—', 8, true)} ${pad(res.peakMB ? res.peakMB.toFixed(0) : '—', 8, true)} ${pad(r.vsDense ? `${r.vsDense.toFixed(1)}` : '—', 7, true)} ${pad(r.vsScipy ? `${r.vsScipy.toFixed(1)}` : '—', 7, true)}  ${note}`,
     );
+  };
+  const printRef = (r: RefRow, shimmy: Row | undefined) => {
+    const s = r.spread;
+    const parts = [r.what];
+    if (r.count !== undefined) parts.push(r.countText(r.count));
+    if (r.nnzL !== undefined) parts.push(`nnz(L) ${r.nnzL.toExponential(2)}`);
+    if (r.flops !== undefined) parts.push(`flops ${r.flops.toExponential(2)}`);
+    const sh = shimmy?.result;
+    if (s && sh?.status === 'ok' && sh.solveSeconds !== undefined) parts.push(`shimmy (${shimmy!.solver}) ÷ this: ${(sh.solveSeconds / s.median).toFixed(1)}× in-process, ${(sh.seconds! / s.median).toFixed(1)}× whole process`);
+    if (r.note) parts.push(r.note);
+    console.log(`${lead(r.lattice, r.bc, r.N, r.dof, r.label)} ${pad(s ? fmtSeconds(s.median) : 'failed', 8, true)} ${pad(range(s), 13, true)} ${pad('—', 8, true)} ${pad('—', 8, true)} ${pad('', 7)} ${pad('', 7)}  ${parts.join('; ')}`);
   };
 
   for (const lat of LATTICES) {
@@ -282,51 +358,90 @@ function main(): void {
         const dof = 2 * sc.jointCount;
         const R = rigidityMatrix(sc);
         const autoPick = chooseSolver(sc, 'auto').name;
+        const sizeKey = `${lat.label}|${bc}|${N}`;
         // the Bloch solver needs a twisted axis; every registered solver runs otherwise
         const runList: string[] = ['dense', 'sparse', 'bloch'].filter((s) => solversHere.includes(s as never) && !(bc === 'free' && s === 'bloch'));
         if (!runList.includes(autoPick)) runList.push('auto');
-        let denseSeconds: number | undefined;
-        // scipy's null_space (a full SVD): once per (lattice, bc, N) while its predicted time fits
-        if (scipy) {
-          const complexFactor = R.im ? 4 : 1;
-          const predicted = scipyPerCube * complexFactor * Math.max(R.rows, R.cols) * Math.min(R.rows, R.cols) ** 2;
-          const key = `${lat.label}|${bc}|${N}`;
-          // the 24×24 open kagome is a stated target: scipy runs there whatever the budget
-          const target = lat.label === 'kagome' && bc === 'free' && N === 24;
-          if (predicted > opts.budget && !target) scipyNote.set(key, `scipy skipped (predicted ~${fmtSeconds(predicted)} s)`);
-          else {
-            const s = scipyNullSpace(lat.spec, N, bc, Math.max(3 * opts.budget, 3 * predicted, 60));
-            if (s.seconds !== undefined) {
-              scipyTimes.set(key, s.seconds);
-              console.log(`${pad(lat.label, 15)} ${pad(bc, 9)} ${pad(String(N), 4, true)} ${pad(String(dof), 7, true)} ${pad('scipy', 14)} ${pad(fmtSeconds(s.seconds), 8, true)} ${pad('—', 8, true)} ${pad('—', 8, true)} ${pad('', 7)} ${pad('', 7)}  null_space(rcond=1e-9): nullity ${s.nullity}; load + SVD only, no start-up`);
-            } else scipyNote.set(key, `scipy failed: ${s.note}`);
-          }
+
+        // what runs at this size: shimmy paths by their prediction from the previous sizes
+        interface Job {
+          name: string;
+          skip?: RunResult;
+          runs: RunResult[];
+          /** Stop repeating once a run fails or the repeats would not fit the budget. */
+          more: boolean;
         }
-        for (const solver of runList) {
+        const jobs: Job[] = runList.map((solver) => {
           const key = `${lat.label}|${bc}|${solver}`;
           const h = history.get(key) ?? [];
           const predicted = predict(h, N, solver, startup);
-          const label = solver === autoPick ? `${solver} (auto)` : solver;
-          let result: RunResult;
           const failed = failures.get(key);
-          if (failed) {
-            result = { status: 'skipped', note: `${failed} at a smaller size` };
-          } else if (h.length && predicted > opts.budget && !(solver === 'sparse' && refusesAtOnce(R))) {
-            result = { status: 'skipped', note: `predicted ~${fmtSeconds(predicted)} s > budget` };
-          } else {
-            result = timeCommand(['count', lat.spec, '--cells', `${N}x${N}`, '--bc', bc, '--json', '--solver', solver], Math.max(3 * opts.budget, 60));
+          if (failed) return { name: solver, skip: { status: 'skipped', note: `${failed} at a smaller size` }, runs: [], more: false };
+          if (h.length && predicted > opts.budget && !(solver === 'sparse' && refusesAtOnce(R))) return { name: solver, skip: { status: 'skipped', note: `predicted ~${fmtSeconds(predicted)} s > budget` }, runs: [], more: false };
+          return { name: solver, runs: [], more: true };
+        });
+        // references: null_space while its predicted time fits (the 24×24 open kagome is a target
+        // and runs whatever the budget), SuperLU and CHOLMOD inertia on every size while they fit
+        const refs: RefRow[] = [];
+        if (scipy) {
+          const complexFactor = R.im ? 4 : 1;
+          const predicted = scipyPerCube * complexFactor * Math.max(R.rows, R.cols) * Math.min(R.rows, R.cols) ** 2;
+          const target = lat.label === 'kagome' && bc === 'free' && N === 24;
+          if (predicted > opts.budget && !target) scipyNote.set(sizeKey, `scipy null_space skipped (predicted ~${fmtSeconds(predicted)} s)`);
+          else refs.push(newRef(lat.label, bc, N, dof, 'null_space', 'scipy.linalg.null_space(rcond=1e-9), dense SVD', (k) => `flexes ${k}`, (t) => [scipyNullSpace(R, t)], Math.max(3 * opts.budget, 3 * predicted, 60)));
+          const side = Math.min(R.rows, R.cols);
+          const countText = (k: number) => `${k} eigenvalues of K below τ (σ < √τ; ${R.cols <= R.rows ? 'flex side' : 'self-stress side'}, n = ${side})`;
+          const inertia = newRef(lat.label, bc, N, dof, 'SuperLU inertia', `splu(K − τI, ${opts.ordering})`, countText, (t) => {
+            const r = inertiaReferences(R, opts.ordering, cholmod, t);
+            return r.cholmod ? [r.superlu, r.cholmod] : [r.superlu];
+          }, Math.max(3 * opts.budget, 60));
+          refs.push(inertia);
+          if (cholmod) refs.push(newRef(lat.label, bc, N, dof, 'CHOLMOD LDLᵀ', 'simplicial LDLᵀ of K − τI (same matrix)', countText, () => [], 0));
+        }
+        for (let rep = 0; rep < opts.repeats; rep++) {
+          for (const job of jobs) {
+            if (job.skip || !job.more) continue;
+            const r = timeCommand(['count', lat.spec, '--cells', `${N}x${N}`, '--bc', bc, '--json', '--solver', job.name], Math.max(3 * opts.budget, 60));
+            job.runs.push(r);
+            job.more = r.status === 'ok' && (r.seconds ?? 0) * opts.repeats <= opts.budget;
+          }
+          // the CHOLMOD row is filled by the SuperLU run (it factors the file that run writes)
+          for (let i = 0; i < refs.length; i++) {
+            const ref = refs[i];
+            if (!ref.more) continue;
+            const results = ref.run(ref.timeout);
+            results.forEach((res, k) => refs[i + k].add(res, opts));
+          }
+        }
+        let denseSeconds: number | undefined;
+        const sizeRows: Row[] = [];
+        for (const job of jobs) {
+          const key = `${lat.label}|${bc}|${job.name}`;
+          const result = job.skip ?? summarise(job.runs);
+          if (!job.skip) {
+            const h = history.get(key) ?? [];
             if (result.status === 'ok' && result.seconds !== undefined) history.set(key, [...h, { N, seconds: result.seconds }]);
             if (result.status === 'ok' && result.solveSeconds !== undefined) solveHistory.set(key, [...(solveHistory.get(key) ?? []), { N, seconds: result.solveSeconds }]);
             else failures.set(key, result.status);
           }
+          const label = job.name === autoPick ? `${job.name} (auto)` : job.name;
           const row: Row = { lattice: lat.label, bc, N, dof, solver: label, result };
-          if (solver === 'dense' && result.status === 'ok') denseSeconds = result.seconds;
-          if (solver !== 'dense' && denseSeconds && result.status === 'ok') row.vsDense = denseSeconds / result.seconds!;
-          const sKey = `${lat.label}|${bc}`;
-          const st = scipyTimes.get(`${sKey}|${N}`);
-          if (st !== undefined && result.status === 'ok') row.vsScipy = st / result.seconds!;
+          if (job.name === 'dense' && result.status === 'ok') denseSeconds = result.seconds;
+          if (job.name !== 'dense' && denseSeconds && result.status === 'ok') row.vsDense = denseSeconds / result.seconds!;
+          sizeRows.push(row);
+        }
+        const ns = refs.find((r) => r.label === 'null_space');
+        if (ns?.spread) scipyTimes.set(sizeKey, ns.spread.median);
+        else if (ns) scipyNote.set(sizeKey, `scipy failed: ${ns.note ?? '?'}`);
+        for (const row of sizeRows) {
+          if (ns?.spread && row.result.status === 'ok') row.vsScipy = ns.spread.median / row.result.seconds!;
           rows.push(row);
           print(row);
+        }
+        const picked = sizeRows.find((r) => r.solver.includes('(auto)')) ?? sizeRows.find((r) => r.solver === 'auto');
+        for (const ref of refs) {
+          refRows.push(ref);
+          printRef(ref, picked);
         }
       }
     }
@@ -384,9 +499,11 @@ function main(): void {
       else console.log(`  open kagome 64×64 classified ≤ 30 s (--solver ${which}): ${res.status}${res.note ? ` (${res.note})` : ''}`);
     }
   }
+  cholmod?.dispose();
   console.log(`\nTotal benchmark time ${((Date.now() - started) / 1000).toFixed(0)} s.`);
   if (opts.json) {
-    writeFileSync(opts.json, JSON.stringify({ date: new Date().toISOString(), node: process.version, startup, budget: opts.budget, rows, scipy: Object.fromEntries(scipyTimes) }, null, 2));
+    const references = refRows.map(({ lattice, bc, N, label, what, seconds, spread, count, nnzL, flops, note }) => ({ lattice, bc, N, label, what, seconds, spread, count, nnzL, flops, note }));
+    writeFileSync(opts.json, JSON.stringify({ date: new Date().toISOString(), node: process.version, startup, budget: opts.budget, repeats: opts.repeats, rows, references, scipy: Object.fromEntries(scipyTimes) }, null, 2));
     console.log(`Rows written to ${opts.json}.`);
   }
 }

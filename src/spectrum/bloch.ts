@@ -44,7 +44,7 @@ import { boundaryIsReal, reduceTurns, type AxisRule, type Boundary } from '../su
 import { rigidityMatrix } from '../supercell/rigidity.js';
 import { buildSupercell, jointIndex, type Supercell } from '../supercell/supercell.js';
 import type { Framework } from '../framework/types.js';
-import { jacobiSingularValues, jacobiSvd, jacobiWork, type JacobiWork } from './jacobi.js';
+import { jacobiSingularValues, jacobiSingularValuesInto, jacobiSvd, jacobiWork, type JacobiWork } from './jacobi.js';
 import { SymbolAssembler, type DenseColumns } from './symbol.js';
 
 // ---------------------------------------------------------------------------------------------
@@ -428,6 +428,10 @@ export function makeBlochSolver(settings: BlochSettings = {}): SpaceSolver {
 export const blochSolver: SpaceSolver = makeBlochSolver();
 
 function solveBloch(sc: Supercell, R: SparseMatrix | null, options: SolveOptions, sparseStripColumns: number): SolvedSpaces {
+  if (twisted(sc.boundary.x) && twisted(sc.boundary.y)) {
+    const cells = solveCells(sc, R, options);
+    if (cells) return cells;
+  }
   const plan = blochPlan(sc);
   const blocks = plan.blocks;
   const M = blocks.length;
@@ -575,6 +579,126 @@ function solveBloch(sc: Supercell, R: SparseMatrix | null, options: SolveOptions
       if (!stressCache) stressCache = basis('stress');
       return stressCache;
     },
+  };
+}
+
+/**
+ * Both axes twisted, cells of at most JACOBI_MAX_COLUMNS columns (else null): the same blocks,
+ * arithmetic and results as the general path below, without a block object per phase. Blocks
+ * are described by their index b = m2·N1 + m1; Φ is assembled into one reused buffer, the
+ * Jacobi sweeps use one scratch, and every σ goes into one flat array (k per block). The
+ * BlochPlan (block objects) is built only when a basis is asked for.
+ */
+function solveCells(sc: Supercell, R: SparseMatrix | null, options: SolveOptions): SolvedSpaces | null {
+  const phi = new SymbolAssembler(sc.framework);
+  const rows = phi.rows;
+  const cols = phi.cols;
+  if (cols > JACOBI_MAX_COLUMNS) return null;
+  const [N1, N2] = sc.cells;
+  const M = N1 * N2;
+  const fullRows = sc.bars.length;
+  const fullCols = 2 * sc.jointCount;
+  if (M * rows !== fullRows || M * cols !== fullCols || (R && (R.rows !== fullRows || R.cols !== fullCols))) {
+    throw new Error(`bloch: the blocks have ${M * rows}×${M * cols} entries in all but R is ${fullRows}×${fullCols}`);
+  }
+  const th0 = thetaOf(sc.boundary.x);
+  const th1 = thetaOf(sc.boundary.y);
+  const real = sc.real;
+  const check = () => throwIfAborted(options.signal);
+  // the conjugate phase −φ ≡ (θ + m̄)/N needs θ ∈ {0, ½}: m̄ = (−2θ − m) mod N (as blochPlan)
+  const bar = (theta: number, m: number, N: number) => (((-Math.round(2 * theta) - m) % N) + N) % N;
+  const conjugateOf = (b: number) => bar(th1, Math.floor(b / N1), N2) * N1 + bar(th0, b % N1, N1);
+  const representative = (b: number) => !real || conjugateOf(b) >= b;
+
+  // Pass 1: every σ of every representative block, into one flat array.
+  const k = Math.min(rows, cols);
+  const sigma = new Float64Array(M * k);
+  const w = jacobiWork(rows, cols);
+  const progress = monotoneProgress(options.onProgress);
+  const stride = Math.max(1, Math.ceil(M / 1000));
+  let sigmaMax = 0;
+  for (let b = 0; b < M; b++) {
+    check();
+    if (representative(b) && k > 0) {
+      const m1 = b % N1;
+      const m2 = (b - m1) / N1;
+      let p1 = (th0 + m1) / N1;
+      let p2 = (th1 + m2) / N2;
+      // a self-conjugate phase is 0 or ½ exactly: written so, the block is exactly real
+      if (real && conjugateOf(b) === b) {
+        p1 = Math.round(2 * p1) / 2;
+        p2 = Math.round(2 * p2) / 2;
+      }
+      const d = phi.assemble(p1, p2, 0);
+      jacobiSingularValuesInto(d.re, d.im, d.ld, cols, w, sigma, b * k);
+      for (let i = b * k; i < (b + 1) * k; i++) if (sigma[i] > sigmaMax) sigmaMax = sigma[i];
+    }
+    if ((b + 1) % stride === 0 || b + 1 === M) progress((b + 1) / M, `Bloch block ${b + 1} of ${M}`);
+  }
+
+  // Pass 2: every block cut at the one absolute tolerance (rankPartOf's conventions, summed as
+  // combineRankParts does); a non-representative block has its partner's figures.
+  const relative = options.relative;
+  const absolute = relative * sigmaMax;
+  const blockRank = new Int32Array(M);
+  let rank = 0;
+  let kept: number | null = null;
+  let dropped: number | null = null;
+  for (let b = 0; b < M; b++) {
+    const src = representative(b) ? b : conjugateOf(b);
+    let r = 0;
+    let bk: number | null = null;
+    let bd: number | null = null;
+    for (let i = src * k; i < (src + 1) * k; i++) {
+      const v = sigma[i];
+      if (v > absolute) {
+        r++;
+        if (bk === null || v < bk) bk = v;
+      } else if (bd === null || v > bd) bd = v;
+    }
+    if (bd === null && r < Math.max(rows, cols)) bd = 0;
+    blockRank[b] = r;
+    rank += r;
+    if (bk !== null && (kept === null || bk < kept)) kept = bk;
+    if (bd !== null && (dropped === null || bd > dropped)) dropped = bd;
+  }
+  const decision = combineRankParts([{ rank, kept, dropped }], fullRows, fullCols, relative, sigmaMax);
+  const svd = certifyFromSingularValues(decision, svdBackwardError(rows, cols, decision.sigmaMax));
+  const status: SolveStatus = { certified: svd.certified, criterion: 'singular-values', converged: true, fallback: null, reasons: [...svd.reasons], keptSigma: 'measured' };
+
+  // Bases: the block objects of blochPlan, each representative's kernel by Jacobi, lifted.
+  let plan: BlochPlan | undefined;
+  let map: IndexMap | undefined;
+  const basis = (which: 'flex' | 'stress'): NullBasis => {
+    plan ??= blochPlan(sc);
+    map ??= indexMap(sc, plan);
+    const out: CVec[] = [];
+    const bprogress = monotoneProgress(options.onProgress);
+    const what = which === 'flex' ? 'flex' : 'self-stress';
+    for (let b = 0; b < M; b++) {
+      check();
+      if (!representative(b)) continue;
+      const blk = plan.blocks[b];
+      const dim = (which === 'flex' ? cols : rows) - blockRank[b];
+      if (dim > 0) {
+        const A = which === 'flex' ? blk.matrix : conjugateTranspose(blk.matrix);
+        const nb = JACOBI_BLOCKS.nullSpace(A, dim);
+        const selfConjugate = blk.conjugate === b;
+        if (which === 'flex') lift(plan, sc, blk, nb.vectors, map.col, map.colCell, real, selfConjugate, out);
+        else lift(plan, sc, blk, nb.vectors, map.row, map.rowCell, real, selfConjugate, out);
+      }
+      if ((b + 1) % stride === 0 || b + 1 === M) bprogress((b + 1) / M, `Bloch ${what} basis, block ${b + 1} of ${M}`);
+    }
+    return { real, vectors: out };
+  };
+  let flexCache: NullBasis | undefined;
+  let stressCache: NullBasis | undefined;
+  return {
+    solver: 'bloch',
+    decision,
+    status,
+    flexBasis: () => (flexCache ??= basis('flex')),
+    selfStressBasis: () => (stressCache ??= basis('stress')),
   };
 }
 

@@ -77,6 +77,41 @@ export function jacobiSingularValues(re: Float64Array, im: Float64Array, m: numb
 }
 
 /**
+ * The min(m, n) singular values of A (as jacobiSingularValues, the same arithmetic) written into
+ * out[offset], …, out[offset + k − 1] in no particular order, without allocating: `work` must
+ * hold at least min(m, n)·max(m, n) entries. Returns k = min(m, n).
+ */
+export function jacobiSingularValuesInto(re: Float64Array, im: Float64Array, m: number, n: number, work: JacobiWork, out: Float64Array, offset: number): number {
+  if (m === 0 || n === 0) return 0;
+  const tall = m >= n;
+  const k = tall ? n : m;
+  const L = tall ? m : n;
+  const { wr, wi } = work;
+  if (wr.length < k * L) throw new RangeError(`jacobi: work holds ${wr.length} entries, ${k * L} needed`);
+  if (tall) {
+    for (let i = 0; i < m * n; i++) {
+      wr[i] = re[i];
+      wi[i] = im[i];
+    }
+  } else {
+    for (let c = 0; c < n; c++)
+      for (let r = 0; r < m; r++) {
+        wr[r * L + c] = re[c * m + r];
+        wi[r * L + c] = -im[c * m + r];
+      }
+  }
+  let fro2 = 0;
+  for (let i = 0; i < k * L; i++) fro2 += wr[i] * wr[i] + wi[i] * wi[i];
+  rotateToOrthogonal(wr, wi, k, L, Math.sqrt(fro2));
+  for (let c = 0; c < k; c++) {
+    let t = 0;
+    for (let i = c * L; i < (c + 1) * L; i++) t += wr[i] * wr[i] + wi[i] * wi[i];
+    out[offset + c] = Math.sqrt(t);
+  }
+  return k;
+}
+
+/**
  * One-sided Jacobi sweeps on k columns of length L, in place; with qr/qi (k×k) the same
  * rotations are applied to their columns too.
  */

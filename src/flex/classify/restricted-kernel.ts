@@ -260,37 +260,84 @@ function sparseRestrictedKernel(matrix: SparseMatrix, ctx: Ctx): { re: Float64Ar
  */
 export const KERNEL_INTERSECTION_MAX_COLUMNS = 2400;
 
+/** A restricted matrix and its method, with a 32-bit hash of its content (KernelCache.key). */
+export interface KernelKey {
+  method: RestrictedMethod;
+  matrix: SparseMatrix;
+  hash: number;
+}
+
+type Vectors = { re: Float64Array; im: Float64Array }[];
+
+/** FNV-1a over 32-bit words (common practice), continued from `h`. */
+function hashWords(h: number, words: Uint32Array | Int32Array): number {
+  for (let i = 0; i < words.length; i++) h = Math.imul(h ^ words[i], 0x01000193);
+  return h;
+}
+
+const floatWords = (x: Float64Array) => new Uint32Array(x.buffer, x.byteOffset, 2 * x.length);
+
+/** Equal bit for bit (so 0 and −0 differ, as distinct inputs may give distinct vectors). */
+function sameBits(x: Float64Array, y: Float64Array): boolean {
+  if (x.length !== y.length) return false;
+  const a = floatWords(x);
+  const b = floatWords(y);
+  for (let i = 0; i < a.length; i++) if (a[i] !== b[i]) return false;
+  return true;
+}
+
+function sameInts(x: Int32Array, y: Int32Array): boolean {
+  if (x.length !== y.length) return false;
+  for (let i = 0; i < x.length; i++) if (x[i] !== y[i]) return false;
+  return true;
+}
+
+function sameMatrix(A: SparseMatrix, B: SparseMatrix): boolean {
+  if (A.rows !== B.rows || A.cols !== B.cols || (A.im === null) !== (B.im === null)) return false;
+  return sameInts(A.rowPtr, B.rowPtr) && sameInts(A.colIdx, B.colIdx) && sameBits(A.re, B.re) && (A.im === null || sameBits(A.im, B.im!));
+}
+
 /**
  * Restricted kernels by the exact content of their restricted matrix (sizes, structure and the
  * bits of every entry) and the method: the same input gives the same vectors, so a region whose
- * matrix was met before (a translate away from the sides) is not solved again. Bounded at about
- * 64 MB (MAX_WORDS numbers); past that, kernels are solved and not kept.
+ * matrix was met before (a translate away from the sides) is not solved again. Looked up by a
+ * hash of the content; a hit is confirmed by comparing the matrices entry by entry, so a hash
+ * collision only costs a comparison. Bounded at about 64 MB (MAX_WORDS numbers, the kept
+ * matrices included); past that, kernels are solved and not kept.
  */
 export class KernelCache {
-  private map = new Map<string, { re: Float64Array; im: Float64Array }[]>();
+  private map = new Map<number, { key: KernelKey; vectors: Vectors }[]>();
   private words = 0;
   static readonly MAX_WORDS = 8e6;
 
-  static key(method: RestrictedMethod, A: SparseMatrix): string {
-    const parts: string[] = [method, String(A.rows), String(A.cols), A.rowPtr.join(','), A.colIdx.join(',')];
-    const bits = (x: Float64Array) => {
-      const u = new Uint32Array(x.buffer, x.byteOffset, 2 * x.length);
-      let out = '';
-      for (let i = 0; i < u.length; i += 4096) out += String.fromCharCode(...u.subarray(i, i + 4096).map((w) => w & 0xffff), ...u.subarray(i, i + 4096).map((w) => w >>> 16));
-      return out;
-    };
-    parts.push(bits(A.re), A.im ? bits(A.im) : '-');
-    return parts.join('|');
+  static key(method: RestrictedMethod, A: SparseMatrix): KernelKey {
+    let h = 0x811c9dc5;
+    for (let i = 0; i < method.length; i++) h = Math.imul(h ^ method.charCodeAt(i), 0x01000193);
+    h = Math.imul(h ^ A.rows, 0x01000193);
+    h = Math.imul(h ^ A.cols, 0x01000193);
+    h = hashWords(h, A.rowPtr);
+    h = hashWords(h, A.colIdx);
+    h = hashWords(h, floatWords(A.re));
+    h = A.im ? hashWords(h, floatWords(A.im)) : Math.imul(h ^ 0x2d, 0x01000193);
+    return { method, matrix: A, hash: h >>> 0 };
   }
 
-  get(key: string): { re: Float64Array; im: Float64Array }[] | undefined {
-    return this.map.get(key);
+  get(key: KernelKey): Vectors | undefined {
+    const bucket = this.map.get(key.hash);
+    if (!bucket) return undefined;
+    for (const e of bucket) if (e.key.method === key.method && sameMatrix(e.key.matrix, key.matrix)) return e.vectors;
+    return undefined;
   }
 
-  set(key: string, vectors: { re: Float64Array; im: Float64Array }[]): void {
-    const w = vectors.reduce((t, v) => t + 2 * v.re.length, 0) + key.length / 4;
+  set(key: KernelKey, vectors: Vectors): void {
+    const A = key.matrix;
+    const w = vectors.reduce((t, v) => t + 2 * v.re.length, 0) + (A.rowPtr.length + A.colIdx.length) / 2 + A.re.length * (A.im ? 2 : 1);
     if (this.words + w > KernelCache.MAX_WORDS) return;
     this.words += w;
-    this.map.set(key, vectors);
+    // a copy: a caller or solver changing the matrix later cannot change what was cached
+    const kept: KernelKey = { method: key.method, hash: key.hash, matrix: { ...A, rowPtr: A.rowPtr.slice(), colIdx: A.colIdx.slice(), re: A.re.slice(), im: A.im ? A.im.slice() : null } };
+    const bucket = this.map.get(key.hash);
+    if (bucket) bucket.push({ key: kept, vectors });
+    else this.map.set(key.hash, [{ key: kept, vectors }]);
   }
 }
