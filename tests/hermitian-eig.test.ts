@@ -369,3 +369,40 @@ describe('hermitianEigen against numpy.linalg.eigh', () => {
     }
   });
 });
+
+describe('clusters at zero', () => {
+  it('I − QQᵀ with 190 orthonormal columns in 196 dimensions: 190 eigenvalues at 0 and 6 at 1 (a projector; common practice), where the QL step once failed to converge', () => {
+    const s = 196;
+    const k = 190;
+    const r = seededUniform(3, -1, 1);
+    const Q: Float64Array[] = [];
+    while (Q.length < k) {
+      const v = Float64Array.from({ length: s }, () => r());
+      for (let pass = 0; pass < 2; pass++)
+        for (const q of Q) {
+          let d = 0;
+          for (let i = 0; i < s; i++) d += q[i] * v[i];
+          for (let i = 0; i < s; i++) v[i] -= d * q[i];
+        }
+      const n = Math.hypot(...v);
+      Q.push(v.map((x) => x / n));
+    }
+    const G = new Float64Array(s * s);
+    for (let a = 0; a < s; a++)
+      for (let b = 0; b < s; b++) {
+        let x = a === b ? 1 : 0;
+        for (const q of Q) x -= q[a] * q[b];
+        G[a * s + b] = x;
+      }
+    const e = hermitianEigen(G, null, s);
+    for (let t = 0; t < k; t++) expect(Math.abs(e.values[t])).toBeLessThan(1e-13);
+    for (let t = k; t < s; t++) expect(e.values[t]).toBeCloseTo(1, 12);
+    // the eigenvectors of the 1-cluster are orthogonal to every column of Q
+    for (let t = k; t < s; t++)
+      for (const q of Q.slice(0, 10)) {
+        let d = 0;
+        for (let i = 0; i < s; i++) d += q[i] * e.vre[i * s + t];
+        expect(Math.abs(d)).toBeLessThan(1e-12);
+      }
+  });
+});

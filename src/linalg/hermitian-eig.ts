@@ -252,14 +252,25 @@ function applyReflector(p: Reflector, yr: Float64Array, yi: Float64Array | null)
  * Implicit QL on the real symmetric tridiagonal (d, e), e[i] = T[i+1][i], e[n−1] unused.
  * On return d holds the eigenvalues (unordered) and row j of zt has been rotated into the
  * eigenvector belonging to d[j]. An off-diagonal entry is treated as zero when
- * |e_i| ≤ ε(|d_i| + |d_{i+1}|), which changes T by at most that much.
+ * |e_i| ≤ ε(|d_i| + |d_{i+1}|), which keeps the small eigenvalues of graded matrices accurate.
+ * An eigenvalue still unsettled after RELAX_AFTER iterations may also deflate at
+ * |e_i| ≤ ε‖T‖ (‖T‖ = max_i |d_i| + |e_i| + |e_{i−1}|), which changes T by at most ε‖T‖, a
+ * backward-stable step: a cluster of eigenvalues at zero to rounding (|d| and |e| both
+ * ~1e-17, as in I − CᴴC with C's columns orthonormal) never passes the relative test.
  */
+/** Iterations on one eigenvalue before the norm-relative deflation test joins the relative one. */
+const RELAX_AFTER = 20;
+
 function tridiagonalQl(d: Float64Array, e: Float64Array, zt: Float64Array, n: number): void {
   if (n > 0) e[n - 1] = 0;
+  let norm = 0;
+  for (let i = 0; i < n; i++) norm = Math.max(norm, Math.abs(d[i]) + Math.abs(e[i]) + (i > 0 ? Math.abs(e[i - 1]) : 0));
+  const floor = EPS * norm;
   for (let l = 0; l < n; l++) {
     for (let iter = 0; ; iter++) {
       let m = l;
-      while (m < n - 1 && Math.abs(e[m]) > EPS * (Math.abs(d[m]) + Math.abs(d[m + 1]))) m++;
+      const absolute = iter >= RELAX_AFTER ? floor : 0;
+      while (m < n - 1 && Math.abs(e[m]) > EPS * (Math.abs(d[m]) + Math.abs(d[m + 1])) && Math.abs(e[m]) > absolute) m++;
       if (m === l) break;
       if (iter === MAX_QL_ITERATIONS) throw new Error(`hermitianEigen: the QL iteration did not converge for eigenvalue ${l} of ${n}`);
       // shift: the eigenvalue of the leading 2×2 block at l nearer to d[l]
