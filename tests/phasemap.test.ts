@@ -12,7 +12,7 @@ import type { Framework } from '../src/framework/types.js';
 import { complexOrthonormalSpan, type CVec } from '../src/linalg/complex.js';
 import { singularValues } from '../src/linalg/dense.js';
 import { SparseBuilder } from '../src/linalg/sparse.js';
-import { jacobiSingularValues } from '../src/spectrum/jacobi.js';
+import { jacobiSingularValues, jacobiSingularValuesInto, jacobiWork } from '../src/spectrum/jacobi.js';
 import { phaseMap, SymbolEvaluator, type PhaseMap, type ZeroLine } from '../src/spectrum/phasemap.js';
 import { symbolKernel, symbolMatrix } from '../src/spectrum/symbol.js';
 import { rigidityMatrix } from '../src/supercell/rigidity.js';
@@ -77,6 +77,23 @@ describe('one-sided Jacobi singular values', () => {
       for (let k = 0; k < s.length; k++) expect(Math.abs(s[k] - ref[k])).toBeLessThan(1e-13 * ref[0]);
       for (let k = rank; k < s.length; k++) expect(s[k]).toBeLessThan(1e-14 * s[0]);
     }
+  });
+
+  it('the allocation-free form writes the same values at an offset of a shared array, with one scratch for every size', () => {
+    const r = rng(6);
+    const work = jacobiWork(12, 12);
+    const out = new Float64Array(64).fill(-1);
+    let offset = 3;
+    for (const [m, n] of [[6, 6], [9, 4], [3, 8], [12, 6]]) {
+      const A = randomComplex(r, m, n);
+      const k = jacobiSingularValuesInto(A.re, A.im, m, n, work, out, offset);
+      expect(k).toBe(Math.min(m, n));
+      const got = Array.from(out.subarray(offset, offset + k)).sort((a, b) => b - a);
+      expect(got).toEqual(Array.from(jacobiSingularValues(A.re, A.im, m, n)));
+      offset += k;
+    }
+    expect(out[2]).toBe(-1);
+    expect(out[offset]).toBe(-1);
   });
 
   it('recovers tiny singular values of U·diag(σ)·Vᴴ to ~1e-15·σ_max (ΦᴴΦ could not)', () => {
