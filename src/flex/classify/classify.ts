@@ -102,7 +102,8 @@ import { pivotOrder, scdm } from './scdm.js';
 import { Span } from './span.js';
 import { DEFAULT_STRIP, DEFAULT_WINDOW, FIT_FLOOR, HEAD_WEIGHT, LINE_COVERAGE, MIN_R2, SUPPORT_AMPLITUDE } from './thresholds.js';
 
-function checkOptions(o: ClassifyOptions): { window: number; strip: number } {
+/** The window, strip and directions options, checked (shared with the self-stress classifier). */
+export function checkOptions(o: Pick<ClassifyOptions, 'window' | 'strip' | 'directions'>, context = 'The classification options cannot be used:'): { window: number; strip: number } {
   const window = o.window ?? DEFAULT_WINDOW;
   const strip = o.strip ?? DEFAULT_STRIP;
   const problems = [];
@@ -114,7 +115,7 @@ function checkOptions(o: ClassifyOptions): { window: number; strip: number } {
     if (!Array.isArray(d) || d.length !== 2 || !d.every(Number.isInteger) || gcd(d[0], d[1]) !== 1)
       problems.push({ where: 'directions', what: `(${String(d)}) is not a primitive lattice direction`, fix: 'give integer pairs (p, q) with gcd 1, e.g. [1, 0] or [1, -1]' });
   }
-  if (problems.length) throw new InputError('The classification options cannot be used:', problems);
+  if (problems.length) throw new InputError(context, problems);
   return { window, strip };
 }
 

@@ -28,7 +28,6 @@ export interface RestSplit {
 }
 
 export function restOf(ctx: Ctx, span: Span, f: number, takenIndices: number[], measure: boolean): RestSplit {
-  const n = ctx.n;
   const rest: { re: Float64Array; im: Float64Array }[] = [];
   if (f === 0) return { rest, inside: 0, leakage: 0, separation: null };
   if (takenIndices.length === f && !measure) return { rest, inside: f, leakage: null, separation: null };
@@ -37,58 +36,65 @@ export function restOf(ctx: Ctx, span: Span, f: number, takenIndices: number[], 
     const phi = ctx.flexBasis();
     return { rest: phi.map((v) => ({ re: Float64Array.from(v.re), im: Float64Array.from(v.im) })), inside: 0, leakage: 0, separation: 1 };
   }
-  const taken = span.orthonormal(takenIndices);
   // the global flex basis is needed only for a rest (the count f is known without it)
-  const phi = ctx.flexBasis();
-  const restComplex = ctx.basisComplex();
-  let leakage = 0;
+  return principalSplit(ctx.flexBasis(), span.orthonormal(takenIndices), !ctx.basisComplex());
+}
+
+/**
+ * The split of a space with orthonormal basis Φ (s vectors) by an orthonormal set Q (the taken
+ * span): with C = Qᴴ Φ the eigenvalues of I − CᴴC are sin² of the principal angles between them
+ * (padded with 1); those ≤ ½ count as inside the taken span, and the eigenvectors of the others,
+ * orthogonalised against Q, are an orthonormal basis of the rest. Shared by the flex and the
+ * self-stress classifiers. `real` when every vector is real.
+ */
+export function principalSplit(phi: Cx[], taken: Cx[], real: boolean): { rest: Cx[]; inside: number; leakage: number; separation: number | null } {
+  const s = phi.length;
   const d = taken.length;
-  const Cre = new Float64Array(d * f);
-  const Cim = new Float64Array(d * f);
+  const n = s ? phi[0].re.length : 0;
+  const Cre = new Float64Array(d * s);
+  const Cim = new Float64Array(d * s);
   for (let a = 0; a < d; a++)
-    for (let b = 0; b < f; b++) {
+    for (let b = 0; b < s; b++) {
       const [sr, si] = dot(taken[a], phi[b]);
-      Cre[a * f + b] = sr;
-      Cim[a * f + b] = si;
+      Cre[a * s + b] = sr;
+      Cim[a * s + b] = si;
     }
-  const Gre = new Float64Array(f * f);
-  const Gim = ctx.basisComplex() ? new Float64Array(f * f) : null;
-  for (let a = 0; a < f; a++)
-    for (let b = 0; b < f; b++) {
+  const Gre = new Float64Array(s * s);
+  const Gim = real ? null : new Float64Array(s * s);
+  for (let a = 0; a < s; a++)
+    for (let b = 0; b < s; b++) {
       let sr = a === b ? 1 : 0;
       let si = 0;
       for (let c = 0; c < d; c++) {
-        const xr = Cre[c * f + a];
-        const xi = Cim[c * f + a];
-        const yr = Cre[c * f + b];
-        const yi = Cim[c * f + b];
+        const xr = Cre[c * s + a];
+        const xi = Cim[c * s + a];
+        const yr = Cre[c * s + b];
+        const yi = Cim[c * s + b];
         sr -= xr * yr + xi * yi;
         si -= xr * yi - xi * yr;
       }
-      Gre[a * f + b] = sr;
-      if (Gim) Gim[a * f + b] = si;
+      Gre[a * s + b] = sr;
+      if (Gim) Gim[a * s + b] = si;
     }
-  const eig = hermitianEigen(Gre, Gim, f);
+  const eig = hermitianEigen(Gre, Gim, s);
   // ascending eigenvalues: the taken span holds those ≤ ½ (at most d of them)
   let inside = 0;
-  while (inside < Math.min(d, f) && eig.values[inside] <= 0.5) inside++;
-  if (inside > 0) leakage = Math.sqrt(Math.max(0, eig.values[inside - 1]));
-  const separation = inside < f ? Math.sqrt(Math.max(0, eig.values[inside])) : null;
-  const restDim = f - inside;
-  if (restDim === 0) return { rest, inside, leakage, separation };
-  for (let t = f - 1; t >= f - restDim; t--) {
+  while (inside < Math.min(d, s) && eig.values[inside] <= 0.5) inside++;
+  const leakage = inside > 0 ? Math.sqrt(Math.max(0, eig.values[inside - 1])) : 0;
+  const separation = inside < s ? Math.sqrt(Math.max(0, eig.values[inside])) : null;
+  const rest: Cx[] = [];
+  for (let t = s - 1; t >= inside; t--) {
     const y = eig.vectors[t];
     const v = { re: new Float64Array(n), im: new Float64Array(n) };
-    for (let b = 0; b < f; b++) {
+    for (let b = 0; b < s; b++) {
       const yr = y.re[b];
       const yi = y.im[b];
       if (yr === 0 && yi === 0) continue;
-      addScaled(v, phi[b], yr, yi, !restComplex);
+      addScaled(v, phi[b], yr, yi, real);
     }
-    for (let pass = 0; pass < 2; pass++) for (const u of taken) subtractProjection(v, u, !restComplex);
-    for (const u of rest) subtractProjection(v, u, !restComplex);
-    const nv = norm(v);
-    scaleInPlace(v, 1 / nv);
+    for (let pass = 0; pass < 2; pass++) for (const u of taken) subtractProjection(v, u, real);
+    for (const u of rest) subtractProjection(v, u, real);
+    scaleInPlace(v, 1 / norm(v));
     rest.push(v);
   }
   return { rest, inside, leakage, separation };

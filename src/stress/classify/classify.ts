@@ -34,20 +34,21 @@
  * Periodic supercells (both axes θ = 0) get each mode's macroscopic stress (macroscopic.ts).
  */
 import { Matrix, SingularValueDecomposition } from 'ml-matrix';
-import { InputError } from '../../errors.js';
 import { FLEX_CLASSES, type ClassifiedMode, type FlexClass } from '../../flex/classes.js';
 import type { FlexAnalysis } from '../../flex/spaces.js';
-import { combine, expand, hermitianEigen, scaleInPlace, subtractProjection, type Cx } from '../../flex/classify/cvec-ops.js';
+import { expand, type Cx } from '../../flex/classify/cvec-ops.js';
 import { usableDirections } from '../../flex/classify/lines.js';
 import { confineCorners, type CornerFind } from '../../flex/classify/local.js';
 import { basicMetrics, decayOf } from '../../flex/classify/metrics.js';
-import { gcd, indexStrips, shortSegments, stripsOf, wholeLineOf, windowsOf, type Region } from '../../flex/classify/regions.js';
+import { indexStrips, shortSegments, stripsOf, wholeLineOf, windowsOf, type Region } from '../../flex/classify/regions.js';
 import { splitByBoundaryDistance } from '../../flex/classify/rest-split.js';
+import { principalSplit } from '../../flex/classify/rest.js';
+import { checkOptions } from '../../flex/classify/classify.js';
 import { KernelCache } from '../../flex/classify/restricted-kernel.js';
 import { scdm } from '../../flex/classify/scdm.js';
 import { Span } from '../../flex/classify/span.js';
-import { DEFAULT_STRIP, DEFAULT_WINDOW, FIT_FLOOR, HEAD_WEIGHT, LINE_COVERAGE, MIN_R2, SPAN_TOLERANCE, SUPPORT_AMPLITUDE } from '../../flex/classify/thresholds.js';
-import { cdot, cnorm, complexOrthonormalSpan, type CVec } from '../../linalg/complex.js';
+import { FIT_FLOOR, HEAD_WEIGHT, LINE_COVERAGE, MIN_R2, SPAN_TOLERANCE, SUPPORT_AMPLITUDE } from '../../flex/classify/thresholds.js';
+import { complexOrthonormalSpan, type CVec } from '../../linalg/complex.js';
 import type { Supercell } from '../../supercell/supercell.js';
 import { BarIndex, barGeometry, MAX_REGION_BARS, restrictedCokernel } from './bars.js';
 import { cellArea, isPeriodic, macroscopicStress, TRACELESS_RELATIVE, type MacroStress } from './macroscopic.js';
@@ -94,21 +95,6 @@ export interface StressClassification {
   warnings?: string[];
 }
 
-function checkOptions(o: StressClassifyOptions): { window: number; strip: number } {
-  const window = o.window ?? DEFAULT_WINDOW;
-  const strip = o.strip ?? DEFAULT_STRIP;
-  const problems = [];
-  if (!Number.isInteger(window) || window < 1 || window > 50)
-    problems.push({ where: 'window', what: `the window size must be a whole number of cells from 1 to 50, got ${window}`, fix: 'use e.g. window 3 (--window 3)' });
-  if (!Number.isInteger(strip) || strip < 1 || strip > 50)
-    problems.push({ where: 'strip', what: `the strip width must be a whole number of cells from 1 to 50, got ${strip}`, fix: 'use e.g. strip 2 (--strip 2)' });
-  for (const d of o.directions ?? []) {
-    if (!Array.isArray(d) || d.length !== 2 || !d.every(Number.isInteger) || gcd(d[0], d[1]) !== 1)
-      problems.push({ where: 'directions', what: `(${String(d)}) is not a primitive lattice direction`, fix: 'give integer pairs (p, q) with gcd 1, e.g. [1, 0] or [1, -1]' });
-  }
-  if (problems.length) throw new InputError('The self-stress classification options cannot be used:', problems);
-  return { window, strip };
-}
 
 /** |w_b|² per bar. */
 function barWeights(v: Cx): Float64Array {
@@ -167,51 +153,13 @@ function realBasis(vectors: CVec[], dim: number): CVec[] {
   return complexOrthonormalSpan(parts, 1e-6, dim);
 }
 
-/**
- * The rest W ⊖ taken, decided in W: with C = Qᴴ Φ (Q orthonormal on the taken span, Φ the global
- * basis), the eigenvalues of I − CᴴC are sin² of the principal angles; those ≤ ½ are inside.
- */
-function restOf(phi: Cx[], taken: Cx[], real: boolean): { rest: Cx[]; inside: number; leakage: number; separation: number | null } {
-  const s = phi.length;
-  const d = taken.length;
-  const Gre = new Float64Array(s * s);
-  const Gim = real ? null : new Float64Array(s * s);
-  const C = taken.map((q) => phi.map((p) => cdot(q, p)));
-  for (let a = 0; a < s; a++)
-    for (let b = 0; b < s; b++) {
-      let sr = a === b ? 1 : 0;
-      let si = 0;
-      for (let c = 0; c < d; c++) {
-        const [xr, xi] = C[c][a];
-        const [yr, yi] = C[c][b];
-        sr -= xr * yr + xi * yi;
-        si -= xr * yi - xi * yr;
-      }
-      Gre[a * s + b] = sr;
-      if (Gim) Gim[a * s + b] = si;
-    }
-  const eig = hermitianEigen(Gre, Gim, s);
-  let inside = 0;
-  while (inside < Math.min(d, s) && eig.values[inside] <= 0.5) inside++;
-  const leakage = inside > 0 ? Math.sqrt(Math.max(0, eig.values[inside - 1])) : 0;
-  const separation = inside < s ? Math.sqrt(Math.max(0, eig.values[inside])) : null;
-  const rest: Cx[] = [];
-  for (let t = s - 1; t >= inside; t--) {
-    const v = combine(phi, eig.vectors[t], real);
-    for (let pass = 0; pass < 2; pass++) for (const u of taken) subtractProjection(v, u, real);
-    for (const u of rest) subtractProjection(v, u, real);
-    scaleInPlace(v, 1 / cnorm(v));
-    rest.push(v);
-  }
-  return { rest, inside, leakage, separation };
-}
 
 /**
  * Split the self-stresses of `sc` (as analysed in `analysis`) into local, line, decaying and
  * bulk; see the file header. Counts sum to analysis.selfStresses.
  */
 export function classifyStresses(sc: Supercell, analysis: FlexAnalysis, options: StressClassifyOptions = {}): StressClassification {
-  const { window, strip } = checkOptions(options);
+  const { window, strip } = checkOptions(options, 'The self-stress classification options cannot be used:');
   const warnings: string[] = [];
   const directions = usableDirections(sc, options.directions, warnings);
   const s = analysis.selfStresses;
@@ -308,7 +256,7 @@ export function classifyStresses(sc: Supercell, analysis: FlexAnalysis, options:
   let rest: Cx[] = [];
   let filtration = 'no rest: the local and line self-stresses fill the count';
   if (s > 0 && (takenIdx.length < s || m <= 2400)) {
-    const r = restOf(basis(), span.orthonormal(takenIdx), real);
+    const r = principalSplit(basis(), span.orthonormal(takenIdx), real);
     rest = r.rest;
     filtration = `dim (local + line) ∩ W from the principal angles (sin² ≤ ½ inside): largest sin inside ${r.leakage.toExponential(2)}, smallest outside ${r.separation === null ? '—' : r.separation.toExponential(2)}`;
     if (r.inside < modes.length) {
