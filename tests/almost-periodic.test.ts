@@ -9,28 +9,11 @@ import { buildGallery } from '../src/framework/gallery.js';
 import type { Framework } from '../src/framework/types.js';
 import { almostPeriodicVerdict } from '../src/spectrum/almost-periodic.js';
 import { SymbolAssembler } from '../src/spectrum/symbol.js';
-import { INVENTED_WEYL, symbolDeterminant } from './fixtures/invented-lattices.js';
+import { INVENTED_INVERSION, INVENTED_WEYL, symbolDeterminant } from './fixtures/invented-lattices.js';
 
 const gallery = (spec: string) => buildGallery(`gallery:${spec}`);
 
-// invented: 2 joints, 4 bars, inversion-symmetric, so its zeros form curves through generic phases
-const inversion: Framework = {
-  name: 'invented-inversion',
-  lattice: [
-    [1, 0],
-    [0.35, 0.95],
-  ],
-  joints: [
-    { id: 'A', at: [0.21, 0.13] },
-    { id: 'B', at: [-0.21, -0.13] },
-  ],
-  bars: [
-    { from: 'A', to: 'B', shift: [0, 0] },
-    { from: 'A', to: 'B', shift: [1, 0] },
-    { from: 'A', to: 'B', shift: [0, 1] },
-    { from: 'A', to: 'B', shift: [1, -1] },
-  ],
-};
+const inversion = INVENTED_INVERSION;
 
 /** The framework turned by `deg` degrees and scaled by `k` (the same framework in other units and axes). */
 function turned(fw: Framework, deg: number, k: number): Framework {

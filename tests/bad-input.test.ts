@@ -7,7 +7,6 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { count } from '../src/analysis.js';
-import { main, readTextFile } from '../src/cli/main.js';
 import { InputError, TooLargeError } from '../src/errors.js';
 import { checkRunSize, MIN_RELATIVE_TOLERANCE } from '../src/flex/estimate.js';
 import { buildGallery } from '../src/framework/gallery.js';
@@ -15,13 +14,9 @@ import type { Framework } from '../src/framework/types.js';
 import { parseFramework, validateFramework } from '../src/framework/validate.js';
 import { MAX_TWIST_TURNS, parseBoundary } from '../src/supercell/boundary.js';
 import { buildSupercell } from '../src/supercell/supercell.js';
+import { runCli } from './cli-harness.js';
 
-async function run(argv: string[]) {
-  let out = '';
-  let err = '';
-  const code = await main(argv, { out: (t) => (out += t), err: (t) => (err += t), readText: readTextFile });
-  return { code, out, err };
-}
+const run = runCli;
 
 const tmp = mkdtempSync(join(tmpdir(), 'shimmy-bad-'));
 function file(name: string, value: unknown): string {

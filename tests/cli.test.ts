@@ -4,20 +4,16 @@ import { existsSync, mkdtempSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { main, readTextFile } from '../src/cli/main.js';
+import { readTextFile } from '../src/cli/main.js';
 import { progressLine } from '../src/cli/progress.js';
 import { DENSE_MEMORY_LIMIT, denseMemoryBytes } from '../src/linalg/dense.js';
 import { TooLargeError } from '../src/errors.js';
 import { checkRunSize } from '../src/flex/estimate.js';
 import { buildGallery } from '../src/framework/gallery.js';
 import { parseBoundary } from '../src/supercell/boundary.js';
+import { runCli } from './cli-harness.js';
 
-async function run(argv: string[]) {
-  let out = '';
-  let err = '';
-  const code = await main(argv, { out: (t) => (out += t), err: (t) => (err += t), readText: readTextFile });
-  return { code, out, err };
-}
+const run = runCli;
 
 const tmp = mkdtempSync(join(tmpdir(), 'shimmy-cli-'));
 

@@ -5,26 +5,16 @@
 import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import Ajv2020 from 'ajv/dist/2020.js';
 import { describe, expect, it } from 'vitest';
-import { main, readTextFile } from '../src/cli/main.js';
 import { MODE_DATA_SCHEMA, modesToJson, parseModesJson } from '../src/io/modes.js';
 import { InputError } from '../src/errors.js';
+import { runCli, SCHEMA_DIR, schemaValidators } from './cli-harness.js';
 
-async function run(argv: string[]) {
-  let out = '';
-  let err = '';
-  const code = await main(argv, { out: (t) => (out += t), err: (t) => (err += t), readText: readTextFile });
-  return { code, out, err };
-}
+const run = runCli;
 
-const ajv = new Ajv2020({ strict: true, allowUnionTypes: true, allErrors: true });
-const schemaDir = join(import.meta.dirname, '..', 'schema');
-// modes.schema.json refers to the framework schema for its unit cell
-ajv.addSchema(JSON.parse(readFileSync(join(schemaDir, 'framework.schema.json'), 'utf8')));
-function validator(file: string) {
-  return ajv.compile(JSON.parse(readFileSync(join(schemaDir, file), 'utf8')));
-}
+// modes.schema.json refers to the framework schema for its unit cell; the harness adds it
+const { ajv, validator } = schemaValidators();
+const schemaDir = SCHEMA_DIR;
 const validators = {
   count: validator('count.schema.json'),
   classify: validator('classify.schema.json'),

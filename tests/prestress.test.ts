@@ -4,19 +4,16 @@
  * Math. 9, 453–491 (1996): E_ω(u) = Σ_bars ω_b |u_b − u_a|², positive on every non-trivial flex
  * for some self-stress ω ⇔ prestress stable. Expected values are derived in the comments.
  */
-import { readFileSync } from 'node:fs';
-import { join } from 'node:path';
-import Ajv2020 from 'ajv/dist/2020.js';
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 import { describe, expect, it } from 'vitest';
 import { count } from '../src/analysis.js';
-import { main, readTextFile } from '../src/cli/main.js';
 import { InputError } from '../src/errors.js';
 import { buildGallery } from '../src/framework/gallery.js';
 import type { Framework } from '../src/framework/types.js';
 import { sparseMatVec, conjugateTranspose } from '../src/linalg/sparse.js';
 import { nonTrivialFlexBasis, prestress, stressForm } from '../src/stress/prestress.js';
 import type { Supercell } from '../src/supercell/supercell.js';
+import { runCli, schemaValidators } from './cli-harness.js';
 
 function setup(fw: Framework | string, cells: [number, number], bc: string) {
   const framework = typeof fw === 'string' ? buildGallery(fw) : fw;
@@ -177,15 +174,10 @@ describe('one self-stress and the certificates', () => {
   });
 });
 
-async function run(argv: string[]) {
-  let out = '';
-  let err = '';
-  const code = await main(argv, { out: (t) => (out += t), err: (t) => (err += t), readText: readTextFile });
-  return { code, out, err };
-}
+const run = runCli;
 
-const ajv = new Ajv2020({ strict: true, allowUnionTypes: true, allErrors: true });
-const validate = ajv.compile(JSON.parse(readFileSync(join(import.meta.dirname, '..', 'schema', 'count.schema.json'), 'utf8')));
+const { ajv, validator } = schemaValidators();
+const validate = validator('count.schema.json');
 
 describe('shimmy count --prestress', () => {
   it('--json carries a prestress object valid against schema/count.schema.json', async () => {

@@ -18,17 +18,15 @@
  * Mao & Lubensky, "Surface phonons, elastic response, and conformal invariance in twisted kagome
  * lattices", PNAS 109, 12369–12374 (2012).
  */
-import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
-import Ajv2020 from 'ajv/dist/2020.js';
 import { EigenvalueDecomposition, Matrix, SingularValueDecomposition } from 'ml-matrix';
 import { describe, expect, it } from 'vitest';
-import { main, readTextFile } from '../src/cli/main.js';
 import { InputError } from '../src/errors.js';
 import { buildGallery } from '../src/framework/gallery.js';
 import type { Framework, Vec2 } from '../src/framework/types.js';
 import { flexibleLattice, type FlexibleLatticeResult, type Sym2 } from '../src/strain/flexible-lattice.js';
 import { randomFramework } from './helpers.js';
+import { runCli, schemaValidators } from './cli-harness.js';
 
 // ---------------------------------------------------------------------------------------------
 // The independent computation
@@ -384,15 +382,10 @@ describe('bad input', () => {
 // ---------------------------------------------------------------------------------------------
 // CLI and schema
 
-async function run(argv: string[]) {
-  let out = '';
-  let err = '';
-  const code = await main(argv, { out: (t) => (out += t), err: (t) => (err += t), readText: readTextFile });
-  return { code, out, err };
-}
+const run = runCli;
 
-const ajv = new Ajv2020({ strict: true, allowUnionTypes: true, allErrors: true });
-const validate = ajv.compile(JSON.parse(readFileSync(join(import.meta.dirname, '..', 'schema', 'strain.schema.json'), 'utf8')));
+const { ajv, validator } = schemaValidators();
+const validate = validator('strain.schema.json');
 
 describe('shimmy strain', () => {
   it('--json is valid against schema/strain.schema.json and carries the counts', async () => {

@@ -4,30 +4,12 @@ import type { Framework } from '../src/framework/types.js';
 import { phaseMap } from '../src/spectrum/phasemap.js';
 import { SymbolAssembler, symbolKernel } from '../src/spectrum/symbol.js';
 import { zeroTopology } from '../src/spectrum/zero-set.js';
-import { INVENTED_WEYL, symbolDeterminant } from './fixtures/invented-lattices.js';
+import { INVENTED_INVERSION, INVENTED_WEYL, symbolDeterminant } from './fixtures/invented-lattices.js';
 
 // invented (tests/fixtures/invented-lattices.ts): 3 joints, 6 bars, isolated zeros of det Φ
 const weyl = INVENTED_WEYL;
 
-// invented: 2 joints, 4 bars (Maxwell), every bar joining A to B, so the point midway between A and B
-// is a centre of inversion
-const inversion: Framework = {
-  name: 'invented-inversion',
-  lattice: [
-    [1, 0],
-    [0.35, 0.95],
-  ],
-  joints: [
-    { id: 'A', at: [0.21, 0.13] },
-    { id: 'B', at: [-0.21, -0.13] },
-  ],
-  bars: [
-    { from: 'A', to: 'B', shift: [0, 0] },
-    { from: 'A', to: 'B', shift: [1, 0] },
-    { from: 'A', to: 'B', shift: [0, 1] },
-    { from: 'A', to: 'B', shift: [1, -1] },
-  ],
-};
+const inversion = INVENTED_INVERSION;
 
 const detAt = symbolDeterminant;
 

@@ -6,7 +6,7 @@ import type { ClassifiedMode } from '../classes.js';
 import { jointsOfCells, type State } from './context.js';
 import { expand } from './cvec-ops.js';
 import { basicMetrics, jointWeights } from './metrics.js';
-import { wholeLineOf, type Region } from './regions.js';
+import { wholeLineOf, type Axes, type Region } from './regions.js';
 import { restrictedKernel } from './restricted-kernel.js';
 
 /** A local flex found in a window holding a corner of a free sample. */
@@ -23,23 +23,25 @@ export interface CornerFind {
  * Adds the new flexes of every window (smallest first) to the span and to the modes: local, or
  * line when the flex is a whole straight line of the sample. Returns the finds in corner windows.
  */
+/** The corner of a sample with no wrapping axis that a window holds (the first, when several), or null. */
+export function cornerOfWindow(ax: Axes, win: Region): string | null {
+  if (ax.px || ax.py) return null;
+  const corners: [string, number][] = [
+    ['bottom-left', 0],
+    ['bottom-right', ax.N1 - 1],
+    ['top-left', (ax.N2 - 1) * ax.N1],
+    ['top-right', ax.N2 * ax.N1 - 1],
+  ];
+  return corners.find(([, c]) => win.cells.includes(c))?.[0] ?? null;
+}
+
 export function findLocal(state: State, windows: Region[], stripsByCell: Region[][]): CornerFind[] {
   const { ctx, geo, span, f, modes, tick } = state;
   const n = ctx.n;
   const J = ctx.sc.jointCount;
   const ax = geo.ax;
   const cornerFinds: CornerFind[] = [];
-  const cornerCells: [string, number][] =
-    ax.px || ax.py
-      ? []
-      : [
-          ['bottom-left', 0],
-          ['bottom-right', ax.N1 - 1],
-          ['top-left', (ax.N2 - 1) * ax.N1],
-          ['top-right', ax.N2 * ax.N1 - 1],
-        ];
-  /** The corner of a free sample a window holds (the first, when it holds several), or null. */
-  const cornerOf = (win: Region): string | null => cornerCells.find(([, c]) => win.cells.includes(c))?.[0] ?? null;
+  const cornerOf = (win: Region) => cornerOfWindow(ax, win);
   for (const win of windows) {
     if (span.dim < f) {
       const block = restrictedKernel(ctx, jointsOfCells(ctx, win.cells));

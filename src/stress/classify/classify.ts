@@ -38,7 +38,7 @@ import { FLEX_CLASSES, type ClassifiedMode, type FlexClass } from '../../flex/cl
 import type { FlexAnalysis } from '../../flex/spaces.js';
 import { expand, type Cx } from '../../flex/classify/cvec-ops.js';
 import { usableDirections } from '../../flex/classify/lines.js';
-import { confineCorners, type CornerFind } from '../../flex/classify/local.js';
+import { confineCorners, cornerOfWindow, type CornerFind } from '../../flex/classify/local.js';
 import { basicMetrics, decayOf } from '../../flex/classify/metrics.js';
 import { indexStrips, shortSegments, stripsOf, wholeLineOf, windowsOf, type Region } from '../../flex/classify/regions.js';
 import { splitByBoundaryDistance } from '../../flex/classify/rest-split.js';
@@ -181,15 +181,6 @@ export function classifyStresses(sc: Supercell, analysis: FlexAnalysis, options:
   const stripsByCell = indexStrips(strips, ax);
 
   // 1. local: window kernels, smallest first (a whole straight line of the sample is a line)
-  const cornerCells: [string, number][] =
-    ax.px || ax.py
-      ? []
-      : [
-          ['bottom-left', 0],
-          ['bottom-right', ax.N1 - 1],
-          ['top-left', (ax.N2 - 1) * ax.N1],
-          ['top-right', ax.N2 * ax.N1 - 1],
-        ];
   const cornerFinds: CornerFind[] = [];
   for (const win of windows) {
     if (span.dim >= s) break;
@@ -217,7 +208,7 @@ export function classifyStresses(sc: Supercell, analysis: FlexAnalysis, options:
         } else {
           const mode: StressMode = { class: 'local', vector: full, ...basicMetrics(geo, w), region: win.label };
           modes.push(mode);
-          const corner = cornerCells.find(([, c]) => win.cells.includes(c))?.[0];
+          const corner = cornerOfWindow(ax, win);
           if (corner) cornerFinds.push({ corner, size: win.width, index: base + t, mode });
         }
       }
