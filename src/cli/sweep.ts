@@ -4,6 +4,7 @@ import { InputError } from '../errors.js';
 import { SWEEP_QUANTITIES, sweep, twistSweep, type SweepResult, type SweepRow, type TwistSweepRow } from '../flex/sweep.js';
 import { MAX_CELLS_PER_AXIS } from '../supercell/supercell.js';
 import { describeBoundary } from '../supercell/boundary.js';
+import type { Progress } from '../flex/solver.js';
 import { progressLine } from './progress.js';
 import type { Command } from './command.js';
 import { CLASSIFY_DETAILS, CLASSIFY_FLAGS, readClassifyFlags } from './classify.js';
@@ -135,6 +136,34 @@ function fitLines(r: SweepResult): string[] {
   return lines;
 }
 
+/** --csv, --json or the table (both formats at once is refused). */
+function outputMode(args: Parameters<Command['run']>[0]): 'csv' | 'json' | 'table' {
+  if (args.flags.has('--csv') && args.flags.has('--json')) {
+    throw new InputError('sweep prints one format:', [{ where: '--csv --json', what: 'both formats were asked for', fix: 'write either --csv or --json (or neither for a table)' }]);
+  }
+  return args.flags.has('--csv') ? 'csv' : args.flags.has('--json') ? 'json' : 'table';
+}
+
+/** Prints rows as they come: aligned columns for the table, comma-separated for CSV (seconds unrounded), nothing for JSON. */
+function rowWriter<R extends { seconds: number }>(io: Parameters<Command['run']>[1], mode: 'csv' | 'json' | 'table', columns: (keyof R)[], text: (row: R, k: keyof R) => string) {
+  const widths = columns.map((k) => Math.max(String(k).length, 7));
+  return {
+    header() {
+      if (mode === 'table') io.out('  ' + columns.map((k, i) => String(k).padStart(widths[i])).join(' ') + '\n');
+      if (mode === 'csv') io.out(columns.join(',') + '\n');
+    },
+    write: (row: R) => {
+      if (mode === 'table') io.out('  ' + columns.map((k, i) => text(row, k).padStart(widths[i])).join(' ') + '\n');
+      if (mode === 'csv') io.out(columns.map((k) => (k === 'seconds' ? String(row.seconds) : text(row, k))).join(',') + '\n');
+    },
+  };
+}
+
+/** The solve and classify settings every sweep row runs with. */
+function runOptions(a: ReturnType<typeof readSupercellArgs>, opts: ReturnType<typeof readClassifyFlags>, onProgress: (p: Progress) => void) {
+  return { tolerance: a.tolerance, solver: a.solver, memoryLimit: a.memoryLimit, window: opts.window, strip: opts.strip, onProgress };
+}
+
 export const sweepCommand: Command = {
   name: 'sweep',
   summary: 'Classify the flexes at a series of supercell sizes and fit how each class count grows with N.',
@@ -167,38 +196,18 @@ export const sweepCommand: Command = {
   run(args, io) {
     if (args.flags.has('--twist')) return runTwist(args, io);
     const sizes = parseSizeList((args.flags.get('--cells') as string | undefined) ?? '4..8');
-    if (args.flags.has('--csv') && args.flags.has('--json')) {
-      throw new InputError('sweep prints one format:', [{ where: '--csv --json', what: 'both formats were asked for', fix: 'write either --csv or --json (or neither for a table)' }]);
-    }
     const first = `${sizes[0][0]}x${sizes[0][1]}`;
     const flags = new Map(args.flags);
     flags.set('--cells', first); // the sizes are parsed above; this only satisfies the shared reader
     const a = readSupercellArgs({ positional: args.positional, flags }, io, 'sweep');
     const opts = readClassifyFlags(args);
     for (const size of sizes) checkSize(a, true, size);
-    const mode = args.flags.has('--csv') ? 'csv' : args.flags.has('--json') ? 'json' : 'table';
-    const widths = COLUMNS.map((k) => Math.max(k.length, 6));
-    if (mode === 'table') {
-      const title = titleOf(a.framework.name, a.spec);
-      io.out(`shimmy sweep: ${title}\n  ${describeBoundary(a.boundary)}; ${sizes.length} size${sizes.length === 1 ? '' : 's'}\n\n`);
-      io.out('  ' + COLUMNS.map((k, i) => k.padStart(widths[i])).join(' ') + '\n');
-    }
-    if (mode === 'csv') io.out(COLUMNS.join(',') + '\n');
+    const mode = outputMode(args);
+    const rows = rowWriter(io, mode, COLUMNS, cell);
+    if (mode === 'table') io.out(`shimmy sweep: ${titleOf(a.framework.name, a.spec)}\n  ${describeBoundary(a.boundary)}; ${sizes.length} size${sizes.length === 1 ? '' : 's'}\n\n`);
+    rows.header();
     const progress = progressLine(io, 'sweep');
-    const result = sweep(a.framework, {
-      sizes,
-      boundary: a.bcText,
-      tolerance: a.tolerance,
-      solver: a.solver,
-      memoryLimit: a.memoryLimit,
-      window: opts.window,
-      strip: opts.strip,
-      onProgress: progress.report,
-      onRow: (row) => {
-        if (mode === 'table') io.out('  ' + COLUMNS.map((k, i) => cell(row, k).padStart(widths[i])).join(' ') + '\n');
-        if (mode === 'csv') io.out(COLUMNS.map((k) => (k === 'seconds' ? String(row.seconds) : cell(row, k))).join(',') + '\n');
-      },
-    });
+    const result = sweep(a.framework, { sizes, boundary: a.bcText, ...runOptions(a, opts, progress.report), onRow: rows.write });
     progress.done();
     if (mode === 'json') {
       io.out(safeJson(JSON.stringify({ schemaVersion: 'shimmy.sweep/1', framework: a.spec, name: a.framework.name ?? null, ...result }, null, 2)) + '\n');
@@ -221,39 +230,19 @@ function runTwist(args: Parameters<Command['run']>[0], io: Parameters<Command['r
   const phases = parsePhaseList(args.flags.get('--twist') as string);
   const sizes = parseSizeList((args.flags.get('--cells') as string | undefined) ?? '6x6');
   if (sizes.length !== 1) throw new InputError('A twist sweep runs at one size:', [{ where: '--cells', what: `${sizes.length} sizes were given`, fix: 'give one size with --twist, e.g. --cells 6x6' }]);
-  if (args.flags.has('--csv') && args.flags.has('--json')) {
-    throw new InputError('sweep prints one format:', [{ where: '--csv --json', what: 'both formats were asked for', fix: 'write either --csv or --json (or neither for a table)' }]);
-  }
   const flags = new Map(args.flags);
   flags.set('--cells', `${sizes[0][0]}x${sizes[0][1]}`);
   if (!flags.has('--bc')) flags.set('--bc', 'periodic');
   const a = readSupercellArgs({ positional: args.positional, flags }, io, 'sweep');
   const opts = readClassifyFlags(args);
   checkSize(a, true);
-  const mode = args.flags.has('--csv') ? 'csv' : args.flags.has('--json') ? 'json' : 'table';
-  const widths = TWIST_COLUMNS.map((k) => Math.max(k.length, 7));
+  const mode = outputMode(args);
   const text = (row: TwistSweepRow, k: keyof TwistSweepRow) => (k === 'theta' ? String(row.theta) : cell(row, k as keyof SweepRow));
-  if (mode === 'table') {
-    io.out(`shimmy sweep: ${titleOf(a.framework.name, a.spec)}\n  ${a.cells[0]}×${a.cells[1]} cells, ${describeBoundary(a.boundary)}; twist phase θ over ${phases.length} value${phases.length === 1 ? '' : 's'} (every twisted axis)\n\n`);
-    io.out('  ' + TWIST_COLUMNS.map((k, i) => k.padStart(widths[i])).join(' ') + '\n');
-  }
-  if (mode === 'csv') io.out(TWIST_COLUMNS.join(',') + '\n');
+  const rows = rowWriter(io, mode, TWIST_COLUMNS, text);
+  if (mode === 'table') io.out(`shimmy sweep: ${titleOf(a.framework.name, a.spec)}\n  ${a.cells[0]}×${a.cells[1]} cells, ${describeBoundary(a.boundary)}; twist phase θ over ${phases.length} value${phases.length === 1 ? '' : 's'} (every twisted axis)\n\n`);
+  rows.header();
   const progress = progressLine(io, 'sweep');
-  const result = twistSweep(a.framework, {
-    cells: a.cells,
-    phases,
-    boundary: a.boundary,
-    tolerance: a.tolerance,
-    solver: a.solver,
-    memoryLimit: a.memoryLimit,
-    window: opts.window,
-    strip: opts.strip,
-    onProgress: progress.report,
-    onRow: (row) => {
-      if (mode === 'table') io.out('  ' + TWIST_COLUMNS.map((k, i) => text(row, k).padStart(widths[i])).join(' ') + '\n');
-      if (mode === 'csv') io.out(TWIST_COLUMNS.map((k) => (k === 'seconds' ? String(row.seconds) : text(row, k))).join(',') + '\n');
-    },
-  });
+  const result = twistSweep(a.framework, { cells: a.cells, phases, boundary: a.boundary, ...runOptions(a, opts, progress.report), onRow: rows.write });
   progress.done();
   if (mode === 'json') {
     // schema/twist-sweep.schema.json
