@@ -6,7 +6,8 @@ import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { MODE_DATA_SCHEMA, modesToJson, parseModesJson } from '../src/io/modes.js';
+import { MODE_DATA_SCHEMA, modesToJson } from '../src/io/modes.js';
+import { parseModesJson } from '../src/io/modes-read.js';
 import { InputError } from '../src/errors.js';
 import { runCli, SCHEMA_DIR, schemaValidators } from './cli-harness.js';
 

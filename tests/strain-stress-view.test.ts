@@ -17,7 +17,7 @@ import { STRESS_WIDTH, stressForceValues, stressWidths } from '../src/app/stage/
 import { macroText, stressSummary } from '../src/app/panels/results.js';
 import { modesJson } from '../src/app/export/data.js';
 import { defaultState } from '../src/app/state.js';
-import { parseModesJson } from '../src/io/modes.js';
+import { parseModesJson } from '../src/io/modes-read.js';
 
 /** The periodic cell of flexibleLattice's result, as the worker draws it. */
 function cellOf(spec: string, cells: [number, number]) {
