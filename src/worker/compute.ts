@@ -5,7 +5,7 @@
  */
 import { analyse as run } from '../api/run.js';
 import { InputError, TooLargeError } from '../errors.js';
-import { FLEX_CLASSES, type FlexClass } from '../flex/classes.js';
+import { FLEX_CLASSES, type ClassifiedMode, type FlexClass } from '../flex/classes.js';
 import { classifyFlexes } from '../flex/classify.js';
 import { CancelledError, throwIfAborted } from '../flex/solver.js';
 import { countsOf } from '../flex/spaces.js';
@@ -170,14 +170,7 @@ export async function analyse(job: AnalyseJob, hooks: Hooks = {}): Promise<Analy
       .sort((a, b) => order[a.m.class] - order[b.m.class] || a.i - b.i)
       .map(({ m }) => {
         const { re, im } = split(m.vector, analysis.real);
-        const out: ModeData = { class: m.class, re, im, participation: m.participation, support: m.support, extents: [m.extents[0], m.extents[1]] };
-        if (m.direction) out.direction = [m.direction[0], m.direction[1]];
-        if (m.anchor) out.anchor = { kind: m.anchor.kind, name: m.anchor.name, at: [m.anchor.at[0], m.anchor.at[1]] };
-        if (m.decayLength !== undefined) out.decayLength = m.decayLength;
-        if (m.region !== undefined) out.region = m.region;
-        if (m.fitQuality !== undefined) out.fitQuality = m.fitQuality;
-        if (m.headWeight !== undefined) out.headWeight = m.headWeight;
-        return out;
+        return copyMetrics(m, { class: m.class, re, im, participation: m.participation, support: m.support, extents: [m.extents[0], m.extents[1]] } as ModeData);
       });
     modeSource = 'classified';
     const counts = Object.fromEntries(FLEX_CLASSES.map((k) => [k, c.counts[k] ?? 0])) as Record<FlexClass, number>;
@@ -211,12 +204,7 @@ function stressDataOf(m: ReturnType<typeof classifyStresses>['modes'][number], s
   const out: StressData = { re, im, class: m.class, participation: m.participation, support: m.support, extents: [m.extents[0], m.extents[1]] };
   // real supercells only: a complex stress's forces are aligned by the app before drawing
   if (real) out.forces = Float64Array.from(axialForces(sc, m.vector).re);
-  if (m.direction) out.direction = [m.direction[0], m.direction[1]];
-  if (m.anchor) out.anchor = { kind: m.anchor.kind, name: m.anchor.name, at: [m.anchor.at[0], m.anchor.at[1]] };
-  if (m.decayLength !== undefined) out.decayLength = m.decayLength;
-  if (m.region !== undefined) out.region = m.region;
-  if (m.fitQuality !== undefined) out.fitQuality = m.fitQuality;
-  if (m.headWeight !== undefined) out.headWeight = m.headWeight;
+  copyMetrics(m, out);
   if (m.macroscopicStress) out.macroscopicStress = { ...m.macroscopicStress };
   return out;
 }
@@ -325,4 +313,18 @@ export function toWorkerError(e: unknown): WorkerError {
   }
   const message = e instanceof Error ? `${e.name}: ${e.message}` : String(e);
   return { kind: 'internal', message: `An unexpected error stopped the computation: ${message}` };
+}
+
+/** The optional metrics a classified flex or self-stress carries, copied as plain data (anchors and pairs cloned). */
+function copyMetrics<T extends Pick<ModeData, 'direction' | 'anchor' | 'decayLength' | 'region' | 'fitQuality' | 'headWeight'>>(
+  m: Partial<Pick<ClassifiedMode, 'direction' | 'anchor' | 'decayLength' | 'region' | 'fitQuality' | 'headWeight'>>,
+  out: T,
+): T {
+  if (m.direction) out.direction = [m.direction[0], m.direction[1]];
+  if (m.anchor) out.anchor = { kind: m.anchor.kind, name: m.anchor.name, at: [m.anchor.at[0], m.anchor.at[1]] };
+  if (m.decayLength !== undefined) out.decayLength = m.decayLength;
+  if (m.region !== undefined) out.region = m.region;
+  if (m.fitQuality !== undefined) out.fitQuality = m.fitQuality;
+  if (m.headWeight !== undefined) out.headWeight = m.headWeight;
+  return out;
 }
