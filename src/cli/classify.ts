@@ -4,7 +4,7 @@ import { CAUTION } from '../caution.js';
 import { InputError } from '../errors.js';
 import { FLEX_CLASSES, type Classification, type ClassifiedMode } from '../flex/classes.js';
 import { DEFAULT_STRIP, DEFAULT_WINDOW } from '../flex/classify.js';
-import { sideWeights, type SideWeights } from '../flex/side-weights.js';
+import { SIDE_WEIGHTS_DEFAULT_MAX_COLUMNS, sideWeights, type SideWeights } from '../flex/side-weights.js';
 import type { FlexAnalysis } from '../flex/spaces.js';
 import { describeBoundary } from '../supercell/boundary.js';
 import type { Supercell } from '../supercell/supercell.js';
@@ -93,8 +93,7 @@ export function modeWhere(m: ClassifiedMode): string {
   return m.region ?? '';
 }
 
-/** Up to this many columns the side weights are always computed (the full flex basis is cheap). */
-const SIDE_WEIGHTS_ALWAYS_DOF = 2400;
+const SIDE_WEIGHTS_ALWAYS_DOF = SIDE_WEIGHTS_DEFAULT_MAX_COLUMNS;
 
 /** The `stresses` field of the JSON (--stresses): class counts, macroscopic stress and the modes (vectors with --out). */
 function stressOutput(st: StressClassification, withVectors: boolean): Record<string, unknown> {

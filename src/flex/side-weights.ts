@@ -17,6 +17,9 @@ import type { Supercell } from '../supercell/supercell.js';
 import { rigidMotions } from './rigid.js';
 import type { FlexAnalysis } from './spaces.js';
 
+/** Up to this many columns the shells compute side weights by default: the whole flex basis they need is cheap there. */
+export const SIDE_WEIGHTS_DEFAULT_MAX_COLUMNS = 2400;
+
 export interface SideWeights {
   bottom: number | null;
   top: number | null;

@@ -13,7 +13,7 @@ import type { CVec } from '../linalg/complex.js';
 import { phaseMap } from '../spectrum/phasemap.js';
 import { zeroTopology } from '../spectrum/zero-set.js';
 import { sweep } from '../flex/sweep.js';
-import { sideWeights } from '../flex/side-weights.js';
+import { SIDE_WEIGHTS_DEFAULT_MAX_COLUMNS, sideWeights } from '../flex/side-weights.js';
 import { rigidMotions } from '../flex/rigid.js';
 import { edges } from '../edges/edges.js';
 import { checkFramework } from '../framework/validate.js';
@@ -44,7 +44,7 @@ import type {
 } from './protocol.js';
 
 /** Side weights need the whole flex basis: computed up to this many columns (as `shimmy classify` does by default). */
-export const SIDE_WEIGHTS_MAX_DOF = 2400;
+export const SIDE_WEIGHTS_MAX_DOF = SIDE_WEIGHTS_DEFAULT_MAX_COLUMNS;
 
 export interface Hooks {
   onProgress?: (fraction: number, stage: string) => void;

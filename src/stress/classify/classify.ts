@@ -44,7 +44,7 @@ import { indexStrips, shortSegments, stripsOf, wholeLineOf, windowsOf, type Regi
 import { splitByBoundaryDistance } from '../../flex/classify/rest-split.js';
 import { principalSplit } from '../../flex/classify/rest.js';
 import { checkOptions } from '../../flex/classify/classify.js';
-import { KernelCache } from '../../flex/classify/restricted-kernel.js';
+import { KERNEL_INTERSECTION_MAX_COLUMNS, KernelCache } from '../../flex/classify/restricted-kernel.js';
 import { scdm } from '../../flex/classify/scdm.js';
 import { Span } from '../../flex/classify/span.js';
 import { FIT_FLOOR, HEAD_WEIGHT, LINE_COVERAGE, MIN_R2, SPAN_TOLERANCE, SUPPORT_AMPLITUDE } from '../../flex/classify/thresholds.js';
@@ -246,7 +246,7 @@ export function classifyStresses(sc: Supercell, analysis: FlexAnalysis, options:
   const basis = () => (phi ??= real ? realBasis(analysis.selfStressBasis().vectors, s) : analysis.selfStressBasis().vectors);
   let rest: Cx[] = [];
   let filtration = 'no rest: the local and line self-stresses fill the count';
-  if (s > 0 && (takenIdx.length < s || m <= 2400)) {
+  if (s > 0 && (takenIdx.length < s || m <= KERNEL_INTERSECTION_MAX_COLUMNS)) {
     const r = principalSplit(basis(), span.orthonormal(takenIdx), real);
     rest = r.rest;
     filtration = `dim (local + line) ∩ W from the principal angles (sin² ≤ ½ inside): largest sin inside ${r.leakage.toExponential(2)}, smallest outside ${r.separation === null ? '—' : r.separation.toExponential(2)}`;
