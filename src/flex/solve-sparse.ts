@@ -15,8 +15,12 @@
  * *find* the small singular subspace; every σ that decides the rank is measured as ‖A v‖ of an
  * orthonormal Ritz vector v (absolute accuracy ~ε·σ_max, as sharp as the dense path):
  *
- *  1. σ_max: Lanczos on RᴴR (no reorthogonalisation is needed for the extreme eigenvalue) until
- *     the largest Ritz value stalls to 1e-13 relative over 10 steps.
+ *  1. σ_max: Lanczos on RRᴴ (no reorthogonalisation is needed for the extreme eigenvalue) until
+ *     the largest Ritz value stalls to SIGMA_MAX_STALL = 1e-4 relative over 15 steps: an estimate
+ *     from below (within ~2e-4 on the gallery lattices) that scales the tolerance and the shifts.
+ *     The top of a supercell's spectrum is a dense band, so settling to 1e-13 took 300–600 steps
+ *     and a third of a whole count; the tolerance needs σ_max to a few digits, not to 13. The
+ *     rounding bounds of the certificate use a proved upper bound instead (sigmaMaxUpperBound).
  *  2. Side: A = R (flexes, K = RᴴR) or A = Rᴴ (self-stresses, K = RRᴴ), whichever is smaller.
  *     By flexes − self-stresses = cols − rows the smaller side also has the fewer null vectors.
  *     An inertia count there at τ = (c·σ_max)², c = 1e-3, gives k = #eigenvalues of K below τ
@@ -49,7 +53,7 @@ import { bandBytes } from '../linalg/banded.js';
 import type { Block } from '../linalg/block.js';
 import { certifyCount } from '../linalg/count-certificate.js';
 import type { NullBasis } from '../linalg/dense.js';
-import { topLanczos } from '../linalg/lanczos.js';
+import { sigmaMaxUpperBound, topLanczos } from '../linalg/lanczos.js';
 import { seededUniform } from '../linalg/random.js';
 import { AMBIGUOUS_RATIO, type RankDecision } from '../linalg/rank.js';
 import { conjugateTranspose, type SparseMatrix } from '../linalg/sparse.js';
@@ -183,6 +187,8 @@ export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): Solv
   if (given !== undefined && !(given >= 0 && Number.isFinite(given))) throw new RangeError(`sigmaMax must be a finite number ≥ 0, got ${given}`);
   const lz = given !== undefined || n === 0 || m === 0 ? { sigma: given ?? 0, steps: 0 } : sigmaMaxByLanczos(R, RH, check);
   const sigmaMax = lz.sigma;
+  // a proved upper bound of σ_max for the rounding terms (an estimate from below does not bound them)
+  const normBound = given !== undefined ? given : Math.max(sigmaMax, sigmaMaxUpperBound(R));
   const tol = relative * sigmaMax;
   const minmn = Math.min(m, n);
 
@@ -213,7 +219,7 @@ export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): Solv
   // side: the other side has (its dimension − this one's) more small eigenvalues.
   const side = countSide;
   const structural = side.dim - minmn;
-  const evidenceOf = (run: InertiaRun): InertiaEvidence => ({ count: run.below, tau: run.shift, error: inertiaError(side, run, sigmaMax) });
+  const evidenceOf = (run: InertiaRun): InertiaEvidence => ({ count: run.below, tau: run.shift, error: inertiaError(side, run, normBound) });
   const evidence = evidenceOf(first);
   const q0 = kCount + guards;
   checkMemory(ctx, side, Math.min(side.dim, q0), 'the subspace iteration');
@@ -223,7 +229,7 @@ export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): Solv
   // indefinite K − τI, whose inverse amplifies the values near τ as much as the null vectors).
   const reuse = kCount === 0 && first.growth <= GROWTH_LIMIT;
   const F = q0 >= side.dim ? null : reuse ? first.F : choleskyShifted(side, delta0, tau, ctx, 0.45, 0.85).F;
-  const it = certifiedIteration(side, F, q0, evidence, tol, sigmaMax, ctx, 0.85, 1, options.maxSweeps ?? 60, options.gap !== 'bound');
+  const it = certifiedIteration(side, F, q0, evidence, tol, sigmaMax, ctx, 0.85, 1, options.maxSweeps ?? 60, options.gap !== 'bound', normBound);
   let certificate = it.certificate;
   const counts = [`${kCount} eigenvalues of ${countSide.gramName} below τ = (${c}·σ_max)²${first.retries ? ` (moved to (${(Math.sqrt(first.shift) / sigmaMax).toPrecision(4)}·σ_max)² after a zero pivot)` : ''}`];
   // Values near τ that the iteration could not resolve: count again at lower shifts, as long as
@@ -235,7 +241,7 @@ export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): Solv
     const run = inertiaCount(countSide, tau2, ctx, 0.9, 0.95);
     const ev = evidenceOf(run);
     counts.push(`${run.below} below τ/${Math.round(1 / f)}`);
-    const again = certifyCount({ A: side.A, AH: side.AH, X: it.ritz.X, sigma: it.ritz.sigma, tol, inertia: ev.count, tau: ev.tau, inertiaError: ev.error, sigmaMax });
+    const again = certifyCount({ A: side.A, AH: side.AH, X: it.ritz.X, sigma: it.ritz.sigma, tol, inertia: ev.count, tau: ev.tau, inertiaError: ev.error, sigmaMax, normBound });
     if (again.certified) certificate = again;
   }
   if (!certificate.certified && options.denseFallback) {
@@ -278,7 +284,9 @@ export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): Solv
       : `σ from ‖${side.opName} v‖ of the eigenvectors of K = ${side.gramName} (a full Rayleigh–Ritz: the side has only ${side.dim} dimensions)`,
     `${side.gramName} factored by ${factor.reason}`,
     `inertia counts: ${counts.join(', ')}; rounding bound e = ${(evidence.error / (sigmaMax * sigmaMax)).toExponential(1)}·σ_max² (growth ${first.growth.toPrecision(3)})`,
-    given !== undefined ? 'σ_max given by the caller' : `σ_max by Lanczos (${lz.steps} steps)`,
+    given !== undefined
+      ? 'σ_max given by the caller'
+      : `σ_max by Lanczos (${lz.steps} steps, settled to ${SIGMA_MAX_STALL} relative; an estimate from below), rounding bounds with the upper bound ${(normBound / sigmaMax).toPrecision(3)}·σ_max`,
   ];
   if (!it.converged) notes.push('the iteration stopped before the smallest kept σ settled: it is an upper bound');
   const status: SparseStatus = {
@@ -323,10 +331,16 @@ export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): Solv
   };
 }
 
-/** σ_max by Lanczos on RᴴR until the largest Ritz value stalls to 1e-13 relative. */
+/** How far the Lanczos estimate of σ_max settles (relative change over three checks 5 steps apart). */
+export const SIGMA_MAX_STALL = 1e-4;
+
+/** σ_max by Lanczos on RRᴴ until the largest Ritz value stalls to SIGMA_MAX_STALL relative. */
 function sigmaMaxByLanczos(R: SparseMatrix, RH: SparseMatrix, check: () => void): { sigma: number; steps: number } {
-  const lz = topLanczos(R, RH, check);
-  const sigma = lz.run(1e-13);
+  // On RRᴴ (one unknown per bar), not RᴴR: turning or moving the framework multiplies R by an
+  // orthogonal matrix on the joints' side and leaves RRᴴ unchanged, so the estimate (which stops
+  // short of convergence) comes out the same for every placement, to rounding.
+  const lz = topLanczos(RH, R, check);
+  const sigma = lz.run(SIGMA_MAX_STALL);
   return { sigma, steps: lz.steps() };
 }
 

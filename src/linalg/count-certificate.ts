@@ -56,6 +56,8 @@ export interface CertificateInput {
   /** Backward-error bound e of that count (absolute, in K's units). */
   inertiaError: number;
   sigmaMax: number;
+  /** An upper bound of σ_max for the rounding terms when `sigmaMax` is an estimate (default: sigmaMax). */
+  normBound?: number;
 }
 
 export function certifyCount(input: CertificateInput): CountCertificate {
@@ -68,7 +70,8 @@ export function certifyCount(input: CertificateInput): CountCertificate {
     return { ...base, certified: false, provenNull: 0, provenAbove: 0, reasons };
   }
   // 2. L: the longest head of the Ritz vectors with ‖A V_L‖_F ≤ tol
-  const slack = 16 * EPS * sigmaMax;
+  const norm = Math.max(sigmaMax, input.normBound ?? sigmaMax);
+  const slack = 16 * EPS * norm;
   let L = 0;
   let sumSq = 0;
   while (L < sigma.length && Math.sqrt(sumSq + sigma[L] * sigma[L]) + slack <= tol) {
@@ -176,7 +179,7 @@ export function certifyCount(input: CertificateInput): CountCertificate {
     res2 += norm2(fr, fi) ** 2;
   }
   const defectU = orthonormalityDefect(U, r);
-  const rho = Math.sqrt(res2 / 2) + (defectU + defectV) * sigmaMax + slack;
+  const rho = Math.sqrt(res2 / 2) + (defectU + defectV) * norm + slack;
   const mu = hermitianEigen(Mr, Mi, r).values;
   const lo = mu[0] - rho;
   const hi = mu[r - 1] + rho;

@@ -116,3 +116,36 @@ export function topLanczos(A: SparseMatrix, AH: SparseMatrix, check: () => void)
   };
 }
 
+
+/**
+ * An upper bound of σ_max(A) in O(nnz): ‖A‖₂² = ρ(AᴴA) ≤ ρ(|A|ᵀ|A|) ≤ the largest row sum of
+ * |A|ᵀ|A| (entrywise |AᴴA| ≤ |A|ᵀ|A|, then Gershgorin on a nonnegative matrix; common practice),
+ * and likewise with |A||A|ᵀ; the smaller of the two. Formed as |A|ᵀ(|A|·1) without the product.
+ */
+export function sigmaMaxUpperBound(A: SparseMatrix): number {
+  const { rows, cols, rowPtr, colIdx, re, im } = A;
+  const abs = (k: number) => (im ? Math.hypot(re[k], im[k]) : Math.abs(re[k]));
+  const rowSum = new Float64Array(rows);
+  const colSum = new Float64Array(cols);
+  for (let r = 0; r < rows; r++)
+    for (let k = rowPtr[r]; k < rowPtr[r + 1]; k++) {
+      const a = abs(k);
+      rowSum[r] += a;
+      colSum[colIdx[k]] += a;
+    }
+  // |A|ᵀ|A|·1 = |A|ᵀ·rowSum (one entry per column) and |A||A|ᵀ·1 = |A|·colSum (one per row)
+  const viaCols = new Float64Array(cols);
+  let viaRows = 0;
+  for (let r = 0; r < rows; r++) {
+    let s = 0;
+    for (let k = rowPtr[r]; k < rowPtr[r + 1]; k++) {
+      const a = abs(k);
+      viaCols[colIdx[k]] += a * rowSum[r];
+      s += a * colSum[colIdx[k]];
+    }
+    viaRows = Math.max(viaRows, s);
+  }
+  let colMax = 0;
+  for (let c = 0; c < cols; c++) colMax = Math.max(colMax, viaCols[c]);
+  return Math.sqrt(Math.min(colMax, viaRows));
+}

@@ -168,12 +168,14 @@ export function certifiedIteration(
   sweepLimit: number,
   /** Measure the smallest kept σ by Lanczos; when false and the count is certified, its certified lower bound stands in. */
   measureKept = true,
+  /** An upper bound of σ_max for the certificate's rounding terms (`sigmaMax` may be an estimate from below). */
+  normBound = sigmaMax,
 ): SubspaceResult {
   const dim = side.dim;
   const complex = ctx.complex;
   const minGuards = 4;
   const certify = (X: Block, sigma: Float64Array) =>
-    certifyCount({ A: side.A, AH: side.AH, X, sigma, tol, inertia: inertia.count, tau: inertia.tau, inertiaError: inertia.error, sigmaMax });
+    certifyCount({ A: side.A, AH: side.AH, X, sigma, tol, inertia: inertia.count, tau: inertia.tau, inertiaError: inertia.error, sigmaMax, normBound });
   let q = Math.min(dim, q0);
   if (q >= dim || !F) {
     // A second Rayleigh–Ritz on the first one's Ritz vectors: the Gram matrix of the identity
