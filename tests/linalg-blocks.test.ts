@@ -1,8 +1,10 @@
 /**
  * Small numerical building blocks: the seeded generator (src/linalg/random.ts) and Sturm
- * bisection for symmetric tridiagonal matrices (src/linalg/tridiagonal.ts).
+ * bisection for symmetric tridiagonal matrices (src/linalg/tridiagonal.ts), Cholesky QR twice
+ * (src/linalg/block.ts).
  */
 import { describe, expect, it } from 'vitest';
+import { cholQr2, norm2, orthonormalityDefect, type Block } from '../src/linalg/block.js';
 import { hermitianEigen } from '../src/linalg/hermitian-eig.js';
 import { seededUniform } from '../src/linalg/random.js';
 import { gershgorinBounds, sturmCount, tridiagonalEigenvalue, tridiagonalEigenvalues, tridiagonalMax } from '../src/linalg/tridiagonal.js';
@@ -151,5 +153,69 @@ describe('tridiagonal bisection', () => {
     expect(() => tridiagonalEigenvalue([1, 2], [1], 2)).toThrow(/k must be an integer in \[0, 1\]/);
     expect(() => tridiagonalMax([], [])).toThrow(/empty/);
     expect(() => sturmCount([1, NaN], [0], 0)).toThrow(/diag\[1\] is NaN/);
+  });
+});
+
+// Cholesky QR twice (column kernels in src/linalg/block.ts) against the definition: the result
+// is orthonormal to rounding, spans the same space (X₀ = Q·(QᴴX₀), the coefficients' residual to
+// rounding), and R = QᴴX₀ is upper triangular with a positive diagonal. Column counts that are
+// not multiples of the kernels' group widths (4 real, 2 complex), and graded columns (norms from
+// 1 to 1e-5, condition ~1e5) beside well-conditioned ones.
+describe('cholQr2', () => {
+  const cases: [number, number, boolean, boolean][] = [
+    [400, 13, false, false],
+    [400, 13, true, false],
+    [257, 10, false, true],
+    [257, 11, true, true],
+    [50, 1, false, false],
+    [50, 2, true, false],
+  ];
+  it.each(cases)('%i×%i complex=%s graded=%s: orthonormal, same span, triangular coefficients', (n, k, complex, graded) => {
+    const rand = seededUniform(1000 + n + k, -0.5, 0.5);
+    const X0: Block = { len: n, re: [], im: complex ? [] : null };
+    for (let j = 0; j < k; j++) {
+      const s = graded ? 10 ** (-5 * (j / Math.max(1, k - 1))) : 1;
+      X0.re.push(Float64Array.from({ length: n }, () => s * rand()));
+      if (X0.im) X0.im.push(Float64Array.from({ length: n }, () => s * rand()));
+    }
+    const Q: Block = { len: n, re: X0.re.map((x) => x.slice()), im: X0.im ? X0.im.map((x) => x.slice()) : null };
+    expect(cholQr2(Q)).toBe(true);
+    expect(orthonormalityDefect(Q, k)).toBeLessThan(1e-13);
+    // coefficients C = QᴴX₀ (k×k): lower triangle zero to rounding, diagonal real positive
+    for (let b = 0; b < k; b++) {
+      const resR = X0.re[b].slice();
+      const resI = X0.im ? X0.im[b].slice() : null;
+      const scale = norm2(X0.re[b], X0.im ? X0.im[b] : null);
+      for (let a = 0; a < k; a++) {
+        let cr = 0;
+        let ci = 0;
+        for (let i = 0; i < n; i++) {
+          const qr = Q.re[a][i];
+          const qi = Q.im ? Q.im[a][i] : 0;
+          const xr = X0.re[b][i];
+          const xi = X0.im ? X0.im[b][i] : 0;
+          cr += qr * xr + qi * xi;
+          ci += qr * xi - qi * xr;
+        }
+        if (a > b) expect(Math.hypot(cr, ci)).toBeLessThan(1e-12 * scale);
+        if (a === b) {
+          expect(cr).toBeGreaterThan(0);
+          expect(Math.abs(ci)).toBeLessThan(1e-12 * scale);
+        }
+        for (let i = 0; i < n; i++) {
+          const qr = Q.re[a][i];
+          const qi = Q.im ? Q.im[a][i] : 0;
+          resR[i] -= cr * qr - ci * qi;
+          if (resI) resI[i] -= cr * qi + ci * qr;
+        }
+      }
+      expect(norm2(resR, resI)).toBeLessThan(1e-12 * scale);
+    }
+  });
+
+  it('reports a rank-deficient block instead of dividing by zero', () => {
+    const x = Float64Array.from({ length: 30 }, (_, i) => Math.sin(i));
+    const X: Block = { len: 30, re: [x.slice(), x.slice(), Float64Array.from({ length: 30 }, (_, i) => Math.cos(i))], im: null };
+    expect(cholQr2(X)).toBe(false);
   });
 });

@@ -101,69 +101,187 @@ export function orthonormalise(b: Block, rand: () => number): void {
 }
 
 /**
- * Orthonormalise the columns in place by Cholesky QR, twice (CholQR2; common practice for tall
- * blocks): G = XᴴX accumulated row by row, G = LLᴴ, X ← X·L⁻ᴴ. Returns false (X unchanged or
- * partly done, to be redone by Gram–Schmidt) when G is not numerically positive definite.
+ * G[a][b] = Σ_i conj(x_a[i])·x_b[i] for a ≤ b (the upper triangle of the row-major k×k G, which
+ * is overwritten), straight from the columns: four columns b at a time for real data and two for
+ * complex, so each x_a is read once per group (the row-by-row form streamed all of G past every
+ * row and ran 2.3× slower on 24576×255). Each entry is summed over i in ascending order, as before.
  */
-/** G[a][b] += M_ia M_ib for a ≤ b over row i (at offset o) of the row-major n×k M (hot loop). */
-function gramRowReal(G: Float64Array, M: Float64Array, o: number, k: number): void {
-  for (let a = 0; a < k; a++) {
-    const ar = M[o + a];
-    if (ar === 0) continue;
-    const g = a * k;
-    for (let b = a; b < k; b++) G[g + b] += ar * M[o + b];
-  }
-}
-
-/** y_b += Σ_{a ≤ b} M_ia T_ab for row i (at offset o) of M and upper triangular T (hot loop). */
-function rowTimesUpperReal(y: Float64Array, M: Float64Array, o: number, T: Float64Array, k: number): void {
-  for (let a = 0; a < k; a++) {
-    const mr = M[o + a];
-    if (mr === 0) continue;
-    const t = a * k;
-    for (let b = a; b < k; b++) y[b] += mr * T[t + b];
-  }
-}
-
-export function cholQr2(X: Block): boolean {
+function gramUpper(X: Block, Gr: Float64Array, Gi: Float64Array | null): void {
   const k = X.re.length;
   const n = X.len;
-  if (k === 0) return true;
-  const complex = X.im !== null;
-  for (let pass = 0; pass < 2; pass++) {
-    // row-major copy
-    const Mr = new Float64Array(n * k);
-    const Mi = complex ? new Float64Array(n * k) : null;
-    for (let j = 0; j < k; j++) {
-      const xr = X.re[j];
-      for (let i = 0; i < n; i++) Mr[i * k + j] = xr[i];
-      if (Mi) {
-        const xi = X.im![j];
-        for (let i = 0; i < n; i++) Mi[i * k + j] = xi[i];
+  const R = X.re;
+  const I = X.im;
+  for (let a = 0; a < k; a++) {
+    const ar = R[a];
+    const g = a * k;
+    let b = a;
+    if (!I || !Gi) {
+      for (; b + 3 < k; b += 4) {
+        const x0 = R[b];
+        const x1 = R[b + 1];
+        const x2 = R[b + 2];
+        const x3 = R[b + 3];
+        let s0 = 0;
+        let s1 = 0;
+        let s2 = 0;
+        let s3 = 0;
+        for (let i = 0; i < n; i++) {
+          const v = ar[i];
+          s0 += v * x0[i];
+          s1 += v * x1[i];
+          s2 += v * x2[i];
+          s3 += v * x3[i];
+        }
+        Gr[g + b] = s0;
+        Gr[g + b + 1] = s1;
+        Gr[g + b + 2] = s2;
+        Gr[g + b + 3] = s3;
+      }
+      for (; b < k; b++) {
+        const x = R[b];
+        let s = 0;
+        for (let i = 0; i < n; i++) s += ar[i] * x[i];
+        Gr[g + b] = s;
+      }
+      continue;
+    }
+    const ai = I[a];
+    for (; b < k; b += 2) {
+      const pair = b + 1 < k;
+      const r0 = R[b];
+      const i0 = I[b];
+      const r1 = pair ? R[b + 1] : r0;
+      const i1 = pair ? I[b + 1] : i0;
+      let sr0 = 0;
+      let si0 = 0;
+      let sr1 = 0;
+      let si1 = 0;
+      for (let i = 0; i < n; i++) {
+        const vr = ar[i];
+        const vi = ai[i];
+        sr0 += vr * r0[i] + vi * i0[i];
+        si0 += vr * i0[i] - vi * r0[i];
+        sr1 += vr * r1[i] + vi * i1[i];
+        si1 += vr * i1[i] - vi * r1[i];
+      }
+      Gr[g + b] = sr0;
+      Gi[g + b] = si0;
+      if (pair) {
+        Gr[g + b + 1] = sr1;
+        Gi[g + b + 1] = si1;
       }
     }
-    // G = MᴴM (upper triangle), G[a][b] = Σ_i conj(M_ia) M_ib
-    const Gr = new Float64Array(k * k);
-    const Gi = complex ? new Float64Array(k * k) : null;
-    for (let i = 0; i < n; i++) {
-      const o = i * k;
-      if (!Mi) {
-        gramRowReal(Gr, Mr, o, k);
-        continue;
+  }
+}
+
+/**
+ * X ← X·T in place for an upper triangular T (row-major k×k, strict lower triangle zero):
+ * x_b = Σ_{a ≤ b} T_ab x_a. Columns are formed from the last one down, four at a time into
+ * scratch columns, since x_b needs only the x_a with a ≤ b, which are not yet overwritten; each
+ * x_a is read once per group of four. Each entry is summed over a in ascending order, as before.
+ */
+function timesUpper(X: Block, Tr: Float64Array, Ti: Float64Array | null): void {
+  const k = X.re.length;
+  const n = X.len;
+  const R = X.re;
+  const I = X.im;
+  const complex = I !== null && Ti !== null;
+  const width = complex ? 2 : 4;
+  const bufR = Array.from({ length: Math.min(width, k) }, () => new Float64Array(n));
+  const bufI = complex ? Array.from({ length: Math.min(width, k) }, () => new Float64Array(n)) : null;
+  for (let hi = k; hi > 0; ) {
+    const lo = Math.max(0, hi - width);
+    const w = hi - lo;
+    for (let j = 0; j < w; j++) {
+      bufR[j].fill(0);
+      if (bufI) bufI[j].fill(0);
+    }
+    if (!complex && w === 4) {
+      const [y0, y1, y2, y3] = bufR;
+      for (let a = 0; a < hi; a++) {
+        const x = R[a];
+        const t = a * k + lo;
+        const t0 = Tr[t];
+        const t1 = Tr[t + 1];
+        const t2 = Tr[t + 2];
+        const t3 = Tr[t + 3];
+        for (let i = 0; i < n; i++) {
+          const v = x[i];
+          y0[i] += v * t0;
+          y1[i] += v * t1;
+          y2[i] += v * t2;
+          y3[i] += v * t3;
+        }
       }
-      for (let a = 0; a < k; a++) {
-        const ar = Mr[o + a];
-        const ai = Mi[o + a];
-        if (ar === 0 && ai === 0) continue;
-        const g = a * k;
-        for (let b = a; b < k; b++) {
-          const br = Mr[o + b];
-          const bi = Mi[o + b];
-          Gr[g + b] += ar * br + ai * bi;
-          Gi![g + b] += ar * bi - ai * br;
+    } else if (!complex) {
+      for (let j = 0; j < w; j++) {
+        const y = bufR[j];
+        for (let a = 0; a <= lo + j; a++) {
+          const x = R[a];
+          const tb = Tr[a * k + lo + j];
+          for (let i = 0; i < n; i++) y[i] += x[i] * tb;
+        }
+      }
+    } else if (w === 2) {
+      const [yr0, yr1] = bufR;
+      const [yi0, yi1] = bufI!;
+      for (let a = 0; a < hi; a++) {
+        const xr = R[a];
+        const xi = I![a];
+        const t = a * k + lo;
+        const tr0 = Tr[t];
+        const ti0 = Ti![t];
+        const tr1 = Tr[t + 1];
+        const ti1 = Ti![t + 1];
+        for (let i = 0; i < n; i++) {
+          const mr = xr[i];
+          const mi = xi[i];
+          yr0[i] += mr * tr0 - mi * ti0;
+          yi0[i] += mr * ti0 + mi * tr0;
+          yr1[i] += mr * tr1 - mi * ti1;
+          yi1[i] += mr * ti1 + mi * tr1;
+        }
+      }
+    } else {
+      for (let j = 0; j < w; j++) {
+        const yr = bufR[j];
+        const yi = bufI![j];
+        const b = lo + j;
+        for (let a = 0; a <= b; a++) {
+          const xr = R[a];
+          const xi = I![a];
+          const tr = Tr[a * k + b];
+          const ti = Ti![a * k + b];
+          for (let i = 0; i < n; i++) {
+            const mr = xr[i];
+            const mi = xi[i];
+            yr[i] += mr * tr - mi * ti;
+            yi[i] += mr * ti + mi * tr;
+          }
         }
       }
     }
+    for (let j = 0; j < w; j++) {
+      R[lo + j].set(bufR[j]);
+      if (bufI) I![lo + j].set(bufI[j]);
+    }
+    hi = lo;
+  }
+}
+
+/**
+ * Orthonormalise the columns in place by Cholesky QR, twice (CholQR2; common practice for tall
+ * blocks): G = XᴴX, G = UᴴU, X ← X·U⁻¹. Returns false (X unchanged or partly done, to be redone
+ * by Gram–Schmidt) when G is not numerically positive definite.
+ */
+export function cholQr2(X: Block): boolean {
+  const k = X.re.length;
+  if (k === 0) return true;
+  const complex = X.im !== null;
+  for (let pass = 0; pass < 2; pass++) {
+    const Gr = new Float64Array(k * k);
+    const Gi = complex ? new Float64Array(k * k) : null;
+    gramUpper(X, Gr, Gi);
     // Cholesky G = Uᴴ U with U upper triangular (U = Lᴴ), in place in the upper triangle
     let maxDiag = 0;
     for (let a = 0; a < k; a++) maxDiag = Math.max(maxDiag, Gr[a * k + a]);
@@ -217,33 +335,7 @@ export function cholQr2(X: Block): boolean {
         if (Ti) Ti[a * k + b] = -si * inv;
       }
     }
-    // X ← M·T row by row: y_b = Σ_{a ≤ b} M_ia T_ab
-    const yr = new Float64Array(k);
-    const yi = complex ? new Float64Array(k) : null;
-    for (let i = 0; i < n; i++) {
-      const o = i * k;
-      yr.fill(0);
-      if (yi) yi.fill(0);
-      if (!yi) rowTimesUpperReal(yr, Mr, o, Tr, k);
-      else {
-        for (let a = 0; a < k; a++) {
-          const mr = Mr[o + a];
-          const mi = Mi ? Mi[o + a] : 0;
-          if (mr === 0 && mi === 0) continue;
-          const t = a * k;
-          for (let b = a; b < k; b++) {
-            const tr = Tr[t + b];
-            const ti = Ti![t + b];
-            yr[b] += mr * tr - mi * ti;
-            yi[b] += mr * ti + mi * tr;
-          }
-        }
-      }
-      for (let b = 0; b < k; b++) {
-        X.re[b][i] = yr[b];
-        if (yi) X.im![b][i] = yi[b];
-      }
-    }
+    timesUpper(X, Tr, Ti);
   }
   return true;
 }
