@@ -9,16 +9,19 @@
  *    then the CSR arrays);
  *  - dense: 3 × denseMemoryBytes (src/linalg/dense.ts; the measured peak is ~2.7 times it),
  *    with the bases when they are asked for;
- *  - sparse: the band of the larger Gram matrix, 8·dim·(b+1) (×2 complex), with the
- *    half-bandwidth b of halfBandwidths (≈ 2S·(N_short·|s_long|max + |s_short|max + 1) on the
- *    flex side, B·(…) on the self-stress side, B bars per cell; RCM often does up to 1.6×
- *    better), plus R, Rᴴ and 24 work vectors;
+ *  - sparse: the factor of the smaller Gram matrix (both with bases): the band, 8·dim·(b+1)
+ *    (×2 complex), with the half-bandwidth b of halfBandwidths (≈ 2S·(N_short·|s_long|max +
+ *    |s_short|max + 1) on the flex side, B·(…) on the self-stress side, B bars per cell; RCM
+ *    often does up to 1.6× better), or from dim 8000 on the nested-dissection LDLᴴ when it needs
+ *    under half the band's flops, 12 bytes per nonzero of L (nestedDissectionCost), plus R, Rᴴ
+ *    and 24 work vectors;
  *  - Bloch, both axes twisted: N1·N2 tiny blocks, ~40 bytes per block entry kept (1.5 kB a
  *    6×6 kagome block measured);
  *  - Bloch, one axis twisted: one strip block at a time (dense or banded, as bloch.ts picks).
  * Time (seconds, rough: within a factor 2–3 of runs measured on one core of this project's
  * development machine): dense 1e-8·m·n·min(m, n) (embedded sizes when complex); sparse
- * 1.5e-9·dim·b² (×4 complex) + 2e-7·dim·b; a Bloch unit-cell block 2e-7·B·(2S)² + 1e-5; a
+ * 1.5e-9·flops (×4 complex) + 2e-7·dim·b for the band or + 2.5e-5·dim for the nested-dissection
+ * factor (ordering, σ_max and the supercell dominate there); a Bloch unit-cell block 2e-7·B·(2S)² + 1e-5; a
  * banded strip block 1e-4·cols + 3e-3 plus its band work; building the supercell 3e-6 a bar row.
  * Bases (classify, export-modes, sweep) add the flex vectors (at least 2·joints − bars of
  * them, by Maxwell–Calladine) and roughly double the solver's time.
@@ -30,6 +33,7 @@ import { SPARSE_STRIP_COLUMNS } from '../spectrum/bloch.js';
 import type { AxisRule, Boundary } from '../supercell/boundary.js';
 import type { SolverChoice, SolverName } from './solver.js';
 import { SPARSE_MIN_DOF } from './solvers.js';
+import { SPARSE_MIN_DIM } from './sparse/factors.js';
 
 /** Estimated seconds a run may take before it is refused (unless large runs are allowed). */
 export const TIME_LIMIT_SECONDS = 600;
@@ -57,6 +61,8 @@ export interface RunEstimate {
   cells: [number, number];
   /** The solver the run would use (what `auto` picks, or the one asked for). */
   solver: SolverName;
+  /** The sparse path's factorisation of the counted side as estimated (flops ×4 when complex), as status.factorisation reports it. */
+  factor?: { method: 'band' | 'sparse-ldl'; nnzL: number; flops: number };
   /** One line on the path, e.g. "sparse, band half-width ≈ 612". */
   path: string;
   joints: number;
@@ -132,31 +138,47 @@ export function estimateRun(fw: Framework, cells: [number, number], boundary: Bo
     const [a, b] = [r * f, c * f];
     return { bytes: DENSE_PEAK_FACTOR * denseMemoryBytes(r, c, cplx, bases), seconds: 1e-8 * a * b * Math.min(a, b) * (bases ? 3 : 1) };
   };
-  const banded = (dimFlex: number, dimStress: number, bands: { flex: number; stress: number }, cplx: boolean) => {
+  const widths = gramRowWidths(fw);
+  const banded = (dimFlex: number, dimStress: number, bands: { flex: number; stress: number }, cplx: boolean, aspect: number) => {
     const f = cplx ? 2 : 1;
     const bFlex = Math.min(dimFlex, Math.ceil(RCM_GAIN * bands.flex));
     const bStress = Math.min(dimStress, Math.ceil(RCM_GAIN * bands.stress));
+    // each side's factor as the sparse solver picks it (sparse/factors.ts factorPlan): the band,
+    // or the nested-dissection LDLᴴ when the side is large and it needs under half the flops
+    const side = (dim: number, b: number, width: number) => {
+      const band = { words: dim * (b + 1), flops: dim * (b + 1) ** 2, b, sparse: false };
+      const nd = nestedDissectionCost(dim, width, b, aspect);
+      // the choice compares with the band at halfBandwidths' own width (RCM's gain ranges over
+      // 0.65–1.0; on triangular 64×64 it is 1.0, and the solver picks the sparse factor there)
+      const unscaled = dim * (Math.min(dim, b / RCM_GAIN) + 1) ** 2;
+      return dim >= SPARSE_MIN_DIM && nd.flops < 0.5 * unscaled ? { words: 1.5 * nd.nnzL, flops: nd.flops, b, sparse: true } : band;
+    };
+    const flex = side(dimFlex, bFlex, widths.flex);
+    const stress = side(dimStress, bStress, widths.stress);
     // a count factorises the smaller Gram matrix; the bases need the other one too
-    const [dim, b] = dimStress <= dimFlex ? [dimStress, bStress] : [dimFlex, bFlex];
-    const band = 8 * f * (bases ? Math.max(dimFlex * (bFlex + 1), dimStress * (bStress + 1)) : dim * (b + 1));
-    const seconds = (1.5e-9 * dim * b * b * (cplx ? 4 : 1) + 2e-7 * dim * b) * (bases ? 2 : 1);
-    return { bytes: band + WORK_VECTORS * 8 * f * Math.max(dimFlex, dimStress), seconds, b };
+    const [dim, counted] = dimStress <= dimFlex ? [dimStress, stress] : [dimFlex, flex];
+    const factor = 8 * f * (bases ? Math.max(flex.words, stress.words) : counted.words);
+    const seconds = (1.5e-9 * counted.flops * (cplx ? 4 : 1) + (counted.sparse ? 2.5e-5 * dim : 2e-7 * dim * counted.b)) * (bases ? 2 : 1);
+    const figures = { method: counted.sparse ? ('sparse-ldl' as const) : ('band' as const), nnzL: counted.sparse ? counted.words / 1.5 : counted.words, flops: counted.flops * (cplx ? 4 : 1) };
+    return { bytes: factor + WORK_VECTORS * 8 * f * Math.max(dimFlex, dimStress), seconds, b: counted.b, sparse: counted.sparse, figures };
   };
 
   let heapBytes = m * BAR_ROW_BYTES;
   let bytes = supercellBytes + flexVectors;
   let seconds = buildSeconds;
   let path: string;
+  let factor: RunEstimate['factor'];
   if (solver === 'dense' || (solver === 'bloch' && twisted === 0)) {
     const d = dense(m, n, complex);
     bytes += matrixBytes + d.bytes;
     seconds += d.seconds;
     path = `dense SVD of a ${m}×${n}${complex ? ' complex' : ''} matrix`;
   } else if (solver === 'sparse') {
-    const s = banded(n, m, halfBandwidths(fw, cells, boundary), complex);
+    const s = banded(n, m, halfBandwidths(fw, cells, boundary), complex, Math.max(N1, N2) / Math.max(1, Math.min(N1, N2)));
     bytes += 3 * matrixBytes + s.bytes;
     seconds += s.seconds;
-    path = `sparse, band half-width ≈ ${s.b}`;
+    path = s.sparse ? `sparse, nested-dissection LDLᴴ (band half-width ≈ ${s.b})` : `sparse, band half-width ≈ ${s.b}`;
+    factor = s.figures;
   } else if (twisted === 2) {
     const B = Math.max(1, barsPerCell);
     const blocks = N1 * N2;
@@ -175,14 +197,14 @@ export function estimateRun(fw: Framework, cells: [number, number], boundary: Bo
     if (cols < SPARSE_STRIP_COLUMNS) per = dense(blockRows, cols, true);
     else {
       const strip: [number, number] = xTwisted ? [1, No] : [No, 1];
-      const s = banded(cols, blockRows, halfBandwidths(fw, strip, boundary), true);
+      const s = banded(cols, blockRows, halfBandwidths(fw, strip, boundary), true, No);
       per = { bytes: s.bytes, seconds: 1e-4 * cols + 3e-3 + s.seconds };
     }
     bytes += per.bytes + Nt * Math.min(blockRows, cols) * 8 * 2;
     seconds += Nt * per.seconds;
     path = `Bloch, ${Nt} strip blocks of ${cols} columns (${cols < SPARSE_STRIP_COLUMNS ? 'dense' : 'banded'})`;
   }
-  return { cells: [N1, N2], solver, path, joints, bars: m, bytes, heapBytes, seconds, overflows };
+  return { cells: [N1, N2], solver, path, joints, bars: m, bytes, heapBytes, seconds, overflows, factor };
 }
 
 /**
@@ -218,6 +240,41 @@ function halfBandwidths(fw: Framework, cells: [number, number], boundary: Bounda
   const longRule = shortIsX ? boundary.y : boundary.x;
   const ring = longRule.kind === 'twist' && Math.max(N1, N2) > 1 ? 2 : 1;
   return { flex: ring * flex, stress: B === 0 ? 0 : ring * B * (reach + 1) };
+}
+
+/**
+ * Nonzeros of L and flops of the nested-dissection LDLᴴ (src/linalg/sparse-ldl) of a Gram matrix
+ * of dimension dim with about `width` nonzeros a row, band half-width b across the shorter side,
+ * on an N_long×N_short supercell (aspect = N_long/N_short). On a 2D mesh nested dissection costs
+ * O(dim^1.5) flops and O(dim·log) fill (A. George, "Nested dissection of a regular finite element
+ * mesh", SIAM J. Numer. Anal. 10, 345–363, 1973); the constants and the powers of width and
+ * aspect are fitted to open supercells measured here (flops / dim^1.5: kagome 96×96 17,
+ * square 15, triangular 58, honeycomb 6.3, kagome 400×40 9.3; this formula gives 17, 17, 68, 8.7
+ * and 9.6; nnz(L) within 10 % on the same runs and on kagome 256×256, 2.1e7).
+ */
+export function nestedDissectionCost(dim: number, width: number, b: number, aspect: number): { nnzL: number; flops: number } {
+  const w = width / 7;
+  return { nnzL: 5 * dim * Math.log2(b + 2) * w, flops: 17 * dim ** 1.5 * w * w * Math.max(1, aspect) ** -0.25 };
+}
+
+/**
+ * Nonzeros a row of RᴴR (flex side: a joint's own 2 columns and its neighbours') and of RRᴴ
+ * (self-stress side: a bar and every other bar at its two joints), averaged over the unit cell
+ * (repeated bars between the same two joints counted once each: an upper estimate).
+ */
+function gramRowWidths(fw: Framework): { flex: number; stress: number } {
+  const bars = resolveBars(fw);
+  const degree = new Float64Array(fw.joints.length);
+  for (const b of bars) {
+    degree[b.from]++;
+    degree[b.to]++;
+  }
+  const S = Math.max(1, fw.joints.length);
+  let flex = 0;
+  for (const d of degree) flex += 2 * (1 + d);
+  let stress = 0;
+  for (const b of bars) stress += 1 + (degree[b.from] - 1) + (degree[b.to] - 1);
+  return { flex: flex / S, stress: bars.length ? stress / bars.length : 1 };
 }
 
 function formatSeconds(s: number): string {
