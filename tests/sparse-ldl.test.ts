@@ -16,6 +16,7 @@ import { buildGallery } from '../src/framework/gallery.js';
 import type { Framework } from '../src/framework/types.js';
 import { bandFromDense, bandLdl, ldlSolve, reverseCuthillMcKee, type Graph } from '../src/linalg/banded.js';
 import { analyse, analyseHermitian, hermitianFromDense, nestedDissection, sparseLdl } from '../src/linalg/sparse-ldl/index.js';
+import { selectKth } from '../src/linalg/sparse-ldl/ordering.js';
 import { parseBoundary } from '../src/supercell/boundary.js';
 import { rigidityMatrix } from '../src/supercell/rigidity.js';
 import { buildSupercell } from '../src/supercell/supercell.js';
@@ -232,6 +233,19 @@ function bruteForceNnzL(g: Graph, order: Int32Array): number {
 }
 
 describe('nested dissection and the symbolic analysis', () => {
+  it('the median of a cut is the value a full sort puts there, ties and all (quickselect)', () => {
+    const rand = rng(23);
+    for (let t = 0; t < 3000; t++) {
+      const n = 1 + Math.floor(rand() * 80);
+      // every third array drawn from 4 values: the duplicated coordinates of a lattice's rows
+      const a = Float64Array.from({ length: n }, () => (t % 3 === 0 ? Math.floor(rand() * 4) : rand()));
+      const k = Math.floor(rand() * n);
+      const sorted = a.slice().sort();
+      expect(selectKth(a, k)).toBe(sorted[k]);
+    }
+  });
+
+
   it('orderings are permutations; column counts equal a brute-force elimination; supernodes hold every column pattern', () => {
     const g = grid(15);
     const positions = new Float64Array(2 * g.n);

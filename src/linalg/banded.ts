@@ -449,26 +449,31 @@ export function reverseCuthillMcKee(g: Graph): Int32Array {
   const degree = (i: number) => ptr[i + 1] - ptr[i];
   let filled = 0;
   const level = new Int32Array(n);
-  const bfsLevels = (start: number): { last: number[]; depth: number } => {
+  // one queue for every breadth-first search (typed, reused: a pass allocates nothing)
+  const queue = new Int32Array(n);
+  const bfsLevels = (start: number): { last: Int32Array; depth: number } => {
     // BFS over the unvisited component, tracking levels (uses `level` with −1 = unseen)
-    const queue: number[] = [start];
-    const seen: number[] = [start];
+    queue[0] = start;
+    let tail = 1;
     level[start] = 0;
     let head = 0;
     let depth = 0;
-    while (head < queue.length) {
+    while (head < tail) {
       const v = queue[head++];
+      const lv = level[v] + 1;
       for (let k = ptr[v]; k < ptr[v + 1]; k++) {
         const u = adj[k];
         if (visited[u] || level[u] >= 0) continue;
-        level[u] = level[v] + 1;
-        depth = Math.max(depth, level[u]);
-        queue.push(u);
-        seen.push(u);
+        level[u] = lv;
+        if (lv > depth) depth = lv;
+        queue[tail++] = u;
       }
     }
-    const last = seen.filter((v) => level[v] === depth);
-    for (const v of seen) level[v] = -1;
+    // the last level is the queue's tail (levels are appended in order)
+    let first = tail;
+    while (first > 0 && level[queue[first - 1]] === depth) first--;
+    const last = queue.slice(first, tail);
+    for (let i = 0; i < tail; i++) level[queue[i]] = -1;
     return { last, depth };
   };
   level.fill(-1);
