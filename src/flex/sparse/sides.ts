@@ -46,27 +46,35 @@ export function gramBandwidth(A: SparseMatrix, perm: Int32Array): number {
   return bw;
 }
 
-/** The graph of AᴴA: nodes are A's columns, joined when some row of A holds both. */
+/** The graph of AᴴA: nodes are A's columns, joined when some row of A holds both (two passes: count, then fill). */
 export function gramGraph(A: SparseMatrix, AH: SparseMatrix): Graph {
   const n = A.cols;
-  const mark = new Int32Array(n).fill(-1);
+  const mark = new Int32Array(n);
   const ptr = new Int32Array(n + 1);
-  const adj: number[] = [];
-  for (let i = 0; i < n; i++) {
-    mark[i] = i;
-    for (let k = AH.rowPtr[i]; k < AH.rowPtr[i + 1]; k++) {
-      const r = AH.colIdx[k];
-      for (let t = A.rowPtr[r]; t < A.rowPtr[r + 1]; t++) {
-        const c = A.colIdx[t];
-        if (mark[c] !== i) {
-          mark[c] = i;
-          adj.push(c);
+  // the neighbours of every column in turn; `adj` null: only count them into ptr
+  const walk = (adj: Int32Array | null): void => {
+    mark.fill(-1);
+    let w = 0;
+    for (let i = 0; i < n; i++) {
+      mark[i] = i;
+      for (let k = AH.rowPtr[i]; k < AH.rowPtr[i + 1]; k++) {
+        const r = AH.colIdx[k];
+        for (let t = A.rowPtr[r]; t < A.rowPtr[r + 1]; t++) {
+          const c = A.colIdx[t];
+          if (mark[c] !== i) {
+            mark[c] = i;
+            if (adj) adj[w] = c;
+            w++;
+          }
         }
       }
+      ptr[i + 1] = w;
     }
-    ptr[i + 1] = adj.length;
-  }
-  return { n, ptr, adj: Int32Array.from(adj) };
+  };
+  walk(null);
+  const adj = new Int32Array(ptr[n]);
+  walk(adj);
+  return { n, ptr, adj };
 }
 
 export function inversePermutation(order: Int32Array): Int32Array {
