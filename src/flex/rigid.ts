@@ -28,10 +28,11 @@ export function allowedRigidMotionNames(b: Boundary): RigidMotion['name'][] {
 
 export function rigidMotions(sc: Supercell): RigidMotion[] {
   const n = sc.jointCount;
-  if (n === 0) return [];
+  const names = allowedRigidMotionNames(sc.boundary);
+  if (n === 0 || names.length === 0) return [];
   const rel = relativePositions(sc);
   const out: RigidMotion[] = [];
-  for (const name of allowedRigidMotionNames(sc.boundary)) {
+  for (const name of names) {
     const f = new Float64Array(2 * n);
     for (let k = 0; k < n; k++) {
       if (name === 'translation x') f[2 * k] = 1;

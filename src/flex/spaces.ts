@@ -13,7 +13,7 @@ import { DENSE_MEMORY_LIMIT, type NullBasis } from '../linalg/dense.js';
 import { DEFAULT_RELATIVE_TOLERANCE, flagDecision, type Gap, type RankDecision } from '../linalg/rank.js';
 import type { SparseMatrix } from '../linalg/sparse.js';
 import { rigidityApply, rigidityMatrix } from '../supercell/rigidity.js';
-import type { Supercell } from '../supercell/supercell.js';
+import { buildSupercell, type Supercell } from '../supercell/supercell.js';
 import { rigidMotions, type RigidMotion } from './rigid.js';
 import { chooseSolver } from './solvers.js';
 import type { Progress, SolverChoice, SolverName, SolveStatus } from './solver.js';
@@ -95,7 +95,7 @@ export interface FlexAnalysis extends FlexCounts {
  */
 function rigidRank(sc: Supercell, motions: RigidMotion[], absTol: number): number {
   const t = motions.length;
-  const m = sc.bars.length;
+  const m = sc.barCount;
   if (t === 0 || m === 0) return 0;
   const cols = motions.map((mo) => rigidityApply(sc, mo.field));
   // q×t upper triangle; q < t when there are fewer bars than motions (e.g. a 2×1 free square)
@@ -128,6 +128,25 @@ function rigidRank(sc: Supercell, motions: RigidMotion[], absTol: number): numbe
   return s.filter((v) => v > absTol).length;
 }
 
+/**
+ * The supercell whose rigid motions are tested: sc itself, or with a twisted axis the supercell
+ * one cell wide along every twisted axis (the same boundary). With a twisted axis the allowed
+ * motions are the two translations and only at twist 0 with no pinned side (src/flex/rigid.ts),
+ * so every phase is 1, no bar is grounded, and which bars give rows and the row of R·T for each
+ * depend on the unit-cell bar and the cell along the untwisted axes alone: R·T is the small supercell's R_r·T_r with each row repeated K times (K the cells
+ * along the twisted axes) and scaled by 1/√K (T's columns are unit vectors on K times as many
+ * joints). The repetition scaled by 1/√K has orthonormal columns, so both have the same
+ * singular values, and the test needs neither the whole supercell's rows nor its joints.
+ */
+function rigidTestCell(sc: Supercell): Supercell {
+  const tx = sc.boundary.x.kind === 'twist';
+  const ty = sc.boundary.y.kind === 'twist';
+  if (!tx && !ty) return sc;
+  const [N1, N2] = sc.cells;
+  const cells: [number, number] = [tx ? 1 : N1, ty ? 1 : N2];
+  return cells[0] === N1 && cells[1] === N2 ? sc : buildSupercell(sc.framework, cells, sc.boundary);
+}
+
 /** A decision's absolute figures multiplied by L (a power of two, so exactly). */
 function inLengthUnits(d: RankDecision, L: number): RankDecision {
   const times = (v: number | null) => (v === null ? null : v * L);
@@ -141,7 +160,7 @@ function inLengthUnits(d: RankDecision, L: number): RankDecision {
 
 export function analyseSupercell(sc: Supercell, options: AnalysisOptions = {}): FlexAnalysis {
   const relative = options.tolerance ?? DEFAULT_RELATIVE_TOLERANCE;
-  const m = sc.bars.length;
+  const m = sc.barCount;
   const n = 2 * sc.jointCount;
   const { solve, name, reason } = chooseSolver(sc, options.solver ?? 'auto');
   let R: SparseMatrix | null = name === 'bloch' ? null : rigidityMatrix(sc);
@@ -151,8 +170,9 @@ export function analyseSupercell(sc: Supercell, options: AnalysisOptions = {}): 
   const status: SolveStatus = { ...spaces.status, reasons: flagged.reasons };
   const flexes = n - decision.rank;
   const selfStresses = m - decision.rank;
-  const motions = sc.real ? rigidMotions(sc) : [];
-  const trivialFlexes = motions.length - rigidRank(sc, motions, spaces.decision.tolerance.absolute);
+  const tested = sc.real ? rigidTestCell(sc) : null;
+  const motions = tested ? rigidMotions(tested) : [];
+  const trivialFlexes = tested ? motions.length - rigidRank(tested, motions, spaces.decision.tolerance.absolute) : 0;
   return {
     joints: sc.jointCount,
     bars: m,

@@ -190,7 +190,7 @@ function solveBloch(sc: Supercell, R: SparseMatrix | null, options: SolveOptions
     rows += blk.rows;
     cols += blk.cols;
   }
-  const fullRows = sc.bars.length;
+  const fullRows = sc.barCount;
   const fullCols = 2 * sc.jointCount;
   if (rows !== fullRows || cols !== fullCols || (R && (R.rows !== fullRows || R.cols !== fullCols))) {
     throw new Error(`bloch: the blocks have ${rows}×${cols} entries in all but R is ${fullRows}×${fullCols}`);
@@ -345,7 +345,7 @@ function solveCells(sc: Supercell, R: SparseMatrix | null, options: SolveOptions
   if (cols > JACOBI_MAX_COLUMNS) return null;
   const [N1, N2] = sc.cells;
   const M = N1 * N2;
-  const fullRows = sc.bars.length;
+  const fullRows = sc.barCount;
   const fullCols = 2 * sc.jointCount;
   if (M * rows !== fullRows || M * cols !== fullCols || (R && (R.rows !== fullRows || R.cols !== fullCols))) {
     throw new Error(`bloch: the blocks have ${M * rows}×${M * cols} entries in all but R is ${fullRows}×${fullCols}`);

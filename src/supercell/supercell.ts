@@ -43,14 +43,16 @@ export interface Supercell {
   sites: number;
   /** Number of supercell joints (N1·N2·S); fixed far ends of grounded bars are not joints. */
   jointCount: number;
-  /** Cartesian positions, 2 per joint. */
-  positions: Float64Array;
+  /** Cartesian positions, 2 per joint (built on first read, like jointCells and jointSites). */
+  readonly positions: Float64Array;
   /** Cell (i, j) of each joint, 2 per joint. */
-  jointCells: Int32Array;
+  readonly jointCells: Int32Array;
   /** Unit-cell site of each joint. */
-  jointSites: Int32Array;
-  /** The rows of the rigidity matrix: kept and grounded bars. */
-  bars: SupercellBar[];
+  readonly jointSites: Int32Array;
+  /** The rows of the rigidity matrix: kept and grounded bars (listed on first read; see buildSupercell). */
+  readonly bars: SupercellBar[];
+  /** Number of rows (bars.length), known without listing them. */
+  barCount: number;
   /** Bars of the infinite framework touching the supercell that were dropped at free sides. */
   dropped: number;
   grounded: number;
@@ -113,8 +115,109 @@ function pinned(rule: AxisRule, side: 'low' | 'high'): boolean {
   return rule.kind === 'sides' && rule[side] === 'pinned';
 }
 
-export function buildSupercell(fw: Framework, cells: [number, number], boundary: Boundary): Supercell {
-  checkCells(cells);
+/** A run of `from` cells along one axis on which both ends keep their state (see barRuns). */
+type Run = { lo: number; hi: number; from: 'low' | 'high' | null; to: 'low' | 'high' | null };
+
+/** The rows of one unit-cell bar over one run of y: every x run in `xs`, cells j = y.lo … y.hi − 1. */
+interface RowBlock {
+  source: number;
+  /** Sites of the ends and the shift of the unit-cell bar. */
+  sa: number;
+  sb: number;
+  shift: [number, number];
+  vector: Vec2;
+  y: Run;
+  xs: Run[];
+}
+
+/**
+ * Which bars of the infinite framework give rows, as blocks of cells per unit-cell bar, and the
+ * counts of rows, grounded and dropped bars, without a row object: the rows are listed from
+ * these blocks only when asked for (listBars), so a solver that needs only their number (the
+ * Bloch solver) never pays for them. Along an axis the `from` cells split into runs on which
+ * both ends keep their state (inside, or out through the low or high side): cut at 0, N,
+ * −shift and N − shift, so the work does not grow with the shift. A twisted axis is one run
+ * (every cell, one orbit each). Runs where both ends are out along the axis are left out: such
+ * bars never touch the supercell.
+ */
+function barRuns(fw: Framework, cells: [number, number], boundary: Boundary): { blocks: RowBlock[]; rows: number; grounded: number; dropped: number } {
+  const [N1, N2] = cells;
+  const runs = (N: number, shift: number, rule: AxisRule): Run[] => {
+    if (rule.kind === 'twist') return [{ lo: 0, hi: N, from: null, to: null }];
+    const cuts = [...new Set([0, N, -shift, N - shift])].sort((p, q) => p - q);
+    const out: Run[] = [];
+    for (let k = 0; k + 1 < cuts.length; k++) {
+      const from = place(cuts[k], N, rule).out;
+      const to = place(cuts[k] + shift, N, rule).out;
+      if (from === null || to === null) out.push({ lo: cuts[k], hi: cuts[k + 1], from, to });
+    }
+    return out;
+  };
+  const blocks: RowBlock[] = [];
+  let rows = 0;
+  let dropped = 0;
+  let grounded = 0;
+  resolveBars(fw).forEach(({ from: sa, to: sb, shift, vector }, source) => {
+    const [s1, s2] = shift;
+    const xRuns = runs(N1, s1, boundary.x);
+    for (const y of runs(N2, s2, boundary.y)) {
+      // runs of x whose cells give rows; the bars of the other runs are counted as dropped at once
+      const xs: Run[] = [];
+      for (const x of xRuns) {
+        const fromOut = x.from !== null || y.from !== null;
+        const toOut = x.to !== null || y.to !== null;
+        if (fromOut && toOut) continue;
+        const area = (x.hi - x.lo) * (y.hi - y.lo);
+        if (fromOut || toOut) {
+          const [ox, oy] = fromOut ? [x.from, y.from] : [x.to, y.to];
+          const ok = (ox === null || pinned(boundary.x, ox)) && (oy === null || pinned(boundary.y, oy));
+          if (!ok) {
+            dropped += area;
+            continue;
+          }
+          // both ends keep their state over the run: every row of it is grounded
+          grounded += area;
+        }
+        rows += area;
+        xs.push(x);
+      }
+      if (xs.length) blocks.push({ source, sa, sb, shift, vector, y, xs });
+    }
+  });
+  return { blocks, rows, grounded, dropped };
+}
+
+/** The row objects of the blocks, in the order of R's rows: unit-cell bar, y run, j, x run, i. */
+function listBars(blocks: RowBlock[], cells: [number, number], boundary: Boundary, S: number): SupercellBar[] {
+  const [N1, N2] = cells;
+  const theta1 = boundary.x.kind === 'twist' ? reduceTurns(boundary.x.theta) : 0;
+  const theta2 = boundary.y.kind === 'twist' ? reduceTurns(boundary.y.theta) : 0;
+  const bars: SupercellBar[] = [];
+  for (const { source, sa, sb, shift: [s1, s2], vector, y, xs } of blocks) {
+    for (let j = y.lo; j < y.hi; j++) {
+      for (const x of xs) {
+        for (let i = x.lo; i < x.hi; i++) {
+          const fx = place(i, N1, boundary.x);
+          const fy = place(j, N2, boundary.y);
+          const tx = place(i + s1, N1, boundary.x);
+          const ty = place(j + s2, N2, boundary.y);
+          const fromOut = fx.out !== null || fy.out !== null;
+          const toOut = tx.out !== null || ty.out !== null;
+          const a = fromOut ? -1 : jointIndex(fx.idx, fy.idx, sa, N1, S);
+          const b = toOut ? -1 : jointIndex(tx.idx, ty.idx, sb, N1, S);
+          const w1 = tx.wraps;
+          const w2 = ty.wraps;
+          const phase = cis(theta1 * w1 + theta2 * w2);
+          bars.push({ a, b, vector, phase, wraps: [w1, w2], source, cell: [i, j], grounded: fromOut || toOut });
+        }
+      }
+    }
+  }
+  return bars;
+}
+
+/** Positions, cells and sites of the N1·N2·S joints (see Supercell). */
+function listJoints(fw: Framework, cells: [number, number]): Pick<Supercell, 'positions' | 'jointCells' | 'jointSites'> {
   const [N1, N2] = cells;
   const S = fw.joints.length;
   const [a1, a2] = fw.lattice;
@@ -133,69 +236,44 @@ export function buildSupercell(fw: Framework, cells: [number, number], boundary:
         jointCells[2 * k + 1] = j;
         jointSites[k] = s;
       }
+  return { positions, jointCells, jointSites };
+}
 
-  const theta1 = boundary.x.kind === 'twist' ? reduceTurns(boundary.x.theta) : 0;
-  const theta2 = boundary.y.kind === 'twist' ? reduceTurns(boundary.y.theta) : 0;
-  const bars: SupercellBar[] = [];
-  let dropped = 0;
-  let grounded = 0;
-  // Along an axis the `from` cells split into runs on which both ends keep their state (inside,
-  // or out through the low or high side): cut at 0, N, −shift and N − shift, so the work does not
-  // grow with the shift. A twisted axis is one run (every cell, one orbit each). Runs where both
-  // ends are out along the axis are left out: such bars never touch the supercell.
-  type Run = { lo: number; hi: number; from: 'low' | 'high' | null; to: 'low' | 'high' | null };
-  const runs = (N: number, shift: number, rule: AxisRule): Run[] => {
-    if (rule.kind === 'twist') return [{ lo: 0, hi: N, from: null, to: null }];
-    const cuts = [...new Set([0, N, -shift, N - shift])].sort((p, q) => p - q);
-    const out: Run[] = [];
-    for (let k = 0; k + 1 < cuts.length; k++) {
-      const from = place(cuts[k], N, rule).out;
-      const to = place(cuts[k] + shift, N, rule).out;
-      if (from === null || to === null) out.push({ lo: cuts[k], hi: cuts[k + 1], from, to });
-    }
-    return out;
+/**
+ * The supercell. Its sizes and counts (jointCount, barCount, grounded, dropped) are computed at
+ * once, in time independent of the number of cells; the per-joint arrays and the row objects
+ * (`bars`) are built on first read and kept. The Bloch count reads neither: its blocks come
+ * from the unit cell (src/spectrum/bloch.ts).
+ */
+export function buildSupercell(fw: Framework, cells: [number, number], boundary: Boundary): Supercell {
+  checkCells(cells);
+  const [N1, N2] = cells;
+  const S = fw.joints.length;
+  const { blocks, rows, grounded, dropped } = barRuns(fw, [N1, N2], boundary);
+  let joints: ReturnType<typeof listJoints> | undefined;
+  let bars: SupercellBar[] | undefined;
+  return {
+    framework: fw,
+    cells: [N1, N2],
+    boundary,
+    sites: S,
+    jointCount: N1 * N2 * S,
+    get positions() {
+      return (joints ??= listJoints(fw, [N1, N2])).positions;
+    },
+    get jointCells() {
+      return (joints ??= listJoints(fw, [N1, N2])).jointCells;
+    },
+    get jointSites() {
+      return (joints ??= listJoints(fw, [N1, N2])).jointSites;
+    },
+    get bars() {
+      return (bars ??= listBars(blocks, [N1, N2], boundary, S));
+    },
+    barCount: rows,
+    dropped,
+    grounded,
+    real: boundaryIsReal(boundary),
+    lengthScale: lengthScaleOf(fw),
   };
-
-  resolveBars(fw).forEach(({ from: sa, to: sb, shift: [s1, s2], vector }, source) => {
-    const xRuns = runs(N1, s1, boundary.x);
-    for (const y of runs(N2, s2, boundary.y)) {
-      // runs of x whose cells give rows; the bars of the other runs are counted as dropped at once
-      const rowRuns: Run[] = [];
-      for (const x of xRuns) {
-        const fromOut = x.from !== null || y.from !== null;
-        const toOut = x.to !== null || y.to !== null;
-        if (fromOut && toOut) continue;
-        if (fromOut || toOut) {
-          const [ox, oy] = fromOut ? [x.from, y.from] : [x.to, y.to];
-          const ok = (ox === null || pinned(boundary.x, ox)) && (oy === null || pinned(boundary.y, oy));
-          if (!ok) {
-            dropped += (x.hi - x.lo) * (y.hi - y.lo);
-            continue;
-          }
-        }
-        rowRuns.push(x);
-      }
-      if (rowRuns.length === 0) continue;
-      for (let j = y.lo; j < y.hi; j++) {
-        for (const x of rowRuns) {
-          for (let i = x.lo; i < x.hi; i++) {
-            const fx = place(i, N1, boundary.x);
-            const fy = place(j, N2, boundary.y);
-            const tx = place(i + s1, N1, boundary.x);
-            const ty = place(j + s2, N2, boundary.y);
-            const fromOut = fx.out !== null || fy.out !== null;
-            const toOut = tx.out !== null || ty.out !== null;
-            const a = fromOut ? -1 : jointIndex(fx.idx, fy.idx, sa, N1, S);
-            const b = toOut ? -1 : jointIndex(tx.idx, ty.idx, sb, N1, S);
-            if (fromOut || toOut) grounded++;
-            const w1 = tx.wraps;
-            const w2 = ty.wraps;
-            const phase = cis(theta1 * w1 + theta2 * w2);
-            bars.push({ a, b, vector, phase, wraps: [w1, w2], source, cell: [i, j], grounded: fromOut || toOut });
-          }
-        }
-      }
-    }
-  });
-  return { framework: fw, cells: [N1, N2], boundary, sites: S, jointCount, positions, jointCells, jointSites, bars, dropped, grounded, real: boundaryIsReal(boundary), lengthScale: lengthScaleOf(fw) };
 }
