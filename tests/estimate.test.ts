@@ -43,3 +43,14 @@ describe('estimate of the nested-dissection factor', () => {
     expect(e.bytes).toBeLessThan(2 * 1024 ** 3);
   });
 });
+
+describe('estimate of a Bloch count', () => {
+  it('periodic kagome 2048×2048 passes the default check: a Bloch count lists no rows (1024×1024 peaked at 97 MB)', () => {
+    const e = checkRunSize(buildGallery('gallery:kagome'), [2048, 2048], parseBoundary('periodic'));
+    expect(e.solver).toBe('bloch');
+    expect(e.bytes).toBeLessThan(1024 ** 3);
+    // bases map block vectors back through the rows: those are charged
+    const withBases = estimateRun(buildGallery('gallery:kagome'), [2048, 2048], parseBoundary('periodic'), { bases: true });
+    expect(withBases.bytes).toBeGreaterThan(e.bytes + 2048 * 2048 * 6 * 300);
+  });
+});

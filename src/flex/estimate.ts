@@ -4,7 +4,8 @@
  *
  * Memory (bytes, the peak of one count):
  *  - the supercell: 28 bytes a joint (positions, cells, sites) and ~320 bytes a bar row (its
- *    object and small arrays; 270–480 measured on kagome, square and triangular supercells);
+ *    object and small arrays; 270–480 measured on kagome, square and triangular supercells),
+ *    except on a Bloch count with both axes twisted and no bases, which lists neither;
  *  - R assembled (dense and sparse paths): ~280 bytes a row (the builder's growing buffers,
  *    then the CSR arrays);
  *  - dense: 3 × denseMemoryBytes (src/linalg/dense.ts; the measured peak is ~2.7 times it),
@@ -15,13 +16,14 @@
  *    often does up to 1.6× better), or from dim 8000 on the nested-dissection LDLᴴ when it needs
  *    under half the band's flops, 12 bytes per nonzero of L (nestedDissectionCost), plus R, Rᴴ
  *    and 24 work vectors;
- *  - Bloch, both axes twisted: N1·N2 tiny blocks, ~40 bytes per block entry kept (1.5 kB a
- *    6×6 kagome block measured);
+ *  - Bloch, both axes twisted: N1·N2 tiny blocks; a count keeps ~8 bytes per singular value
+ *    (kagome 1024×1024 peaked at 91 MB with Node itself), bases ~40 bytes per block entry
+ *    (1.5 kB a 6×6 kagome block measured);
  *  - Bloch, one axis twisted: one strip block at a time (dense or banded, as bloch.ts picks).
  * Time (seconds, rough: within a factor 2–3 of runs measured on one core of this project's
  * development machine): dense 1e-8·m·n·min(m, n) (embedded sizes when complex); sparse
  * 1.5e-9·flops (×4 complex) + 2e-7·dim·b for the band or + 2.5e-5·dim for the nested-dissection
- * factor (ordering, σ_max and the supercell dominate there); a Bloch unit-cell block 2e-7·B·(2S)² + 1e-5; a
+ * factor (ordering, σ_max and the supercell dominate there); a Bloch unit-cell block 1e-8·B·(2S)² + 1e-6 (periodic kagome 512×512: 0.75 s); a
  * banded strip block 1e-4·cols + 3e-3 plus its band work; building the supercell 3e-6 a bar row.
  * Bases (classify, export-modes, sweep) add the flex vectors (at least 2·joints − bars of
  * them, by Maxwell–Calladine) and roughly double the solver's time.
@@ -127,12 +129,15 @@ export function estimateRun(fw: Framework, cells: [number, number], boundary: Bo
   const bases = options.bases === true;
   const flexVectors = bases ? Math.max(0, n - m) * n * 8 * 2 : 0;
 
-  const supercellBytes = joints * JOINT_BYTES + m * BAR_ROW_BYTES;
-  const matrixBytes = m * MATRIX_ROW_BYTES * (complex ? 1.5 : 1);
-  const buildSeconds = 3e-6 * m;
-
   const choice = options.solver ?? 'auto';
   const solver: SolverName = choice !== 'auto' ? choice : twisted > 0 ? 'bloch' : n >= SPARSE_MIN_DOF ? 'sparse' : 'dense';
+  // a Bloch count on two twisted axes never lists the supercell's joints or rows (they are built
+  // on first read, src/supercell/supercell.ts); bases map block vectors back through the rows
+  const listsRows = !(solver === 'bloch' && twisted === 2 && !bases);
+  const supercellBytes = listsRows ? joints * JOINT_BYTES + m * BAR_ROW_BYTES : 0;
+  const matrixBytes = m * MATRIX_ROW_BYTES * (complex ? 1.5 : 1);
+  const buildSeconds = listsRows ? 3e-6 * m : 0;
+
   const dense = (r: number, c: number, cplx: boolean) => {
     const f = cplx ? 2 : 1;
     const [a, b] = [r * f, c * f];
@@ -163,7 +168,7 @@ export function estimateRun(fw: Framework, cells: [number, number], boundary: Bo
     return { bytes: factor + WORK_VECTORS * 8 * f * Math.max(dimFlex, dimStress), seconds, b: counted.b, sparse: counted.sparse, figures };
   };
 
-  let heapBytes = m * BAR_ROW_BYTES;
+  let heapBytes = listsRows ? m * BAR_ROW_BYTES : 0;
   let bytes = supercellBytes + flexVectors;
   let seconds = buildSeconds;
   let path: string;
@@ -182,9 +187,12 @@ export function estimateRun(fw: Framework, cells: [number, number], boundary: Bo
   } else if (twisted === 2) {
     const B = Math.max(1, barsPerCell);
     const blocks = N1 * N2;
-    bytes += blocks * (40 * B * 2 * S + 200);
-    heapBytes += blocks * (40 * B * 2 * S + 200);
-    seconds += blocks * (2e-7 * B * (2 * S) ** 2 + 1e-5) * (bases ? 2 : 1);
+    // a count keeps a few numbers a block in flat arrays (kagome 1024×1024: 91 MB peak in all);
+    // bases keep every block's vectors as objects
+    const perBlock = bases ? 40 * B * 2 * S + 200 : 8 * Math.min(B, 2 * S) + 16;
+    bytes += blocks * perBlock;
+    if (bases) heapBytes += blocks * perBlock;
+    seconds += blocks * (1e-8 * B * (2 * S) ** 2 + 1e-6) * (bases ? 2 : 1);
     path = `Bloch, ${blocks} unit-cell blocks of ${B}×${2 * S}`;
   } else {
     // one twisted axis: Nt strip blocks, each the 1-cell-wide supercell along the other axis
