@@ -14,7 +14,7 @@ import { Matrix, SingularValueDecomposition } from 'ml-matrix';
 import { cdot as dot, cnorm as norm } from '../../linalg/complex.js';
 import { resolveBars } from '../../framework/types.js';
 import type { Supercell } from '../../supercell/supercell.js';
-import { scaleInPlace, subtractProjection, type Cx } from './cvec-ops.js';
+import { addScaled, scaleInPlace, subtractProjection, type Cx, type SpanPart } from './cvec-ops.js';
 
 /** An affine field lies in the flex space when its distance to it is at most this (unit field). */
 export const AFFINE_IN_KERNEL = 1e-6;
@@ -79,12 +79,55 @@ export function affineFields(sc: Supercell): Cx[] {
 export interface AffineRest {
   /** Orthonormal vectors of the rest that are affine flexes (bulk by nature). */
   affine: Cx[];
-  /** The rest with them taken out (orthonormal). */
+  /**
+   * The rest with them taken out: rest·part.E (orthonormal; part null: all of `rest`). `rest` is
+   * the input rest, or, when the affine vectors could not be removed by coefficients (they are
+   * built inside the rest, so only by a failure of that), the result formed by Gram–Schmidt.
+   */
   rest: Cx[];
+  part: SpanPart | null;
   /** Dimension of the affine fields that are flexes, and the singular values beside the rest cut. */
   inKernel: number;
   kept: number | null;
   dropped: number | null;
+}
+
+/** Σ_i a_i b_i for real arrays. */
+function realDot(a: Float64Array, b: Float64Array): number {
+  let s = 0;
+  for (let i = 0; i < a.length; i++) s += a[i] * b[i];
+  return s;
+}
+
+/**
+ * realDot(x, ys[k]) for every k into out[k], four at a time (independent sums, x read once per
+ * four): each the sum over i in increasing order, the numbers of `realDot`.
+ */
+function realDots(x: Float64Array, ys: Float64Array[], out: Float64Array): void {
+  const n = x.length;
+  let k = 0;
+  for (; k + 3 < ys.length; k += 4) {
+    const y0 = ys[k];
+    const y1 = ys[k + 1];
+    const y2 = ys[k + 2];
+    const y3 = ys[k + 3];
+    let s0 = 0;
+    let s1 = 0;
+    let s2 = 0;
+    let s3 = 0;
+    for (let i = 0; i < n; i++) {
+      const xi = x[i];
+      s0 += xi * y0[i];
+      s1 += xi * y1[i];
+      s2 += xi * y2[i];
+      s3 += xi * y3[i];
+    }
+    out[k] = s0;
+    out[k + 1] = s1;
+    out[k + 2] = s2;
+    out[k + 3] = s3;
+  }
+  for (; k < ys.length; k++) out[k] = realDot(x, ys[k]);
 }
 
 /** Hermitian r×r eigen-decomposition, largest first (small dense; r ≤ 2·joints per cell + 4). */
@@ -98,13 +141,22 @@ function smallEigen(G: Matrix): { values: number[]; vectors: Matrix } {
  * real; the rest may be complex (twisted axes), where only L̇ = 0 fields with zero twist survive.
  */
 export function splitAffine(sc: Supercell, flexBasis: Cx[], rest: Cx[]): AffineRest {
-  const none: AffineRest = { affine: [], rest, inKernel: 0, kept: null, dropped: null };
+  const none: AffineRest = { affine: [], rest, part: null, inKernel: 0, kept: null, dropped: null };
   if (rest.length === 0) return none;
   const F = affineFields(sc);
   if (F.length === 0) return none;
   // 1. the fields that are flexes: P_K F = Φ Φᴴ F; the directions g of span F with ‖P_K g‖² ≥ 1 − tol²
   const t = F.length;
-  const C = F.map((x) => flexBasis.map((p) => dot(p, x))); // C[a][b] = ⟨φ_b, F_a⟩
+  // C[a][b] = ⟨φ_b, F_a⟩; the fields are real, so a real φ_b needs only the real products (the
+  // same real part; the imaginary part is then zero)
+  const realPhi = flexBasis.map((p) => p.im.every((x) => x === 0));
+  const C: [number, number][][] = F.map(() => []);
+  const fieldsRe = F.map((x) => x.re);
+  const dotsOfPhi = new Float64Array(F.length);
+  flexBasis.forEach((p, b) => {
+    if (realPhi[b]) realDots(p.re, fieldsRe, dotsOfPhi);
+    F.forEach((x, a) => (C[a][b] = realPhi[b] ? [dotsOfPhi[a], 0] : dot(p, x)));
+  });
   const G = new Matrix(t, t);
   for (let a = 0; a < t; a++)
     for (let b = 0; b < t; b++) {
@@ -126,14 +178,21 @@ export function splitAffine(sc: Supercell, flexBasis: Cx[], rest: Cx[]): AffineR
   if (inK.length === 0) return none;
   // 2. their components in the rest: singular values of Restᴴ·A (r × a)
   const r = rest.length;
+  // a real rest (imaginary parts all zero) gives zero imaginary coefficients against the real
+  // fields, so the real path forms the same numbers
+  const realRest = rest.every((x) => x.im.every((y) => y === 0));
   const M = new Matrix(r, inK.length);
   const Mi = new Matrix(r, inK.length);
-  for (let i = 0; i < r; i++)
+  const inKRe = inK.map((x) => x.re);
+  const dotsOfRest = new Float64Array(inK.length);
+  for (let i = 0; i < r; i++) {
+    if (realRest) realDots(rest[i].re, inKRe, dotsOfRest);
     for (let a = 0; a < inK.length; a++) {
-      const [re, im] = dot(rest[i], inK[a]);
+      const [re, im] = realRest ? [dotsOfRest[a], 0] : dot(rest[i], inK[a]);
       M.set(i, a, re);
       Mi.set(i, a, im);
     }
+  }
   // the Gram matrix MᴴM is real when the rest is real; a complex rest gives a Hermitian one
   const H = new Matrix(inK.length, inK.length);
   for (let a = 0; a < inK.length; a++)
@@ -164,20 +223,129 @@ export function splitAffine(sc: Supercell, flexBasis: Cx[], rest: Cx[]): AffineR
         cr += M.get(i, a) * y;
         ci += Mi.get(i, a) * y;
       }
-      const x = rest[i];
-      for (let q = 0; q < n; q++) {
-        v.re[q] += cr * x.re[q] - ci * x.im[q];
-        v.im[q] += cr * x.im[q] + ci * x.re[q];
-      }
+      addScaled(v, rest[i], cr, ci, realRest);
     }
     for (let pass = 0; pass < 2; pass++) for (const u of affine) subtractProjection(v, u);
     scaleInPlace(v, 1 / norm(v));
     affine.push(v);
   });
   if (affine.length === 0) return { ...none, inKernel: inK.length, dropped };
-  // 3. rest ⊖ affine: re-orthonormalise the rest against the affine vectors, dropping the lost directions
+  // 3. rest ⊖ affine, as coefficients of the rest
+  const part = complementCoefficients(rest, affine);
+  if (part) return { affine, rest, part, inKernel: inK.length, kept, dropped };
+  return { affine, rest: complementByGramSchmidt(rest, affine), part: null, inKernel: inK.length, kept, dropped };
+}
+
+/**
+ * span(rest) ⊖ span(affine) as rest·C (C r×(r − a), orthonormal columns) when the affine
+ * vectors lie in span(rest) (they are built from it): with Y = Restᴴ·Affine (r×a, orthonormal
+ * columns), Householder reflectors H_j = I − τ_j v_j v_jᴴ reduce Y to upper triangular form
+ * (Householder QR, e.g. G. H. Golub & C. F. Van Loan, "Matrix Computations", 4th ed., Johns
+ * Hopkins, 2013, §5.1–5.2; from memory), so the last r − a columns of Q = H_1⋯H_a are an
+ * orthonormal basis of the complement of range Y in Cʳ: C = Q(:, a:). Costs a·r passes over
+ * the vectors for Y and r×r work; the vectors rest·C are never formed here. null when a column
+ * of Y is shorter than ½ after the earlier reflections (an affine vector outside span(rest));
+ * the caller then falls back to Gram–Schmidt.
+ */
+export function complementCoefficients(rest: Cx[], affine: Cx[]): SpanPart | null {
+  const r = rest.length;
+  const a = affine.length;
+  if (a > r) return null;
+  const real = rest.every((x) => x.im.every((y) => y === 0)) && affine.every((x) => x.im.every((y) => y === 0));
+  // Y[i][k] = ⟨rest_i, affine_k⟩, row-major r×a
+  const Yre = new Float64Array(r * a);
+  const Yim = new Float64Array(r * a);
+  const affineRe = affine.map((x) => x.re);
+  for (let i = 0; i < r; i++) {
+    if (real) {
+      realDots(rest[i].re, affineRe, Yre.subarray(i * a, (i + 1) * a));
+      continue;
+    }
+    for (let k = 0; k < a; k++) {
+      const [sr, si] = dot(rest[i], affine[k]);
+      Yre[i * a + k] = sr;
+      Yim[i * a + k] = si;
+    }
+  }
+  // Householder QR of Y: v_j (zero above row j), τ_j = 2 / vᴴv, H_j x_j = −e^{i·arg x_jj}‖x_j‖ e_j
+  const reflectors: { vre: Float64Array; vim: Float64Array; tau: number }[] = [];
+  for (let j = 0; j < a; j++) {
+    let nx2 = 0;
+    for (let i = j; i < r; i++) nx2 += Yre[i * a + j] ** 2 + Yim[i * a + j] ** 2;
+    const nx = Math.sqrt(nx2);
+    if (!(nx >= 0.5)) return null;
+    const x0r = Yre[j * a + j];
+    const x0i = Yim[j * a + j];
+    const ax0 = Math.hypot(x0r, x0i);
+    const pr = ax0 > 0 ? x0r / ax0 : 1;
+    const pi = ax0 > 0 ? x0i / ax0 : 0;
+    const vre = new Float64Array(r);
+    const vim = new Float64Array(r);
+    for (let i = j; i < r; i++) {
+      vre[i] = Yre[i * a + j];
+      vim[i] = Yim[i * a + j];
+    }
+    vre[j] += pr * nx;
+    vim[j] += pi * nx;
+    let vv = 0;
+    for (let i = j; i < r; i++) vv += vre[i] ** 2 + vim[i] ** 2;
+    const tau = 2 / vv;
+    // the remaining columns: Y[:, c] −= τ v (vᴴ Y[:, c])
+    for (let c = j + 1; c < a; c++) {
+      let sr = 0;
+      let si = 0;
+      for (let i = j; i < r; i++) {
+        sr += vre[i] * Yre[i * a + c] + vim[i] * Yim[i * a + c];
+        si += vre[i] * Yim[i * a + c] - vim[i] * Yre[i * a + c];
+      }
+      for (let i = j; i < r; i++) {
+        Yre[i * a + c] -= tau * (vre[i] * sr - vim[i] * si);
+        Yim[i * a + c] -= tau * (vre[i] * si + vim[i] * sr);
+      }
+    }
+    reflectors.push({ vre, vim, tau });
+  }
+  // C = H_1⋯H_a·[e_a … e_{r−1}]: each column through H_a first, H_1 last
+  const m = r - a;
+  const re = new Float64Array(r * m);
+  const im = real ? null : new Float64Array(r * m);
+  const xr = new Float64Array(r);
+  const xi = new Float64Array(r);
+  for (let t = 0; t < m; t++) {
+    xr.fill(0);
+    xi.fill(0);
+    xr[a + t] = 1;
+    for (let j = a - 1; j >= 0; j--) {
+      const { vre, vim, tau } = reflectors[j];
+      // x −= τ v (vᴴ x)
+      let sr = 0;
+      let si = 0;
+      for (let i = j; i < r; i++) {
+        sr += vre[i] * xr[i] + vim[i] * xi[i];
+        si += vre[i] * xi[i] - vim[i] * xr[i];
+      }
+      for (let i = j; i < r; i++) {
+        xr[i] -= tau * (vre[i] * sr - vim[i] * si);
+        xi[i] -= tau * (vre[i] * si + vim[i] * sr);
+      }
+    }
+    for (let i = 0; i < r; i++) {
+      re[i * m + t] = xr[i];
+      if (im) im[i * m + t] = xi[i];
+    }
+  }
+  return { E: { re, im }, m };
+}
+
+/**
+ * span(rest) ⊖ span(affine) by Gram–Schmidt: every rest vector without its affine components,
+ * longest first, orthonormalised against the affine vectors and those kept (two passes),
+ * dropping the lost directions. The fallback of `complementInSpan`.
+ */
+function complementByGramSchmidt(rest: Cx[], affine: Cx[]): Cx[] {
+  const r = rest.length;
   const left: Cx[] = [];
-  const candidates = rest.map((x) => ({ re: Float64Array.from(x.re), im: Float64Array.from(x.im) }));
+  const candidates = rest.map((x) => ({ re: x.re.slice(), im: x.im.slice() }));
   const scored = candidates.map((v) => {
     for (let pass = 0; pass < 2; pass++) for (const u of affine) subtractProjection(v, u);
     return { v, size: norm(v) };
@@ -194,5 +362,5 @@ export function splitAffine(sc: Supercell, flexBasis: Cx[], rest: Cx[]): AffineR
     scaleInPlace(v, 1 / nv);
     left.push(v);
   }
-  return { affine, rest: left, inKernel: inK.length, kept, dropped };
+  return left;
 }

@@ -96,9 +96,10 @@ import { findLines, usableDirections } from './lines.js';
 import { confineCorners, findLocal } from './local.js';
 import { basicMetrics, DECISION_MARGIN, decayDecision, geometryOf, jointWeights } from './metrics.js';
 import { gcd, indexStrips, stripsOf, windowsOf } from './regions.js';
-import { splitByBoundaryDistance } from './rest-split.js';
+import { boundaryDistanceParts } from './rest-split.js';
 import { restOf } from './rest.js';
-import { pivotOrder, scdm } from './scdm.js';
+import { pivotOrder, scdm, scdmOfSpan } from './scdm.js';
+import type { SpanPart } from './cvec-ops.js';
 import { Span } from './span.js';
 import { DEFAULT_STRIP, DEFAULT_WINDOW, FIT_FLOOR, HEAD_WEIGHT, LINE_COVERAGE, MIN_R2, SUPPORT_AMPLITUDE } from './thresholds.js';
 
@@ -182,18 +183,25 @@ export function classifyFlexes(sc: Supercell, analysis: FlexAnalysis, options: C
   }
   if (leakage !== null && leakage > 1e3 * ctx.spanTol) warnings.push(`the local and line flexes stick out of the flex space by ${leakage.toExponential(2)}: the rank tolerance is not consistent between the restricted problems and the whole matrix`);
   throwIfAborted(signal);
+  lap('rest');
   // 3a. affine flexes (rigid motions, homogeneous mechanisms and strain modes) are bulk by nature
+  //    (the rest without them is rest·within.E: coefficients, never formed)
   const aff = splitAffine(sc, fullRest.length ? ctx.flexBasis() : [], fullRest);
   const rest = aff.rest;
+  const within = aff.part;
   for (const v of aff.affine) modes.push({ class: 'bulk', vector: v, ...basicMetrics(geo, jointWeights(v, J)), affine: true });
-  lap('rest');
+  lap('affine');
 
   // 4. near/far: split off the extended part (boundary-distance operator); 5. localise: SCDM
   //    within each part; 6. decaying or bulk, vector by vector
-  const { near, far } = splitByBoundaryDistance(geo, rest);
+  //    (the parts stay coefficients of the rest, near = rest·E_near: SCDM forms only the rows it needs)
+  const parts = boundaryDistanceParts(geo, rest, within);
+  lap('nearFar');
   const cplx = rest.length > 0 && ctx.basisComplex();
   const pivots = pivotOrder(sc);
-  const localised = [...(near.length ? scdm(near, cplx, pivots) : []), ...(far.length ? scdm(far, cplx, pivots) : [])];
+  const localise = (p: SpanPart | null) => (p === null ? (rest.length ? scdm(rest, cplx, pivots) : []) : p.m ? scdmOfSpan(rest, p.E, p.m, cplx, pivots) : []);
+  const localised = parts ? [...localise(parts.near), ...localise(parts.far)] : localise(within);
+  lap('scdm');
   let marginal = 0;
   let decay: SideDecay | undefined;
   for (const v of localised) {
@@ -212,7 +220,7 @@ export function classifyFlexes(sc: Supercell, analysis: FlexAnalysis, options: C
       `${marginal} of the ${localised.length} localised vectors of the rest pass or fail the decaying test within ${DECISION_MARGIN * 100} % of its thresholds (head weight ${HEAD_WEIGHT}, R² ${MIN_R2}): their decaying/bulk class can change with small changes of the sample`,
     );
   tick('rest');
-  lap('localise');
+  lap('decay');
 
   // 7. assemble: counts, modes in class order, the thresholds used
   const counts: Record<FlexClass, number> = { local: 0, line: 0, decaying: 0, bulk: 0 };

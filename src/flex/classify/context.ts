@@ -101,8 +101,8 @@ function realIfPossible(vectors: CVec[], realMatrix: boolean, dim: number): CVec
   if (!realMatrix || vectors.every((v) => v.im.every((x) => x === 0))) return vectors;
   const parts: { re: Float64Array; im: Float64Array }[] = [];
   for (const v of vectors) {
-    parts.push({ re: Float64Array.from(v.re), im: new Float64Array(v.re.length) });
-    parts.push({ re: Float64Array.from(v.im), im: new Float64Array(v.im.length) });
+    parts.push({ re: v.re.slice(), im: new Float64Array(v.re.length) });
+    parts.push({ re: v.im.slice(), im: new Float64Array(v.im.length) });
   }
   parts.sort((a, b) => norm(b) - norm(a));
   const out: { re: Float64Array; im: Float64Array }[] = [];

@@ -9,6 +9,16 @@ import type { SparseMatrix } from '../../linalg/sparse.js';
 /** A complex vector as two real arrays. */
 export type Cx = { re: Float64Array; im: Float64Array };
 
+/**
+ * A subspace of span Ψ (Ψ a list of orthonormal vectors) as the columns of Ψ·E: E row-major
+ * r×m with orthonormal columns (im null when real). Steps pass such coefficients instead of
+ * forming the m vectors.
+ */
+export interface SpanPart {
+  E: { re: Float64Array; im: Float64Array | null };
+  m: number;
+}
+
 /** A set of vectors supported on the same degrees of freedom (column indices of R). */
 export interface Block {
   dofs: Int32Array;
@@ -81,6 +91,132 @@ export function combine(vectors: { re: Float64Array; im: Float64Array }[], y: { 
     addScaled(out, v, yr, yi, real);
   });
   return out;
+}
+
+/** Dofs per chunk of `combineColumns`: a chunk of every input vector stays in the core's cache. */
+const COMBINE_CHUNK = 512;
+
+/**
+ * out_b = Σ_a W[a][b]·vectors[a] for b < cols (W row-major r×cols, im null when real). Each
+ * entry is the sum over a in increasing order, the numbers of one `addScaled` per weight in that
+ * order (a zero weight adds a zero). Real: by chunks of dofs (a chunk of every input stays in
+ * cache), four outputs × four dofs at a time (16 independent sums, each input entry and weight
+ * loaded once per block), so the loop is bound neither by memory nor by one chain of additions.
+ * `real`: every vector and weight is real (only real parts formed).
+ */
+export function combineColumns(vectors: Cx[], Wre: Float64Array, Wim: Float64Array | null, cols: number, real = false): Cx[] {
+  const r = vectors.length;
+  const n = r ? vectors[0].re.length : 0;
+  const out: Cx[] = Array.from({ length: cols }, () => ({ re: new Float64Array(n), im: new Float64Array(n) }));
+  if (real) {
+    combineReal(
+      vectors.map((v) => v.re),
+      Wre,
+      cols,
+      out.map((v) => v.re),
+    );
+    return out;
+  }
+  for (let c0 = 0; c0 < n; c0 += COMBINE_CHUNK) {
+    const c1 = Math.min(n, c0 + COMBINE_CHUNK);
+    for (let b = 0; b < cols; b++) {
+      const vr = out[b].re;
+      const vi = out[b].im;
+      for (let a = 0; a < r; a++) {
+        const wr = Wre[a * cols + b];
+        const wi = Wim ? Wim[a * cols + b] : 0;
+        if (wr === 0 && wi === 0) continue;
+        const pr = vectors[a].re;
+        const pi = vectors[a].im;
+        for (let i = c0; i < c1; i++) {
+          vr[i] += pr[i] * wr - pi[i] * wi;
+          vi[i] += pr[i] * wi + pi[i] * wr;
+        }
+      }
+    }
+  }
+  return out;
+}
+
+/** The real case of `combineColumns`: out[b][j] = Σ_a W[a·cols + b]·P[a][j], a in increasing order. */
+function combineReal(P: Float64Array[], W: Float64Array, cols: number, out: Float64Array[]): void {
+  const r = P.length;
+  const n = r ? P[0].length : 0;
+  const Wp = new Float64Array(4 * r);
+  for (let c0 = 0; c0 < n; c0 += COMBINE_CHUNK) {
+    const c1 = Math.min(n, c0 + COMBINE_CHUNK);
+    let b = 0;
+    for (; b + 3 < cols; b += 4) {
+      for (let a = 0; a < r; a++) for (let t = 0; t < 4; t++) Wp[4 * a + t] = W[a * cols + b + t];
+      const o0 = out[b];
+      const o1 = out[b + 1];
+      const o2 = out[b + 2];
+      const o3 = out[b + 3];
+      let j = c0;
+      for (; j + 3 < c1; j += 4) {
+        let s00 = 0, s10 = 0, s20 = 0, s30 = 0, s01 = 0, s11 = 0, s21 = 0, s31 = 0;
+        let s02 = 0, s12 = 0, s22 = 0, s32 = 0, s03 = 0, s13 = 0, s23 = 0, s33 = 0;
+        for (let a = 0; a < r; a++) {
+          const p = P[a];
+          const w0 = Wp[4 * a];
+          const w1 = Wp[4 * a + 1];
+          const w2 = Wp[4 * a + 2];
+          const w3 = Wp[4 * a + 3];
+          const x0 = p[j];
+          const x1 = p[j + 1];
+          const x2 = p[j + 2];
+          const x3 = p[j + 3];
+          s00 += x0 * w0;
+          s10 += x1 * w0;
+          s20 += x2 * w0;
+          s30 += x3 * w0;
+          s01 += x0 * w1;
+          s11 += x1 * w1;
+          s21 += x2 * w1;
+          s31 += x3 * w1;
+          s02 += x0 * w2;
+          s12 += x1 * w2;
+          s22 += x2 * w2;
+          s32 += x3 * w2;
+          s03 += x0 * w3;
+          s13 += x1 * w3;
+          s23 += x2 * w3;
+          s33 += x3 * w3;
+        }
+        o0[j] = s00;
+        o0[j + 1] = s10;
+        o0[j + 2] = s20;
+        o0[j + 3] = s30;
+        o1[j] = s01;
+        o1[j + 1] = s11;
+        o1[j + 2] = s21;
+        o1[j + 3] = s31;
+        o2[j] = s02;
+        o2[j + 1] = s12;
+        o2[j + 2] = s22;
+        o2[j + 3] = s32;
+        o3[j] = s03;
+        o3[j + 1] = s13;
+        o3[j + 2] = s23;
+        o3[j + 3] = s33;
+      }
+      for (; j < c1; j++)
+        for (let t = 0; t < 4; t++) {
+          let s = 0;
+          for (let a = 0; a < r; a++) s += P[a][j] * Wp[4 * a + t];
+          out[b + t][j] = s;
+        }
+    }
+    // the last cols mod 4 outputs: one input at a time over the chunk (the same sums, in order)
+    for (; b < cols; b++) {
+      const o = out[b];
+      for (let a = 0; a < r; a++) {
+        const w = W[a * cols + b];
+        const p = P[a];
+        for (let j = c0; j < c1; j++) o[j] += p[j] * w;
+      }
+    }
+  }
 }
 
 /** Polar factor W = U Vᴴ of a complex r×r matrix M = U Σ Vᴴ given row-major (im null when real). */

@@ -127,18 +127,35 @@ function fitLine(xs: number[], ys: number[], ws: number[]): { slope: number; r2:
   return { slope, r2 };
 }
 
+/** Cell distances of the fixed anchors (sides, corners) per geometry, by anchor name: the same for every vector. */
+const fixedRings = new WeakMap<Geometry, Map<string, Int32Array>>();
+
+/** The distance of every cell from the anchor (once per cell, not per joint; cached for fixed anchors). */
+function ringsOfCells(geo: Geometry, dist: (cell: number) => number, cacheAs: string | null): Int32Array {
+  let cache = fixedRings.get(geo);
+  if (cacheAs !== null && cache?.has(cacheAs)) return cache.get(cacheAs)!;
+  const cells = geo.ax.N1 * geo.ax.N2;
+  const cellRing = new Int32Array(cells);
+  for (let c = 0; c < cells; c++) cellRing[c] = dist(c);
+  if (cacheAs !== null) {
+    if (!cache) fixedRings.set(geo, (cache = new Map()));
+    cache.set(cacheAs, cellRing);
+  }
+  return cellRing;
+}
+
 function fitAnchor(geo: Geometry, w: Float64Array, anchor: Anchor, dist: (cell: number) => number): AnchorFit {
   const J = w.length;
-  const ringW: number[] = [];
-  const ringN: number[] = [];
+  // the distance of every cell once, then the sums over joints in their order
+  const cellRing = ringsOfCells(geo, dist, anchor.kind === 'point' ? null : `${anchor.kind}:${anchor.name}`);
+  let maxRing = 0;
+  for (let k = 0; k < J; k++) maxRing = Math.max(maxRing, cellRing[geo.jointCell[k]]);
+  const ringW = new Float64Array(maxRing + 1);
+  const ringN = new Int32Array(maxRing + 1);
   let total = 0;
   let first = 0;
   for (let k = 0; k < J; k++) {
-    const r = dist(geo.jointCell[k]);
-    while (ringW.length <= r) {
-      ringW.push(0);
-      ringN.push(0);
-    }
+    const r = cellRing[geo.jointCell[k]];
     ringW[r] += w[k];
     ringN[r]++;
     total += w[k];
@@ -149,7 +166,7 @@ function fitAnchor(geo: Geometry, w: Float64Array, anchor: Anchor, dist: (cell: 
   let hw = 0;
   for (let r = 0; r <= Math.min(head, rings - 1); r++) hw += ringW[r];
   hw /= total || 1;
-  const amp = ringW.map((x, r) => (ringN[r] ? Math.sqrt(x / ringN[r]) : 0));
+  const amp = Array.from(ringW, (x, r) => (ringN[r] ? Math.sqrt(x / ringN[r]) : 0));
   const amax = Math.max(...amp);
   const xs: number[] = [];
   const ys: number[] = [];

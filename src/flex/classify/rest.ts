@@ -32,9 +32,9 @@ export function restOf(ctx: Ctx, span: Span, f: number, takenIndices: number[], 
   if (f === 0) return { rest, inside: 0, leakage: 0, separation: null };
   if (takenIndices.length === f && !measure) return { rest, inside: f, leakage: null, separation: null };
   if (takenIndices.length === 0) {
-    // nothing taken: the rest is the whole flex space
-    const phi = ctx.flexBasis();
-    return { rest: phi.map((v) => ({ re: Float64Array.from(v.re), im: Float64Array.from(v.im) })), inside: 0, leakage: 0, separation: 1 };
+    // nothing taken: the rest is the whole flex space, the flex basis itself (shared, not
+    // copied: the steps after this only read the rest)
+    return { rest: ctx.flexBasis(), inside: 0, leakage: 0, separation: 1 };
   }
   // the global flex basis is needed only for a rest (the count f is known without it)
   return principalSplit(ctx.flexBasis(), span.orthonormal(takenIndices), !ctx.basisComplex());

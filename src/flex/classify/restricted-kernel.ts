@@ -11,44 +11,86 @@ import type { Ctx, RestrictedMethod } from './context.js';
 import { combine, scaleInPlace, subtractProjection, type Block } from './cvec-ops.js';
 import { projectOntoNullSpace, psdNullSpace } from './null-space.js';
 
+/** Per matrix: global column → local column (−1 outside) and a row marker, reused by every call (reset after). */
+const restrictScratch = new WeakMap<SparseMatrix, { col: Int32Array; rowMark: Int32Array; stamp: number }>();
+
 /**
  * The rows of R touching `joints`, restricted to those joints' columns (x, y per joint, in
- * the order given). Entries at other joints are left out: those joints do not move.
+ * the order given). Entries at other joints are left out: those joints do not move. Rows in
+ * increasing order, each row's entries by local column (equal columns in their order in R).
+ * Called once per window and strip, so it works in scratch arrays kept per R rather than maps.
  */
 export function restrictedMatrix(R: SparseMatrix, rowsOfJoint: Int32Array[], joints: number[]): { matrix: SparseMatrix; dofs: Int32Array } {
-  const colOf = new Map<number, number>();
+  let scratch = restrictScratch.get(R);
+  if (!scratch) {
+    scratch = { col: new Int32Array(R.cols).fill(-1), rowMark: new Int32Array(R.rows), stamp: 0 };
+    restrictScratch.set(R, scratch);
+  }
+  if (scratch.stamp >= 0x7fffffff) {
+    scratch.rowMark.fill(0);
+    scratch.stamp = 0;
+  }
+  const stamp = ++scratch.stamp;
+  const { col, rowMark } = scratch;
   const dofs = new Int32Array(2 * joints.length);
   joints.forEach((j, t) => {
-    colOf.set(2 * j, 2 * t);
-    colOf.set(2 * j + 1, 2 * t + 1);
     dofs[2 * t] = 2 * j;
     dofs[2 * t + 1] = 2 * j + 1;
   });
-  const rowSet = new Set<number>();
-  for (const j of joints) for (const r of rowsOfJoint[j]) rowSet.add(r);
-  const rows = [...rowSet].sort((a, b) => a - b);
-  const rowPtr = new Int32Array(rows.length + 1);
-  const colIdx: number[] = [];
-  const re: number[] = [];
-  const im: number[] = [];
-  rows.forEach((r, t) => {
-    const entries: [number, number, number][] = [];
-    for (let k = R.rowPtr[r]; k < R.rowPtr[r + 1]; k++) {
-      const c = colOf.get(R.colIdx[k]);
-      if (c !== undefined) entries.push([c, R.re[k], R.im ? R.im[k] : 0]);
+  try {
+    joints.forEach((j, t) => {
+      col[2 * j] = 2 * t;
+      col[2 * j + 1] = 2 * t + 1;
+    });
+    let nRows = 0;
+    for (const j of joints)
+      for (const r of rowsOfJoint[j])
+        if (rowMark[r] !== stamp) {
+          rowMark[r] = stamp;
+          nRows++;
+        }
+    const rows = new Int32Array(nRows);
+    let t = 0;
+    for (const j of joints)
+      for (const r of rowsOfJoint[j])
+        if (rowMark[r] === stamp) {
+          rowMark[r] = -stamp;
+          rows[t++] = r;
+        }
+    rows.sort();
+    let nnz = 0;
+    for (const r of rows) for (let k = R.rowPtr[r]; k < R.rowPtr[r + 1]; k++) if (col[R.colIdx[k]] >= 0) nnz++;
+    const rowPtr = new Int32Array(nRows + 1);
+    const colIdx = new Int32Array(nnz);
+    const re = new Float64Array(nnz);
+    const im = R.im ? new Float64Array(nnz) : null;
+    let e = 0;
+    rows.forEach((r, q) => {
+      const start = e;
+      for (let k = R.rowPtr[r]; k < R.rowPtr[r + 1]; k++) {
+        const c = col[R.colIdx[k]];
+        if (c < 0) continue;
+        // insertion by local column, after equal ones (a stable sort of the row)
+        let p = e++;
+        while (p > start && colIdx[p - 1] > c) {
+          colIdx[p] = colIdx[p - 1];
+          re[p] = re[p - 1];
+          if (im) im[p] = im[p - 1];
+          p--;
+        }
+        colIdx[p] = c;
+        re[p] = R.re[k];
+        if (im) im[p] = R.im![k];
+      }
+      rowPtr[q + 1] = e;
+    });
+    return { matrix: { rows: nRows, cols: dofs.length, rowPtr, colIdx, re, im }, dofs };
+  } finally {
+    for (const j of joints) {
+      col[2 * j] = -1;
+      col[2 * j + 1] = -1;
     }
-    entries.sort((a, b) => a[0] - b[0]);
-    for (const [c, vr, vi] of entries) {
-      colIdx.push(c);
-      re.push(vr);
-      im.push(vi);
-    }
-    rowPtr[t + 1] = colIdx.length;
-  });
-  return {
-    matrix: { rows: rows.length, cols: dofs.length, rowPtr, colIdx: Int32Array.from(colIdx), re: Float64Array.from(re), im: R.im ? Float64Array.from(im) : null },
-    dofs,
-  };
+  }
 }
 
 /**
