@@ -101,6 +101,42 @@ export function orthonormalise(b: Block, rand: () => number): void {
 }
 
 /**
+ * out[offset + k] = Σ_i x[i]·ys[k][i] for every k ≥ from, four columns at a time (independent
+ * sums, x read once per four); each sum runs over i in increasing order, as a plain dot product's.
+ */
+export function realDots(x: Float64Array, ys: Float64Array[], from: number, out: Float64Array, offset: number): void {
+  const n = x.length;
+  let k = from;
+  for (; k + 3 < ys.length; k += 4) {
+    const y0 = ys[k];
+    const y1 = ys[k + 1];
+    const y2 = ys[k + 2];
+    const y3 = ys[k + 3];
+    let s0 = 0;
+    let s1 = 0;
+    let s2 = 0;
+    let s3 = 0;
+    for (let i = 0; i < n; i++) {
+      const v = x[i];
+      s0 += v * y0[i];
+      s1 += v * y1[i];
+      s2 += v * y2[i];
+      s3 += v * y3[i];
+    }
+    out[offset + k] = s0;
+    out[offset + k + 1] = s1;
+    out[offset + k + 2] = s2;
+    out[offset + k + 3] = s3;
+  }
+  for (; k < ys.length; k++) {
+    const y = ys[k];
+    let s = 0;
+    for (let i = 0; i < n; i++) s += x[i] * y[i];
+    out[offset + k] = s;
+  }
+}
+
+/**
  * G[a][b] = Σ_i conj(x_a[i])·x_b[i] for a ≤ b (the upper triangle of the row-major k×k G, which
  * is overwritten), straight from the columns: four columns b at a time for real data and two for
  * complex, so each x_a is read once per group (the row-by-row form streamed all of G past every
@@ -116,33 +152,7 @@ function gramUpper(X: Block, Gr: Float64Array, Gi: Float64Array | null): void {
     const g = a * k;
     let b = a;
     if (!I || !Gi) {
-      for (; b + 3 < k; b += 4) {
-        const x0 = R[b];
-        const x1 = R[b + 1];
-        const x2 = R[b + 2];
-        const x3 = R[b + 3];
-        let s0 = 0;
-        let s1 = 0;
-        let s2 = 0;
-        let s3 = 0;
-        for (let i = 0; i < n; i++) {
-          const v = ar[i];
-          s0 += v * x0[i];
-          s1 += v * x1[i];
-          s2 += v * x2[i];
-          s3 += v * x3[i];
-        }
-        Gr[g + b] = s0;
-        Gr[g + b + 1] = s1;
-        Gr[g + b + 2] = s2;
-        Gr[g + b + 3] = s3;
-      }
-      for (; b < k; b++) {
-        const x = R[b];
-        let s = 0;
-        for (let i = 0; i < n; i++) s += ar[i] * x[i];
-        Gr[g + b] = s;
-      }
+      realDots(ar, R, a, Gr, g);
       continue;
     }
     const ai = I[a];

@@ -11,6 +11,7 @@
  * strain mode is hidden inside boundary-anchored vectors.
  */
 import { Matrix, SingularValueDecomposition } from 'ml-matrix';
+import { realDots } from '../../linalg/block.js';
 import { cdot as dot, cnorm as norm } from '../../linalg/complex.js';
 import { resolveBars } from '../../framework/types.js';
 import type { Supercell } from '../../supercell/supercell.js';
@@ -92,44 +93,6 @@ export interface AffineRest {
   dropped: number | null;
 }
 
-/** Σ_i a_i b_i for real arrays. */
-function realDot(a: Float64Array, b: Float64Array): number {
-  let s = 0;
-  for (let i = 0; i < a.length; i++) s += a[i] * b[i];
-  return s;
-}
-
-/**
- * realDot(x, ys[k]) for every k into out[k], four at a time (independent sums, x read once per
- * four): each the sum over i in increasing order, the numbers of `realDot`.
- */
-function realDots(x: Float64Array, ys: Float64Array[], out: Float64Array): void {
-  const n = x.length;
-  let k = 0;
-  for (; k + 3 < ys.length; k += 4) {
-    const y0 = ys[k];
-    const y1 = ys[k + 1];
-    const y2 = ys[k + 2];
-    const y3 = ys[k + 3];
-    let s0 = 0;
-    let s1 = 0;
-    let s2 = 0;
-    let s3 = 0;
-    for (let i = 0; i < n; i++) {
-      const xi = x[i];
-      s0 += xi * y0[i];
-      s1 += xi * y1[i];
-      s2 += xi * y2[i];
-      s3 += xi * y3[i];
-    }
-    out[k] = s0;
-    out[k + 1] = s1;
-    out[k + 2] = s2;
-    out[k + 3] = s3;
-  }
-  for (; k < ys.length; k++) out[k] = realDot(x, ys[k]);
-}
-
 /** Hermitian r×r eigen-decomposition, largest first (small dense; r ≤ 2·joints per cell + 4). */
 function smallEigen(G: Matrix): { values: number[]; vectors: Matrix } {
   const svd = new SingularValueDecomposition(G, { autoTranspose: false });
@@ -154,7 +117,7 @@ export function splitAffine(sc: Supercell, flexBasis: Cx[], rest: Cx[]): AffineR
   const fieldsRe = F.map((x) => x.re);
   const dotsOfPhi = new Float64Array(F.length);
   flexBasis.forEach((p, b) => {
-    if (realPhi[b]) realDots(p.re, fieldsRe, dotsOfPhi);
+    if (realPhi[b]) realDots(p.re, fieldsRe, 0, dotsOfPhi, 0);
     F.forEach((x, a) => (C[a][b] = realPhi[b] ? [dotsOfPhi[a], 0] : dot(p, x)));
   });
   const G = new Matrix(t, t);
@@ -186,7 +149,7 @@ export function splitAffine(sc: Supercell, flexBasis: Cx[], rest: Cx[]): AffineR
   const inKRe = inK.map((x) => x.re);
   const dotsOfRest = new Float64Array(inK.length);
   for (let i = 0; i < r; i++) {
-    if (realRest) realDots(rest[i].re, inKRe, dotsOfRest);
+    if (realRest) realDots(rest[i].re, inKRe, 0, dotsOfRest, 0);
     for (let a = 0; a < inK.length; a++) {
       const [re, im] = realRest ? [dotsOfRest[a], 0] : dot(rest[i], inK[a]);
       M.set(i, a, re);
@@ -258,7 +221,7 @@ export function complementCoefficients(rest: Cx[], affine: Cx[]): SpanPart | nul
   const affineRe = affine.map((x) => x.re);
   for (let i = 0; i < r; i++) {
     if (real) {
-      realDots(rest[i].re, affineRe, Yre.subarray(i * a, (i + 1) * a));
+      realDots(rest[i].re, affineRe, 0, Yre, i * a);
       continue;
     }
     for (let k = 0; k < a; k++) {
