@@ -88,29 +88,26 @@ export function nestedDissection(g: Graph, options: OrderingOptions = {}): Int32
         lowCount++;
       }
     }
-    // the one-sided boundaries of the cut; the smaller is the separator
-    const boundary = (side: number): number => {
-      let count = 0;
-      const { ptr, adj } = g;
-      for (let t = 0; t < nodes.length; t++) {
-        const v = nodes[t];
-        inBoundary[v] = 0;
-        if (isLow[v] !== side) continue;
-        for (let k = ptr[v]; k < ptr[v + 1]; k++) {
-          const u = adj[k];
-          if (label[u] === id && isLow[u] !== side) {
-            inBoundary[v] = 1;
-            count++;
-            break;
-          }
+    // the one-sided boundaries of the cut, both in one pass (a node is on its side's boundary when
+    // a neighbour in the subset lies across the cut); the smaller is the separator
+    let lowBoundary = 0;
+    let highBoundary = 0;
+    const { ptr, adj } = g;
+    for (let t = 0; t < nodes.length; t++) {
+      const v = nodes[t];
+      const side = isLow[v];
+      inBoundary[v] = 0;
+      for (let k = ptr[v]; k < ptr[v + 1]; k++) {
+        const u = adj[k];
+        if (label[u] === id && isLow[u] !== side) {
+          inBoundary[v] = 1;
+          if (side) lowBoundary++;
+          else highBoundary++;
+          break;
         }
       }
-      return count;
-    };
-    const lowBoundary = boundary(1);
-    const highBoundary = boundary(0);
+    }
     const sepSide = lowBoundary <= highBoundary ? 1 : 0;
-    if (sepSide === 1) boundary(1);
     const sepSize = Math.min(lowBoundary, highBoundary);
     if (sepSize >= nodes.length / 2) return null;
     const A = new Int32Array(lowCount - (sepSide === 1 ? sepSize : 0));
