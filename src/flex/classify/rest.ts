@@ -2,6 +2,7 @@
  * Step 3, the rest: ker R ⊖ (L ⊕ lines), the orthogonal complement in the flex space of the
  * local and line flexes taken (short pieces and corner-confined window flexes belong to it).
  */
+import { realDots } from '../../linalg/block.js';
 import { cdot as dot, cnorm as norm } from '../../linalg/complex.js';
 import type { Ctx } from './context.js';
 import { addScaled, hermitianEigen, scaleInPlace, subtractProjection, type Cx } from './cvec-ops.js';
@@ -53,28 +54,43 @@ export function principalSplit(phi: Cx[], taken: Cx[], real: boolean): { rest: C
   const n = s ? phi[0].re.length : 0;
   const Cre = new Float64Array(d * s);
   const Cim = new Float64Array(d * s);
-  for (let a = 0; a < d; a++)
-    for (let b = 0; b < s; b++) {
-      const [sr, si] = dot(taken[a], phi[b]);
-      Cre[a * s + b] = sr;
-      Cim[a * s + b] = si;
-    }
+  if (real) {
+    // real vectors: the real parts' dot products, four at a time (the same sums as the complex
+    // dot's, whose imaginary terms are all zero); C has s entries a row
+    const phiRe = phi.map((v) => v.re);
+    for (let a = 0; a < d; a++) realDots(taken[a].re, phiRe, 0, Cre, a * s);
+  } else
+    for (let a = 0; a < d; a++)
+      for (let b = 0; b < s; b++) {
+        const [sr, si] = dot(taken[a], phi[b]);
+        Cre[a * s + b] = sr;
+        Cim[a * s + b] = si;
+      }
+  // G = I − CᴴC, Hermitian: the upper triangle summed, the lower one its conjugate (the same
+  // numbers: each entry's sum runs over c in the same order either way)
   const Gre = new Float64Array(s * s);
   const Gim = real ? null : new Float64Array(s * s);
   for (let a = 0; a < s; a++)
-    for (let b = 0; b < s; b++) {
+    for (let b = a; b < s; b++) {
       let sr = a === b ? 1 : 0;
       let si = 0;
-      for (let c = 0; c < d; c++) {
-        const xr = Cre[c * s + a];
-        const xi = Cim[c * s + a];
-        const yr = Cre[c * s + b];
-        const yi = Cim[c * s + b];
-        sr -= xr * yr + xi * yi;
-        si -= xr * yi - xi * yr;
-      }
+      if (real)
+        for (let c = 0; c < d; c++) sr -= Cre[c * s + a] * Cre[c * s + b];
+      else
+        for (let c = 0; c < d; c++) {
+          const xr = Cre[c * s + a];
+          const xi = Cim[c * s + a];
+          const yr = Cre[c * s + b];
+          const yi = Cim[c * s + b];
+          sr -= xr * yr + xi * yi;
+          si -= xr * yi - xi * yr;
+        }
       Gre[a * s + b] = sr;
-      if (Gim) Gim[a * s + b] = si;
+      Gre[b * s + a] = sr;
+      if (Gim) {
+        Gim[a * s + b] = si;
+        Gim[b * s + a] = a === b ? si : -si;
+      }
     }
   const eig = hermitianEigen(Gre, Gim, s);
   // ascending eigenvalues: the taken span holds those ≤ ½ (at most d of them)
