@@ -151,12 +151,13 @@ export function estimateRun(fw: Framework, cells: [number, number], boundary: Bo
     // each side's factor as the sparse solver picks it (sparse/factors.ts factorPlan): the band,
     // or the nested-dissection LDLᴴ when the side is large and it needs under half the flops
     const side = (dim: number, b: number, width: number) => {
-      const band = { words: dim * (b + 1), flops: dim * (b + 1) ** 2, b, sparse: false };
+      // words: 8-byte words the factor keeps (×2 complex); the sparse one ~1.5 a nonzero of L with its indices
+      const band = { nnzL: dim * (b + 1), words: dim * (b + 1), flops: dim * (b + 1) ** 2, b, sparse: false };
       const nd = nestedDissectionCost(dim, width, b, aspect);
       // the choice compares with the band at halfBandwidths' own width (RCM's gain ranges over
       // 0.65–1.0; on triangular 64×64 it is 1.0, and the solver picks the sparse factor there)
       const unscaled = dim * (Math.min(dim, b / RCM_GAIN) + 1) ** 2;
-      return dim >= SPARSE_MIN_DIM && nd.flops < 0.5 * unscaled ? { words: 1.5 * nd.nnzL, flops: nd.flops, b, sparse: true } : band;
+      return dim >= SPARSE_MIN_DIM && nd.flops < 0.5 * unscaled ? { nnzL: nd.nnzL, words: 1.5 * nd.nnzL, flops: nd.flops, b, sparse: true } : band;
     };
     const flex = side(dimFlex, bFlex, widths.flex);
     const stress = side(dimStress, bStress, widths.stress);
@@ -164,7 +165,7 @@ export function estimateRun(fw: Framework, cells: [number, number], boundary: Bo
     const [dim, counted] = dimStress <= dimFlex ? [dimStress, stress] : [dimFlex, flex];
     const factor = 8 * f * (bases ? Math.max(flex.words, stress.words) : counted.words);
     const seconds = (1.5e-9 * counted.flops * (cplx ? 4 : 1) + (counted.sparse ? 2.5e-5 * dim : 2e-7 * dim * counted.b)) * (bases ? 2 : 1);
-    const figures = { method: counted.sparse ? ('sparse-ldl' as const) : ('band' as const), nnzL: counted.sparse ? counted.words / 1.5 : counted.words, flops: counted.flops * (cplx ? 4 : 1) };
+    const figures = { method: counted.sparse ? ('sparse-ldl' as const) : ('band' as const), nnzL: counted.nnzL, flops: counted.flops * (cplx ? 4 : 1) };
     return { bytes: factor + WORK_VECTORS * 8 * f * Math.max(dimFlex, dimStress), seconds, b: counted.b, sparse: counted.sparse, figures };
   };
 
