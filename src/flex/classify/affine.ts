@@ -80,11 +80,7 @@ export function affineFields(sc: Supercell): Cx[] {
 export interface AffineRest {
   /** Orthonormal vectors of the rest that are affine flexes (bulk by nature). */
   affine: Cx[];
-  /**
-   * The rest with them taken out: rest·part.E (orthonormal; part null: all of `rest`). `rest` is
-   * the input rest, or, when the affine vectors could not be removed by coefficients (they are
-   * built inside the rest, so only by a failure of that), the result formed by Gram–Schmidt.
-   */
+  /** The input rest; with the affine vectors taken out it is rest·part.E (orthonormal; part null: all of `rest`). */
   rest: Cx[];
   part: SpanPart | null;
   /** Dimension of the affine fields that are flexes, and the singular values beside the rest cut. */
@@ -195,8 +191,9 @@ export function splitAffine(sc: Supercell, flexBasis: Cx[], rest: Cx[]): AffineR
   if (affine.length === 0) return { ...none, inKernel: inK.length, dropped };
   // 3. rest ⊖ affine, as coefficients of the rest
   const part = complementCoefficients(rest, affine);
-  if (part) return { affine, rest, part, inKernel: inK.length, kept, dropped };
-  return { affine, rest: complementByGramSchmidt(rest, affine), part: null, inKernel: inK.length, kept, dropped };
+  // the affine vectors are combinations of the rest vectors, orthonormalised: Y has orthonormal columns
+  if (!part) throw new Error('classify: an affine flex vector lies outside the rest it was built from (internal error)');
+  return { affine, rest, part, inKernel: inK.length, kept, dropped };
 }
 
 /**
@@ -207,8 +204,8 @@ export function splitAffine(sc: Supercell, flexBasis: Cx[], rest: Cx[]): AffineR
  * Hopkins, 2013, §5.1–5.2; from memory), so the last r − a columns of Q = H_1⋯H_a are an
  * orthonormal basis of the complement of range Y in Cʳ: C = Q(:, a:). Costs a·r passes over
  * the vectors for Y and r×r work; the vectors rest·C are never formed here. null when a column
- * of Y is shorter than ½ after the earlier reflections (an affine vector outside span(rest));
- * the caller then falls back to Gram–Schmidt.
+ * of Y is shorter than ½ after the earlier reflections (an affine vector outside span(rest),
+ * which splitAffine's construction rules out).
  */
 export function complementCoefficients(rest: Cx[], affine: Cx[]): SpanPart | null {
   const r = rest.length;
@@ -298,32 +295,4 @@ export function complementCoefficients(rest: Cx[], affine: Cx[]): SpanPart | nul
     }
   }
   return { E: { re, im }, m };
-}
-
-/**
- * span(rest) ⊖ span(affine) by Gram–Schmidt: every rest vector without its affine components,
- * longest first, orthonormalised against the affine vectors and those kept (two passes),
- * dropping the lost directions. The fallback of `complementInSpan`.
- */
-function complementByGramSchmidt(rest: Cx[], affine: Cx[]): Cx[] {
-  const r = rest.length;
-  const left: Cx[] = [];
-  const candidates = rest.map((x) => ({ re: x.re.slice(), im: x.im.slice() }));
-  const scored = candidates.map((v) => {
-    for (let pass = 0; pass < 2; pass++) for (const u of affine) subtractProjection(v, u);
-    return { v, size: norm(v) };
-  });
-  scored.sort((a, b) => b.size - a.size);
-  for (const { v } of scored) {
-    if (left.length === r - affine.length) break;
-    for (let pass = 0; pass < 2; pass++) {
-      for (const u of affine) subtractProjection(v, u);
-      for (const u of left) subtractProjection(v, u);
-    }
-    const nv = norm(v);
-    if (nv < 1e-6) continue;
-    scaleInPlace(v, 1 / nv);
-    left.push(v);
-  }
-  return left;
 }
