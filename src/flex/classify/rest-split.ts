@@ -173,12 +173,10 @@ function weightedGram(d: Float64Array, psi: Cx[], real: boolean): { re: Float64A
           Are[(a + 1) * r + b] += realWeightedDot(d, k0, k1, psi[a + 1].re, psi[b].re);
         }
       }
+    // the last row when r is odd (real), or every row (complex)
     for (let a = a0; a < r; a++)
       for (let b = a; b < r; b++) {
-        if (real && b + 3 < r) {
-          realWeightedDot4(d, k0, k1, psi[a].re, psi[b].re, psi[b + 1].re, psi[b + 2].re, psi[b + 3].re, Are, a * r + b);
-          b += 3;
-        } else if (real) Are[a * r + b] += realWeightedDot(d, k0, k1, psi[a].re, psi[b].re);
+        if (real) Are[a * r + b] += realWeightedDot(d, k0, k1, psi[a].re, psi[b].re);
         else {
           weightedDot(d, k0, k1, psi[a], psi[b], out);
           Are[a * r + b] += out[0];
@@ -253,29 +251,6 @@ function realWeightedDot2x4(d: Float64Array, k0: number, k1: number, a0: Float64
   out[o + r + 1] += s11;
   out[o + r + 2] += s12;
   out[o + r + 3] += s13;
-}
-
-/** `realWeightedDot` of a with b0…b3 at once (four independent sums, a loaded once), added to out[o…o+3]. */
-function realWeightedDot4(d: Float64Array, k0: number, k1: number, ar: Float64Array, b0: Float64Array, b1: Float64Array, b2: Float64Array, b3: Float64Array, out: Float64Array, o: number): void {
-  let s0 = 0;
-  let s1 = 0;
-  let s2 = 0;
-  let s3 = 0;
-  for (let k = k0; k < k1; k++) {
-    const dk = d[k];
-    if (dk === 0) continue;
-    const i = 2 * k;
-    const x = ar[i];
-    const y = ar[i + 1];
-    s0 += dk * (x * b0[i] + y * b0[i + 1]);
-    s1 += dk * (x * b1[i] + y * b1[i + 1]);
-    s2 += dk * (x * b2[i] + y * b2[i + 1]);
-    s3 += dk * (x * b3[i] + y * b3[i + 1]);
-  }
-  out[o] += s0;
-  out[o + 1] += s1;
-  out[o + 2] += s2;
-  out[o + 3] += s3;
 }
 
 /**
