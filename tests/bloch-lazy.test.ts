@@ -13,7 +13,8 @@ import { rigidMotions } from '../src/flex/rigid.js';
 import { buildGallery } from '../src/framework/gallery.js';
 import { resolveBars, type Framework } from '../src/framework/types.js';
 import { parseBoundary, type AxisRule, type Boundary } from '../src/supercell/boundary.js';
-import { rigidityApply } from '../src/supercell/rigidity.js';
+import { SparseBuilder, type SparseMatrix } from '../src/linalg/sparse.js';
+import { rigidityApply, rigidityMatrix, scaledBarVectors } from '../src/supercell/rigidity.js';
 import { buildSupercell, type Supercell } from '../src/supercell/supercell.js';
 import { randomFramework } from './helpers.js';
 
@@ -67,6 +68,60 @@ function bruteCounts(fw: Framework, cells: [number, number], b: Boundary): { row
 
 const BOUNDARIES = ['free', 'pinned', 'periodic', 'twist:0.25,0.1', 'x=periodic', 'y=twist:0.3,left=pinned', 'x=periodic,bottom=pinned,top=free', 'left=pinned,top=pinned'];
 
+/**
+ * Each row against the geometry of the infinite framework: the `from` end is the unit-cell bar's
+ * `from` site in its cell (i, j), and the `to` end, moved back by the wraps times the supercell's
+ * periods, lies one bar vector further; a fixed end lies outside a free or pinned side.
+ */
+function checkRowGeometry(fw: Framework, sc: Supercell): void {
+  const bars = resolveBars(fw);
+  const [a1, a2] = fw.lattice;
+  const [N1, N2] = sc.cells;
+  const rules = [sc.boundary.x, sc.boundary.y];
+  const at = (site: number, i: number, j: number) => [fw.joints[site].at[0] + i * a1[0] + j * a2[0], fw.joints[site].at[1] + i * a1[1] + j * a2[1]];
+  for (const row of sc.bars) {
+    const bar = bars[row.source];
+    const [i, j] = row.cell;
+    const from = at(bar.from, i, j);
+    const to = at(bar.to, i + bar.shift[0], j + bar.shift[1]);
+    if (row.a >= 0) {
+      expect(sc.jointSites[row.a]).toBe(bar.from);
+      const [wi, wj] = rules.map((r, ax) => (r.kind === 'twist' ? Math.floor([i, j][ax] / [N1, N2][ax]) : 0));
+      const p = [from[0] - wi * N1 * a1[0] - wj * N2 * a2[0], from[1] - wi * N1 * a1[1] - wj * N2 * a2[1]];
+      expect(sc.positions[2 * row.a]).toBeCloseTo(p[0], 9);
+      expect(sc.positions[2 * row.a + 1]).toBeCloseTo(p[1], 9);
+    }
+    if (row.b >= 0) {
+      expect(sc.jointSites[row.b]).toBe(bar.to);
+      const [w1, w2] = row.wraps;
+      expect(sc.positions[2 * row.b] + w1 * N1 * a1[0] + w2 * N2 * a2[0]).toBeCloseTo(to[0], 9);
+      expect(sc.positions[2 * row.b + 1] + w1 * N1 * a1[1] + w2 * N2 * a2[1]).toBeCloseTo(to[1], 9);
+    }
+    expect(row.grounded).toBe(row.a < 0 || row.b < 0);
+    expect(Math.hypot(row.phase[0], row.phase[1])).toBeCloseTo(1, 14);
+  }
+}
+
+/** R as the definition reads, summed entry by entry through SparseBuilder from the row objects. */
+function builderRigidity(sc: Supercell): SparseMatrix {
+  const B = new SparseBuilder(2 * sc.jointCount);
+  const p = scaledBarVectors(sc.framework, sc.lengthScale);
+  for (const bar of sc.bars) {
+    const r = B.newRow();
+    const [px, py] = [p[2 * bar.source], p[2 * bar.source + 1]];
+    if (bar.a >= 0) {
+      B.add(r, 2 * bar.a, -px);
+      B.add(r, 2 * bar.a + 1, -py);
+    }
+    if (bar.b >= 0) {
+      const [cr, ci] = bar.phase;
+      B.add(r, 2 * bar.b, cr * px, ci * px);
+      B.add(r, 2 * bar.b + 1, cr * py, ci * py);
+    }
+  }
+  return B.build(!sc.real);
+}
+
 describe('supercell counts known without listing the rows', () => {
   const frameworks: [string, Framework][] = [
     ['kagome', buildGallery('gallery:kagome')],
@@ -87,6 +142,15 @@ describe('supercell counts known without listing the rows', () => {
           expect(sc.bars.filter((r) => r.a < 0 || r.b < 0).length).toBe(sc.grounded);
           expect(sc.positions.length).toBe(2 * sc.jointCount);
           expect(sc.jointSites.length).toBe(sc.jointCount);
+          checkRowGeometry(fw, sc);
+          // R from the typed rows, entry for entry (bit for bit) as assembled from the row objects
+          const R = rigidityMatrix(sc);
+          const B = builderRigidity(sc);
+          expect({ rows: R.rows, cols: R.cols }).toEqual({ rows: B.rows, cols: B.cols });
+          expect(Array.from(R.rowPtr)).toEqual(Array.from(B.rowPtr));
+          expect(Array.from(R.colIdx)).toEqual(Array.from(B.colIdx));
+          expect(Array.from(R.re)).toEqual(Array.from(B.re));
+          expect(R.im ? Array.from(R.im) : null).toEqual(B.im ? Array.from(B.im) : null);
         });
       }
 
@@ -104,7 +168,7 @@ describe('supercell counts known without listing the rows', () => {
 
 /** The supercell, refusing every read of its rows and joint arrays. */
 function guarded(sc: Supercell): Supercell {
-  const refused = new Set(['bars', 'positions', 'jointCells', 'jointSites']);
+  const refused = new Set(['rows', 'bars', 'positions', 'jointCells', 'jointSites']);
   return new Proxy(sc, {
     get(target, key, receiver) {
       if (typeof key === 'string' && refused.has(key)) throw new Error(`the Bloch count read supercell.${key}`);

@@ -8,7 +8,7 @@
  * Flexes are ker R, self-stresses ker Rᴴ.
  */
 import { resolveBars, type Framework } from '../framework/types.js';
-import { SparseBuilder, type SparseMatrix } from '../linalg/sparse.js';
+import type { SparseMatrix } from '../linalg/sparse.js';
 import type { Supercell } from './supercell.js';
 
 /**
@@ -42,23 +42,62 @@ export function scaledBarVectors(fw: Framework, lengthScale: number, negligible 
 }
 
 export function rigidityMatrix(sc: Supercell): SparseMatrix {
-  const B = new SparseBuilder(2 * sc.jointCount);
   const p = scaledBarVectors(sc.framework, sc.lengthScale);
-  for (const bar of sc.bars) {
-    const r = B.newRow();
-    const px = p[2 * bar.source];
-    const py = p[2 * bar.source + 1];
-    if (bar.a >= 0) {
-      B.add(r, 2 * bar.a, -px);
-      B.add(r, 2 * bar.a + 1, -py);
+  const { count: m, a: A, b: B, source, phase } = sc.rows;
+  const complex = !sc.real;
+  // at most 4 entries per row, in column order; the two ends' entries are summed when a bar
+  // joins a joint to itself (a one-cell twisted axis), in the order −p then φ·p
+  const rowPtr = new Int32Array(m + 1);
+  let nnz = 0;
+  for (let r = 0; r < m; r++) nnz += (A[r] >= 0 ? 2 : 0) + (B[r] >= 0 && B[r] !== A[r] ? 2 : 0);
+  const colIdx = new Int32Array(nnz);
+  const re = new Float64Array(nnz);
+  const im = complex ? new Float64Array(nnz) : null;
+  const putB = (k: number, b: number, px: number, py: number, cr: number, ci: number): number => {
+    colIdx[k] = 2 * b;
+    re[k] = cr * px;
+    colIdx[k + 1] = 2 * b + 1;
+    re[k + 1] = cr * py;
+    if (im) {
+      im[k] = ci * px;
+      im[k + 1] = ci * py;
     }
-    if (bar.b >= 0) {
-      const [cr, ci] = bar.phase;
-      B.add(r, 2 * bar.b, cr * px, ci * px);
-      B.add(r, 2 * bar.b + 1, cr * py, ci * py);
+    return k + 2;
+  };
+  let k = 0;
+  for (let r = 0; r < m; r++) {
+    const a = A[r];
+    const b = B[r];
+    const s = source[r];
+    const px = p[2 * s];
+    const py = p[2 * s + 1];
+    const cr = phase[2 * r];
+    const ci = phase[2 * r + 1];
+    if (a >= 0 && b === a) {
+      colIdx[k] = 2 * a;
+      // (0 + …: the fixed end's imaginary part is 0, and a sum never gives −0)
+      re[k] = -px + cr * px;
+      if (im) im[k] = 0 + ci * px;
+      colIdx[k + 1] = 2 * a + 1;
+      re[k + 1] = -py + cr * py;
+      if (im) im[k + 1] = 0 + ci * py;
+      k += 2;
+    } else {
+      // the lower-numbered end first
+      const bFirst = a >= 0 && b >= 0 && b < a;
+      if (bFirst) k = putB(k, b, px, py, cr, ci);
+      if (a >= 0) {
+        colIdx[k] = 2 * a;
+        re[k] = -px;
+        colIdx[k + 1] = 2 * a + 1;
+        re[k + 1] = -py;
+        k += 2;
+      }
+      if (b >= 0 && !bFirst) k = putB(k, b, px, py, cr, ci);
     }
+    rowPtr[r + 1] = k;
   }
-  return B.build(!sc.real);
+  return { rows: m, cols: 2 * sc.jointCount, rowPtr, colIdx, re, im };
 }
 
 /**
@@ -66,15 +105,18 @@ export function rigidityMatrix(sc: Supercell): SparseMatrix {
  * as rigidityMatrix, row by row. Only for real supercells (every phase ±1).
  */
 export function rigidityApply(sc: Supercell, u: Float64Array): Float64Array {
-  const out = new Float64Array(sc.bars.length);
+  const { count: m, a: A, b: B, source, phase } = sc.rows;
+  const out = new Float64Array(m);
   const p = scaledBarVectors(sc.framework, sc.lengthScale);
-  sc.bars.forEach((bar, r) => {
-    const px = p[2 * bar.source];
-    const py = p[2 * bar.source + 1];
+  for (let r = 0; r < m; r++) {
+    const px = p[2 * source[r]];
+    const py = p[2 * source[r] + 1];
+    const a = A[r];
+    const b = B[r];
     let v = 0;
-    if (bar.a >= 0) v += -px * u[2 * bar.a] - py * u[2 * bar.a + 1];
-    if (bar.b >= 0) v += bar.phase[0] * px * u[2 * bar.b] + bar.phase[0] * py * u[2 * bar.b + 1];
+    if (a >= 0) v += -px * u[2 * a] - py * u[2 * a + 1];
+    if (b >= 0) v += phase[2 * r] * px * u[2 * b] + phase[2 * r] * py * u[2 * b + 1];
     out[r] = v;
-  });
+  }
   return out;
 }

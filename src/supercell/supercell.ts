@@ -51,6 +51,8 @@ export interface Supercell {
   readonly jointSites: Int32Array;
   /** The rows of the rigidity matrix: kept and grounded bars (listed on first read; see buildSupercell). */
   readonly bars: SupercellBar[];
+  /** The same rows as typed columns (built on first read; `bars` is made from them). */
+  readonly rows: BarRows;
   /** Number of rows (bars.length), known without listing them. */
   barCount: number;
   /** Bars of the infinite framework touching the supercell that were dropped at free sides. */
@@ -187,31 +189,101 @@ function barRuns(fw: Framework, cells: [number, number], boundary: Boundary): { 
   return { blocks, rows, grounded, dropped };
 }
 
-/** The row objects of the blocks, in the order of R's rows: unit-cell bar, y run, j, x run, i. */
-function listBars(blocks: RowBlock[], cells: [number, number], boundary: Boundary, S: number): SupercellBar[] {
+/**
+ * The rows of R as typed columns, in R's row order (unit-cell bar, y run, j, x run, i): what the
+ * assembly of R and the sparse solver read, without an object per row (see Supercell.rows).
+ */
+export interface BarRows {
+  count: number;
+  /** Joint of the `from` end, −1 when it is fixed (grounded bar). */
+  a: Int32Array;
+  /** Joint of the `to` end, −1 when it is fixed. */
+  b: Int32Array;
+  /** Unit-cell bar of each row. */
+  source: Int32Array;
+  /** Phase factor of the `to` end's velocity (re, im), 2 per row. */
+  phase: Float64Array;
+  /** Wrap counts (w1, w2) of the `to` end, 2 per row. */
+  wraps: Int32Array;
+  /** Cell (i, j) of the `from` end in the infinite framework, 2 per row. */
+  cells: Int32Array;
+}
+
+/** Joint-cell index and wrap count of cell c along one axis (place() without its object). */
+function wrapCount(c: number, N: number, rule: AxisRule): number {
+  return rule.kind === 'twist' ? Math.floor(c / N) : 0;
+}
+
+function isOut(c: number, N: number, rule: AxisRule): boolean {
+  return rule.kind !== 'twist' && (c < 0 || c >= N);
+}
+
+/** The rows of the blocks as typed columns (see BarRows); `count` rows in all. */
+function listRows(blocks: RowBlock[], cells: [number, number], boundary: Boundary, S: number, count: number): BarRows {
   const [N1, N2] = cells;
   const theta1 = boundary.x.kind === 'twist' ? reduceTurns(boundary.x.theta) : 0;
   const theta2 = boundary.y.kind === 'twist' ? reduceTurns(boundary.y.theta) : 0;
-  const bars: SupercellBar[] = [];
-  for (const { source, sa, sb, shift: [s1, s2], vector, y, xs } of blocks) {
+  const real = boundaryIsReal(boundary);
+  const out: BarRows = {
+    count,
+    a: new Int32Array(count),
+    b: new Int32Array(count),
+    source: new Int32Array(count),
+    phase: new Float64Array(2 * count),
+    wraps: new Int32Array(2 * count),
+    cells: new Int32Array(2 * count),
+  };
+  let r = 0;
+  for (const { source, sa, sb, shift: [s1, s2], y, xs } of blocks) {
     for (let j = y.lo; j < y.hi; j++) {
+      const fyOut = isOut(j, N2, boundary.y);
+      const fyW = wrapCount(j, N2, boundary.y);
+      const tyOut = isOut(j + s2, N2, boundary.y);
+      const w2 = wrapCount(j + s2, N2, boundary.y);
       for (const x of xs) {
         for (let i = x.lo; i < x.hi; i++) {
-          const fx = place(i, N1, boundary.x);
-          const fy = place(j, N2, boundary.y);
-          const tx = place(i + s1, N1, boundary.x);
-          const ty = place(j + s2, N2, boundary.y);
-          const fromOut = fx.out !== null || fy.out !== null;
-          const toOut = tx.out !== null || ty.out !== null;
-          const a = fromOut ? -1 : jointIndex(fx.idx, fy.idx, sa, N1, S);
-          const b = toOut ? -1 : jointIndex(tx.idx, ty.idx, sb, N1, S);
-          const w1 = tx.wraps;
-          const w2 = ty.wraps;
-          const phase = cis(theta1 * w1 + theta2 * w2);
-          bars.push({ a, b, vector, phase, wraps: [w1, w2], source, cell: [i, j], grounded: fromOut || toOut });
+          const fxW = wrapCount(i, N1, boundary.x);
+          const w1 = wrapCount(i + s1, N1, boundary.x);
+          const fromOut = fyOut || isOut(i, N1, boundary.x);
+          const toOut = tyOut || isOut(i + s1, N1, boundary.x);
+          out.a[r] = fromOut ? -1 : jointIndex(i - fxW * N1, j - fyW * N2, sa, N1, S);
+          out.b[r] = toOut ? -1 : jointIndex(i + s1 - w1 * N1, j + s2 - w2 * N2, sb, N1, S);
+          out.source[r] = source;
+          if (real && theta1 === 0 && theta2 === 0) out.phase[2 * r] = 1;
+          else {
+            const [cr, ci] = cis(theta1 * w1 + theta2 * w2);
+            out.phase[2 * r] = cr;
+            out.phase[2 * r + 1] = ci;
+          }
+          out.wraps[2 * r] = w1;
+          out.wraps[2 * r + 1] = w2;
+          out.cells[2 * r] = i;
+          out.cells[2 * r + 1] = j;
+          r++;
         }
       }
     }
+  }
+  if (r !== count) throw new Error(`internal error: the supercell listed ${r} rows, its count is ${count}`);
+  return out;
+}
+
+/** The row objects, one per row of R, from the typed rows. */
+function listBars(rows: BarRows, vectors: Vec2[]): SupercellBar[] {
+  const bars: SupercellBar[] = new Array(rows.count);
+  for (let r = 0; r < rows.count; r++) {
+    const a = rows.a[r];
+    const b = rows.b[r];
+    bars[r] = {
+      a,
+      b,
+      vector: vectors[rows.source[r]],
+      phase: [rows.phase[2 * r], rows.phase[2 * r + 1]],
+      wraps: [rows.wraps[2 * r], rows.wraps[2 * r + 1]],
+      source: rows.source[r],
+      cell: [rows.cells[2 * r], rows.cells[2 * r + 1]],
+      grounded: a < 0 || b < 0,
+    };
   }
   return bars;
 }
@@ -251,7 +323,9 @@ export function buildSupercell(fw: Framework, cells: [number, number], boundary:
   const S = fw.joints.length;
   const { blocks, rows, grounded, dropped } = barRuns(fw, [N1, N2], boundary);
   let joints: ReturnType<typeof listJoints> | undefined;
+  let rowTable: BarRows | undefined;
   let bars: SupercellBar[] | undefined;
+  const rowsOf = () => (rowTable ??= listRows(blocks, [N1, N2], boundary, S, rows));
   return {
     framework: fw,
     cells: [N1, N2],
@@ -267,8 +341,11 @@ export function buildSupercell(fw: Framework, cells: [number, number], boundary:
     get jointSites() {
       return (joints ??= listJoints(fw, [N1, N2])).jointSites;
     },
+    get rows() {
+      return rowsOf();
+    },
     get bars() {
-      return (bars ??= listBars(blocks, [N1, N2], boundary, S));
+      return (bars ??= listBars(rowsOf(), resolveBars(fw).map((bar) => bar.vector)));
     },
     barCount: rows,
     dropped,
