@@ -16,8 +16,10 @@
  * orthonormal Ritz vector v (absolute accuracy ~ε·σ_max, as sharp as the dense path):
  *
  *  1. σ_max: Lanczos on RRᴴ (no reorthogonalisation is needed for the extreme eigenvalue) until
- *     the largest Ritz value stalls to SIGMA_MAX_STALL = 1e-4 relative over 15 steps: an estimate
- *     from below (within ~2e-4 on the gallery lattices) that scales the tolerance and the shifts.
+ *     the largest Ritz value stalls to SIGMA_MAX_STALL = 1e-3 relative over 15 steps: an estimate
+ *     from below (within ~5e-4 on the gallery lattices at 96×96, 40 steps; 1e-4 took 65–70) that
+ *     scales the tolerance and the shifts. A cut 5e-4 lower than the dense path's can change a
+ *     count only through a σ within 5e-4 of the cut, and any σ within 100× of it is flagged.
  *     The top of a supercell's spectrum is a dense band, so settling to 1e-13 took 300–600 steps
  *     and a third of a whole count; the tolerance needs σ_max to a few digits, not to 13. The
  *     rounding bounds of the certificate use a proved upper bound instead (sigmaMaxUpperBound).
@@ -57,6 +59,7 @@ import { sigmaMaxUpperBound, topLanczos } from '../linalg/lanczos.js';
 import { seededUniform } from '../linalg/random.js';
 import { AMBIGUOUS_RATIO, type RankDecision } from '../linalg/rank.js';
 import { conjugateTranspose, type SparseMatrix } from '../linalg/sparse.js';
+import { resolveBars } from '../framework/types.js';
 import type { Supercell } from '../supercell/supercell.js';
 import { rigidityMatrix } from '../supercell/rigidity.js';
 import { denseFallback } from './solve-dense.js';
@@ -332,7 +335,7 @@ export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): Solv
 }
 
 /** How far the Lanczos estimate of σ_max settles (relative change over three checks 5 steps apart). */
-export const SIGMA_MAX_STALL = 1e-4;
+export const SIGMA_MAX_STALL = 1e-3;
 
 /** σ_max by Lanczos on RRᴴ until the largest Ritz value stalls to SIGMA_MAX_STALL relative. */
 function sigmaMaxByLanczos(R: SparseMatrix, RH: SparseMatrix, check: () => void): { sigma: number; steps: number } {
@@ -359,14 +362,20 @@ function adviceFor(sc: Supercell): (need: number, allowed: number) => string {
 function sidePositions(sc: Supercell): SidePositions {
   const p = sc.positions;
   const columns = new Float64Array(4 * sc.jointCount);
-  for (let k = 0; k < sc.jointCount; k++) columns.set([p[2 * k], p[2 * k + 1], p[2 * k], p[2 * k + 1]], 4 * k);
-  const rows = new Float64Array(2 * sc.bars.length);
-  sc.bars.forEach((b, r) => {
-    const [vx, vy] = b.vector;
-    const [x, y] = b.a >= 0 ? [p[2 * b.a] + vx / 2, p[2 * b.a + 1] + vy / 2] : [p[2 * b.b] - vx / 2, p[2 * b.b + 1] - vy / 2];
-    rows[2 * r] = x;
-    rows[2 * r + 1] = y;
-  });
+  for (let k = 0; k < sc.jointCount; k++) {
+    columns[4 * k] = columns[4 * k + 2] = p[2 * k];
+    columns[4 * k + 1] = columns[4 * k + 3] = p[2 * k + 1];
+  }
+  const { count: m, a: A, b: B, source } = sc.rows;
+  const vectors = resolveBars(sc.framework).map((bar) => bar.vector);
+  const rows = new Float64Array(2 * m);
+  for (let r = 0; r < m; r++) {
+    const [vx, vy] = vectors[source[r]];
+    const a = A[r];
+    const b = B[r];
+    rows[2 * r] = a >= 0 ? p[2 * a] + vx / 2 : p[2 * b] - vx / 2;
+    rows[2 * r + 1] = a >= 0 ? p[2 * a + 1] + vy / 2 : p[2 * b + 1] - vy / 2;
+  }
   return { columns, rows };
 }
 
