@@ -1,7 +1,8 @@
 /**
- * Everything that defines what the app shows: the framework, the supercell settings and the
- * view. The same state is written to a state file (JSON), to the URL hash, and read back from
- * both; reading checks every field and reports problems by name (InputError), never repairs.
+ * Everything that defines what the app shows: the framework, the supercell settings, the
+ * view, and the GIF and figure export settings. The same state is written to a state file
+ * (JSON), to the URL hash, and read back from both; reading checks every field and reports
+ * problems by name (InputError), never repairs.
  */
 import { InputError, type Problem } from '../errors.js';
 import { GALLERY, galleryEntry, gallerySpec, parseGallerySpec } from '../framework/gallery.js';
@@ -11,6 +12,7 @@ import { formatBoundary, parseBoundary, type Boundary } from '../supercell/bound
 import { MAX_CELLS_PER_AXIS } from '../supercell/supercell.js';
 import { SOLVER_CHOICES, type SolverChoice } from '../flex/solver.js';
 import type { ArrowMode } from './stage/scene.js';
+import type { FigureSize } from './export/compose.js';
 import type { AnalyseJob } from '../worker/protocol.js';
 
 export type FrameworkSource =
@@ -49,14 +51,32 @@ export interface GifState {
   period: number;
 }
 
+/** The Export panel's figure settings (PNG, SVG; the GIF takes the aspect from width / height). */
+export interface FigureState extends FigureSize {
+  /** No background in PNG and SVG. */
+  transparent: boolean;
+  /** Print the caption (setup and phase) under the drawing. */
+  caption: boolean;
+  /** Add the short caution about first-order motions to the caption. */
+  caution: boolean;
+  /** Arrow lengths and line widths relative to the stage's. */
+  arrowScale: number;
+  lineScale: number;
+}
+
 /** Everything a run needs (the worker's job, with the framework as the user gave it) plus the view. */
 export interface AppState extends Omit<AnalyseJob, 'framework'> {
   framework: FrameworkSource;
   view: ViewState;
   gif: GifState;
+  figure: FigureState;
 }
 
 export const STATE_FORMAT = 'shimmy app state';
+/**
+ * Still 1 with the `figure` part: a file without it (written before) reads as before, with the
+ * default figure, so every version-1 file stays valid and nothing needs telling apart.
+ */
 export const STATE_VERSION = 1;
 
 /** The demo the app opens on (a gallery lattice; nothing invented about the numbers). */
@@ -73,7 +93,12 @@ export function defaultState(): AppState {
     classify: true,
     view: defaultView(),
     gif: { frames: 24, width: 640, period: 2 },
+    figure: defaultFigure(),
   };
+}
+
+export function defaultFigure(): FigureState {
+  return { width: 1200, height: 900, unit: 'px', dpi: 192, transparent: false, caption: true, caution: false, arrowScale: 1, lineScale: 1 };
 }
 
 export function defaultView(): ViewState {
@@ -103,7 +128,7 @@ export function frameworkTitle(src: FrameworkSource): string {
 // ---------------------------------------------------------------------------------------------
 // Field checks
 
-interface Range {
+export interface Range {
   min: number;
   max: number;
   integer?: boolean;
@@ -124,7 +149,20 @@ export const LIMITS = {
   gifFrames: { min: 2, max: 240, integer: true },
   gifWidth: { min: 64, max: 2048, integer: true },
   gifPeriod: { min: 0.2, max: 30 },
+  /** Figure width and height by unit (the export also checks the pixel count, FIGURE_LIMITS.maxPixels). */
+  figurePx: { min: 64, max: 8000 },
+  figureMm: { min: 10, max: 1000 },
+  figureDpi: { min: 36, max: 1200 },
+  /** Arrow and line scales of a figure. */
+  figureScale: { min: 0.1, max: 10 },
 } satisfies Record<string, Range>;
+
+export const FIGURE_UNITS = ['px', 'mm'] as const;
+
+/** The allowed figure width and height in a unit. */
+export function figureSizeRange(unit: FigureSize['unit']): Range {
+  return unit === 'mm' ? LIMITS.figureMm : LIMITS.figurePx;
+}
 
 function rangeText(r: Range): string {
   return `${r.integer ? 'a whole number' : 'a number'} from ${r.min} ${r.open ? 'up to (not including)' : 'to'} ${r.max}`;
@@ -139,6 +177,14 @@ function checkNumber(v: unknown, where: string, r: Range, problems: Problem[]): 
     problems.push({ where, what: `${v} is outside the allowed values`, fix: `give ${rangeText(r)}` });
     return undefined;
   }
+  return v;
+}
+
+/** A figure width or height check whose fix names the unit the range is in. */
+function inUnit<T>(unit: FigureSize['unit'], problems: Problem[], check: (p: Problem[]) => T | undefined): T | undefined {
+  const found: Problem[] = [];
+  const v = check(found);
+  problems.push(...found.map((p) => ({ ...p, fix: `${p.fix} ${unit === 'mm' ? 'millimetres' : 'pixels'} (the unit given)` })));
   return v;
 }
 
@@ -272,12 +318,28 @@ export function stateToHash(s: AppState): string {
   opt('gifframes', String(s.gif.frames), String(d.gif.frames));
   opt('gifwidth', String(s.gif.width), String(d.gif.width));
   opt('gifperiod', String(s.gif.period), String(d.gif.period));
+  // The figure settings travel like the view and the GIF settings: a key only when it differs
+  // from the default, so a link with the default figure is no longer, and a link (or Back /
+  // Undo, which reopen the link of an earlier history entry as a whole state) keeps a chosen
+  // figure instead of falling back to the defaults.
+  const f = s.figure;
+  const df = d.figure;
+  opt('figwidth', String(f.width), String(df.width));
+  opt('figheight', String(f.height), String(df.height));
+  opt('figunit', f.unit, df.unit);
+  opt('figdpi', String(f.dpi), String(df.dpi));
+  opt('figtransparent', b(f.transparent), b(df.transparent));
+  opt('figcaption', b(f.caption), b(df.caption));
+  opt('figcaution', b(f.caution), b(df.caution));
+  opt('figarrows', String(f.arrowScale), String(df.arrowScale));
+  opt('figlines', String(f.lineScale), String(df.lineScale));
   return '#' + parts.map(([k, val]) => `${k}=${encodeURIComponent(val)}`).join('&');
 }
 
 const HASH_KEYS = [
   'framework', 'cells', 'bc', 'flex', 'tol', 'solver', 'window', 'strip', 'stresses', 'classify', 'show', 'stress', 'amp', 'speed',
   'play', 'phase', 'arrows', 'colour', 'rest', 'zoom', 'centre', 'gifframes', 'gifwidth', 'gifperiod',
+  'figwidth', 'figheight', 'figunit', 'figdpi', 'figtransparent', 'figcaption', 'figcaution', 'figarrows', 'figlines',
 ];
 
 /** Reads a URL hash; keys not given keep their defaults. Throws InputError naming every bad key. */
@@ -286,6 +348,8 @@ export function stateFromHash(hash: string): AppState {
   const problems: Problem[] = [];
   const body = hash.startsWith('#') ? hash.slice(1) : hash;
   const seen = new Set<string>();
+  // width and height are checked once the unit is known (keys come in any order)
+  const figureSize: { figwidth?: string; figheight?: string } = {};
   for (const piece of body.split('&')) {
     if (piece === '') continue;
     const eq = piece.indexOf('=');
@@ -389,6 +453,43 @@ export function stateFromHash(hash: string): AppState {
       case 'gifperiod':
         set(numberText(value, where, LIMITS.gifPeriod, problems), (v) => (s.gif.period = v));
         break;
+      case 'figwidth':
+      case 'figheight':
+        figureSize[key] = value;
+        break;
+      case 'figunit':
+        if ((FIGURE_UNITS as readonly string[]).includes(value)) s.figure.unit = value as FigureSize['unit'];
+        else problems.push({ where, what: `"${value}" is not a figure unit`, fix: `write one of ${FIGURE_UNITS.join(', ')}` });
+        break;
+      case 'figdpi':
+        set(numberText(value, where, LIMITS.figureDpi, problems), (v) => (s.figure.dpi = v));
+        break;
+      case 'figtransparent':
+        set(boolText(value, where, problems), (v) => (s.figure.transparent = v));
+        break;
+      case 'figcaption':
+        set(boolText(value, where, problems), (v) => (s.figure.caption = v));
+        break;
+      case 'figcaution':
+        set(boolText(value, where, problems), (v) => (s.figure.caution = v));
+        break;
+      case 'figarrows':
+        set(numberText(value, where, LIMITS.figureScale, problems), (v) => (s.figure.arrowScale = v));
+        break;
+      case 'figlines':
+        set(numberText(value, where, LIMITS.figureScale, problems), (v) => (s.figure.lineScale = v));
+        break;
+    }
+  }
+  const range = figureSizeRange(s.figure.unit);
+  for (const [key, field] of [['figwidth', 'width'], ['figheight', 'height']] as const) {
+    const text = figureSize[key];
+    if (text !== undefined) {
+      const v = inUnit(s.figure.unit, problems, (p) => numberText(text, `URL #${key}`, range, p));
+      if (v !== undefined) s.figure[field] = v;
+    } else if (checkNumber(s.figure[field], `URL #${key}`, range, []) === undefined) {
+      // a unit without its sizes would read the default pixel sizes as millimetres
+      problems.push({ where: `URL #${key}`, what: `not given, and the default ${s.figure[field]} is outside the sizes in ${s.figure.unit}`, fix: `give ${key} in ${s.figure.unit}: ${rangeText(range)}` });
     }
   }
   if (problems.length) throw new InputError('The link cannot be opened:', problems);
@@ -405,6 +506,7 @@ export function stateToFile(s: AppState): string {
       ? { gallery: s.framework.name, params: sortedParams(s.framework.name, s.framework.params) }
       : { file: s.framework.framework, fileName: s.framework.fileName };
   const v = s.view;
+  const f = s.figure;
   const out = {
     format: STATE_FORMAT,
     version: STATE_VERSION,
@@ -432,6 +534,17 @@ export function stateToFile(s: AppState): string {
       centre: v.centre ? [v.centre[0], v.centre[1]] : null,
     },
     gif: { frames: s.gif.frames, width: s.gif.width, period: s.gif.period },
+    figure: {
+      width: f.width,
+      height: f.height,
+      unit: f.unit,
+      dpi: f.dpi,
+      transparent: f.transparent,
+      caption: f.caption,
+      caution: f.caution,
+      arrowScale: f.arrowScale,
+      lineScale: f.lineScale,
+    },
   };
   return JSON.stringify(out, null, 2) + '\n';
 }
@@ -466,7 +579,7 @@ export function stateFromFile(text: string, source = 'state file'): AppState {
     throw new InputError(`${source} is not an app state file:`, [{ where: 'format', what: `a state file has "format": "${STATE_FORMAT}"`, fix: 'load a state file saved with "Save state", or load a framework file with "Open…"' }]);
   }
   if (v.version !== STATE_VERSION) problems.push({ where: 'version', what: `version ${JSON.stringify(v.version)} is not understood`, fix: `this app reads version ${STATE_VERSION}` });
-  const known = ['format', 'version', 'framework', 'cells', 'bc', 'tolerance', 'solver', 'window', 'strip', 'stresses', 'classify', 'view', 'gif'];
+  const known = ['format', 'version', 'framework', 'cells', 'bc', 'tolerance', 'solver', 'window', 'strip', 'stresses', 'classify', 'view', 'gif', 'figure'];
   for (const k of Object.keys(v)) if (!known.includes(k)) problems.push({ where: k, what: `"${k}" is not a field of a state file`, fix: `remove it (fields: ${known.join(', ')})` });
 
   const fw = v.framework;
@@ -541,6 +654,26 @@ export function stateFromFile(text: string, source = 'state file'): AppState {
     num(gif, 'width', 'gif.width', LIMITS.gifWidth, (x) => (s.gif.width = x));
     num(gif, 'period', 'gif.period', LIMITS.gifPeriod, (x) => (s.gif.period = x));
   } else problems.push({ where: 'gif', what: `expected an object, got ${describe(gif)}`, fix: 'save the state again from the app' });
+  // `figure` came later within version 1: a file without it gets the default figure
+  const figure = v.figure;
+  if (isRecord(figure)) {
+    const fields = ['width', 'height', 'unit', 'dpi', 'transparent', 'caption', 'caution', 'arrowScale', 'lineScale'];
+    for (const k of Object.keys(figure)) if (!fields.includes(k)) problems.push({ where: `figure.${k}`, what: `"${k}" is not a figure setting`, fix: `remove it (settings: ${fields.join(', ')})` });
+    if ((FIGURE_UNITS as readonly unknown[]).includes(figure.unit)) s.figure.unit = figure.unit as FigureSize['unit'];
+    else problems.push({ where: 'figure.unit', what: `expected one of ${FIGURE_UNITS.map((u) => `"${u}"`).join(', ')}, got ${describe(figure.unit)}`, fix: 'write "unit": "px" (pixels) or "mm" (millimetres)' });
+    // sizes in the unit given (pixels when the unit itself is bad)
+    const range = figureSizeRange(s.figure.unit);
+    for (const k of ['width', 'height'] as const) {
+      const x = inUnit(s.figure.unit, problems, (p) => checkNumber(figure[k], `figure.${k}`, range, p));
+      if (x !== undefined) s.figure[k] = x;
+    }
+    num(figure, 'dpi', 'figure.dpi', LIMITS.figureDpi, (x) => (s.figure.dpi = x));
+    bool(figure, 'transparent', 'figure.transparent', (x) => (s.figure.transparent = x));
+    bool(figure, 'caption', 'figure.caption', (x) => (s.figure.caption = x));
+    bool(figure, 'caution', 'figure.caution', (x) => (s.figure.caution = x));
+    num(figure, 'arrowScale', 'figure.arrowScale', LIMITS.figureScale, (x) => (s.figure.arrowScale = x));
+    num(figure, 'lineScale', 'figure.lineScale', LIMITS.figureScale, (x) => (s.figure.lineScale = x));
+  } else if (figure !== undefined) problems.push({ where: 'figure', what: `expected an object, got ${describe(figure)}`, fix: 'save the state again from the app, or remove "figure" for the default figure' });
   if (problems.length) throw new InputError(`${source} cannot be used:`, problems);
   return s;
 }

@@ -13,7 +13,7 @@ import { CSV_COLUMNS, countsCsv, csvField, modesJson } from '../../src/app/expor
 import { locate } from '../../src/app/jsonpath.js';
 import { amplitudeColour, lightness, stressColour } from '../../src/app/stage/colours.js';
 import { buildScene, computeFrame, fieldOf, newFrame, stressValues } from '../../src/app/stage/scene.js';
-import { defaultState, stateFromFile, stateFromHash, stateToFile, stateToHash, type AppState } from '../../src/app/state.js';
+import { defaultFigure, defaultState, stateFromFile, stateFromHash, stateToFile, stateToHash, type AppState, type FigureState } from '../../src/app/state.js';
 import { analyse, participation } from '../../src/worker/compute.js';
 import { geometryOf } from '../../src/worker/geometry.js';
 
@@ -21,6 +21,19 @@ function withChanges(f: (s: AppState) => void): AppState {
   const s = defaultState();
   f(s);
   return s;
+}
+
+/** Every figure setting away from its default (a size in mm with a decimal). */
+const OTHER_FIGURE: FigureState = { width: 80.5, height: 50, unit: 'mm', dpi: 300, transparent: true, caption: false, caution: true, arrowScale: 1.5, lineScale: 0.75 };
+
+function problemsOf(f: () => unknown): { where: string; what: string; fix: string }[] {
+  try {
+    f();
+  } catch (e) {
+    expect(e).toBeInstanceOf(InputError);
+    return (e as InputError).problems;
+  }
+  throw new Error('expected an InputError');
 }
 
 describe('URL hash', () => {
@@ -44,6 +57,8 @@ describe('URL hash', () => {
         s.view = { ...s.view, flex: 4, amplitude: 0.55, speed: 1.25, playing: false, phase: 0.3125, arrows: 'velocity', colour: false, rest: true, zoom: 2.5, centre: [1.25, -0.5] };
         s.gif = { frames: 12, width: 480, period: 3 };
       }),
+      withChanges((s) => (s.figure = { ...OTHER_FIGURE })),
+      withChanges((s) => (s.figure = { ...defaultFigure(), width: 2400.5, dpi: 96.5, caption: false })),
       withChanges((s) => {
         s.framework = { kind: 'file', framework: buildGallery('gallery:honeycomb'), fileName: 'honeycomb.json' };
         s.view.show = 'stress';
@@ -61,6 +76,39 @@ describe('URL hash', () => {
       }
       expect(back).toEqual(s);
     }
+  });
+
+  it('carries the figure settings only where they differ from the defaults', () => {
+    expect(stateToHash(defaultState())).not.toContain('fig');
+    const hash = stateToHash(withChanges((s) => (s.figure = { ...OTHER_FIGURE })));
+    expect(hash).toContain('&figwidth=80.5&figheight=50&figunit=mm&figdpi=300&figtransparent=1&figcaption=0&figcaution=1&figarrows=1.5&figlines=0.75');
+    expect(stateToHash(withChanges((s) => (s.figure.caution = true))).match(/fig\w+/g)).toEqual(['figcaution']);
+  });
+
+  it('names each bad figure key, with the sizes checked in the unit given', () => {
+    const bad: [string, string][] = [
+      ['figwidth', '20'],
+      ['figheight', 'tall'],
+      ['figunit', 'in'],
+      ['figdpi', '10'],
+      ['figtransparent', 'yes'],
+      ['figcaption', '2'],
+      ['figcaution', ''],
+      ['figarrows', '0'],
+      ['figlines', '11'],
+    ];
+    for (const [key, value] of bad) expect(problemsOf(() => stateFromHash(`#${key}=${value}`)).map((p) => p.where)).toEqual([`URL #${key}`]);
+    // 1200 is a width in pixels, not in mm; the fix names the unit
+    const mm = problemsOf(() => stateFromHash('#figwidth=1200&figheight=50&figunit=mm'));
+    expect(mm.map((p) => p.where)).toEqual(['URL #figwidth']);
+    expect(mm[0].fix).toBe('give a number from 10 to 1000 millimetres (the unit given)');
+    // a unit without a size whose default (in pixels) is no size in mm: the missing key is named
+    // (900 mm is a height in mm too, and a 900 mm height is written without the key)
+    const missing = problemsOf(() => stateFromHash('#figunit=mm'));
+    expect(missing.map((p) => p.where)).toEqual(['URL #figwidth']);
+    expect(missing[0].what).toBe('not given, and the default 1200 is outside the sizes in mm');
+    expect(stateFromHash(stateToHash(withChanges((s) => (s.figure = { ...OTHER_FIGURE, height: 900 })))).figure).toEqual({ ...OTHER_FIGURE, height: 900 });
+    expect(stateFromHash('#figheight=100&figunit=mm&figwidth=150').figure).toEqual({ ...defaultFigure(), unit: 'mm', width: 150, height: 100 });
   });
 
   it('always carries framework, cells, bc and flex, URL-encoded', () => {
@@ -91,6 +139,69 @@ describe('state file', () => {
     const text = stateToFile(s);
     expect(stateToFile(stateFromFile(text))).toBe(text);
     expect(stateFromFile(text)).toEqual(s);
+  });
+
+  it('round-trips the figure settings exactly, default and changed', () => {
+    for (const figure of [defaultFigure(), OTHER_FIGURE, { ...defaultFigure(), width: 64, height: 8000, dpi: 36, lineScale: 10 }]) {
+      const s = withChanges((x) => (x.figure = { ...figure }));
+      const text = stateToFile(s);
+      expect(JSON.parse(text).figure).toEqual(figure);
+      const back = stateFromFile(text);
+      expect(back).toEqual(s);
+      expect(back.figure).toEqual(figure);
+      expect(stateToFile(back)).toBe(text);
+    }
+  });
+
+  it('reads a file written before the figure settings with the default figure', () => {
+    const s = withChanges((x) => {
+      x.cells = [4, 5];
+      x.view.amplitude = 0.45;
+    });
+    const v = JSON.parse(stateToFile(s));
+    delete v.figure;
+    expect(Object.keys(v)).toEqual(['format', 'version', 'framework', 'cells', 'bc', 'tolerance', 'solver', 'window', 'strip', 'stresses', 'classify', 'view', 'gif']);
+    const back = stateFromFile(JSON.stringify(v, null, 2));
+    expect(back).toEqual(s);
+    expect(back.figure).toEqual({ width: 1200, height: 900, unit: 'px', dpi: 192, transparent: false, caption: true, caution: false, arrowScale: 1, lineScale: 1 });
+  });
+
+  it('names each bad figure setting by its JSON path and gives the fix', () => {
+    const bad: [keyof FigureState, unknown][] = [
+      ['width', 20],
+      ['height', 'tall'],
+      ['unit', 'in'],
+      ['dpi', 10],
+      ['transparent', 'yes'],
+      ['caption', 1],
+      ['caution', null],
+      ['arrowScale', 0],
+      ['lineScale', 11],
+    ];
+    for (const [key, value] of bad) {
+      const v = JSON.parse(stateToFile(defaultState()));
+      v.figure[key] = value;
+      const problems = problemsOf(() => stateFromFile(JSON.stringify(v)));
+      expect(problems.map((p) => p.where)).toEqual([`figure.${key}`]);
+      expect(problems[0].fix).not.toBe('');
+    }
+    // a missing setting is named too
+    const missing = JSON.parse(stateToFile(defaultState()));
+    delete missing.figure.caution;
+    expect(problemsOf(() => stateFromFile(JSON.stringify(missing))).map((p) => [p.where, p.what])).toEqual([['figure.caution', 'expected true or false, got nothing']]);
+    // sizes are checked in the unit given: 1200 is pixels, not mm
+    const mm = JSON.parse(stateToFile(defaultState()));
+    mm.figure = { ...mm.figure, unit: 'mm', height: 50 };
+    const p = problemsOf(() => stateFromFile(JSON.stringify(mm)));
+    expect(p.map((x) => x.where)).toEqual(['figure.width']);
+    expect(p[0].fix).toBe('give a number from 10 to 1000 millimetres (the unit given)');
+    // an unknown setting, and a figure part that is not an object
+    const extra = JSON.parse(stateToFile(defaultState()));
+    extra.figure.background = 'white';
+    expect(problemsOf(() => stateFromFile(JSON.stringify(extra))).map((x) => x.where)).toEqual(['figure.background']);
+    const notObject = JSON.parse(stateToFile(defaultState()));
+    notObject.figure = [1200, 900];
+    expect(problemsOf(() => stateFromFile(JSON.stringify(notObject))).map((x) => [x.where, x.what])).toEqual([['figure', 'expected an object, got a list']]);
   });
 
   it('reports bad fields with their JSON path', () => {

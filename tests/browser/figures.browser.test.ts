@@ -8,6 +8,7 @@
 import fs from 'node:fs';
 import type { Download, Page } from 'playwright-core';
 import { describe, expect, it } from 'vitest';
+import { stateFromHash } from '../../src/app/state.js';
 import { rigidMotions } from '../../src/flex/rigid.js';
 import { buildGallery } from '../../src/framework/gallery.js';
 import { parseBoundary } from '../../src/supercell/boundary.js';
@@ -77,6 +78,60 @@ describe.skipIf(!available)('browser figures (issue 12, item 5)', () => {
     expect([mm.readUInt32BE(16), mm.readUInt32BE(20)]).toEqual([945, 591]);
     await page.close();
   }, 60_000);
+
+  it('keeps the figure settings in the state file and the link, and shows them when the file is opened', async () => {
+    const page = await open(KAGOME + '&flex=0&play=0');
+    await page.getByTestId('figure-settings').locator('summary').click();
+    await fill(page, 'figure-width', '640');
+    await fill(page, 'figure-height', '400');
+    // 640 px and 400 px at 192 dpi are 84.7 mm and 52.9 mm (25.4 mm per inch, to 0.1 mm)
+    await page.getByTestId('figure-unit').selectOption('mm');
+    await fill(page, 'figure-dpi', '300');
+    await page.getByTestId('figure-transparent').check();
+    await page.getByTestId('figure-caption').uncheck();
+    await page.getByTestId('figure-caution').check();
+    await fill(page, 'figure-arrow-scale', '1.5');
+    await fill(page, 'figure-line-scale', '0.75');
+    const expected = { width: 84.7, height: 52.9, unit: 'mm', dpi: 300, transparent: true, caption: false, caution: true, arrowScale: 1.5, lineScale: 0.75 };
+    await page.waitForFunction(() => location.hash.includes('figlines=0.75'), null, { timeout: 5_000 });
+    expect(stateFromHash(await page.evaluate(() => location.hash)).figure).toEqual(expected);
+    const file = await text(await saved(page, 'export-state'));
+    expect(JSON.parse(file).figure).toEqual(expected);
+    await page.close();
+
+    // a new page (default figure) opens the file: the controls show it and the PNG follows it
+    const fresh = await open(KAGOME + '&flex=0&play=0');
+    await fresh.getByTestId('figure-settings').locator('summary').click();
+    expect(await fresh.getByTestId('figure-width').inputValue()).toBe('1200');
+    await fresh.getByTestId('import-state').setInputFiles({ name: 'state.json', mimeType: 'application/json', buffer: Buffer.from(file) });
+    await fresh.waitForFunction(() => (document.querySelector('[data-testid=figure-width]') as HTMLInputElement).value === '84.7', null, { timeout: 5_000 });
+    const shown = {
+      width: await fresh.getByTestId('figure-width').inputValue(),
+      height: await fresh.getByTestId('figure-height').inputValue(),
+      unit: await fresh.getByTestId('figure-unit').inputValue(),
+      dpi: await fresh.getByTestId('figure-dpi').inputValue(),
+      transparent: await fresh.getByTestId('figure-transparent').isChecked(),
+      caption: await fresh.getByTestId('figure-caption').isChecked(),
+      caution: await fresh.getByTestId('figure-caution').isChecked(),
+      arrowScale: await fresh.getByTestId('figure-arrow-scale').inputValue(),
+      lineScale: await fresh.getByTestId('figure-line-scale').inputValue(),
+    };
+    expect(shown).toEqual({ ...expected, width: '84.7', height: '52.9', dpi: '300', arrowScale: '1.5', lineScale: '0.75' });
+    // 84.7 mm × 52.9 mm at 300 dpi = round(1000.4) × round(624.8) pixels
+    expect(await fresh.getByTestId('figure-pixels').textContent()).toContain('1000 × 625 pixels');
+    const png = fs.readFileSync((await (await saved(fresh, 'export-png')).path())!);
+    expect([png.readUInt32BE(16), png.readUInt32BE(20)]).toEqual([1000, 625]);
+    expect(await text(await saved(fresh, 'export-state'))).toBe(file);
+    // an edit goes into the state
+    await fill(fresh, 'figure-width', '90');
+    expect(JSON.parse(await text(await saved(fresh, 'export-state'))).figure).toEqual({ ...expected, width: 90 });
+    // a size the unit does not allow is refused by name and kept out of the state
+    await fill(fresh, 'figure-height', '5000');
+    expect(await fresh.getByTestId('figure-height').getAttribute('aria-invalid')).toBe('true');
+    expect(JSON.parse(await text(await saved(fresh, 'export-state'))).figure.height).toBe(52.9);
+    expect(pageErrors).toEqual([]);
+    await fresh.close();
+  }, 90_000);
 
   it('writes the SVG caption only when asked, and the caution only when ticked', async () => {
     const page = await open(KAGOME + '&flex=0&play=0');

@@ -6,7 +6,7 @@
 import { CAUTION_SHORT } from '../../caution.js';
 import { describeBoundary, parseBoundary } from '../../supercell/boundary.js';
 import type { AnalyseResult, RigidData } from '../../worker/protocol.js';
-import { frameworkTitle, slug, type AppState, type FrameworkSource } from '../state.js';
+import { frameworkTitle, LIMITS, slug, type AppState, type FrameworkSource } from '../state.js';
 
 /** A velocity field, 2 entries per joint; im null when real. */
 export interface Motion {
@@ -87,7 +87,8 @@ export interface FigureSize {
   dpi: number;
 }
 
-export const FIGURE_LIMITS = { px: { min: 64, max: 8000 }, mm: { min: 10, max: 1000 }, dpi: { min: 36, max: 1200 }, maxPixels: 40e6 };
+/** The sizes are the state's (a state file or link holds only sizes in these ranges); the pixel count is checked at export. */
+export const FIGURE_LIMITS = { px: LIMITS.figurePx, mm: LIMITS.figureMm, dpi: LIMITS.figureDpi, maxPixels: 40e6 };
 
 /**
  * Pixels of the image file, and the layout size in css px (text and lines are laid out there

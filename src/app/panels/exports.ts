@@ -4,7 +4,7 @@
  */
 import { InputError } from '../../errors.js';
 import { checkbox, h, newId, section, select } from '../dom.js';
-import { captionLines, checkFigureSize, fileStem, figurePixels, recipeIsPlain, wrapLines, type FigureSize, type MotionRecipe } from '../export/compose.js';
+import { captionLines, checkFigureSize, fileStem, figurePixels, recipeIsPlain, wrapLines, type MotionRecipe } from '../export/compose.js';
 import { countsCsv, modesJson } from '../export/data.js';
 import { download } from '../export/download.js';
 import { captionHeight, type FigureSpec } from '../export/figure.js';
@@ -13,7 +13,7 @@ import { figureCanvas } from '../export/paint2d.js';
 import { svgFigure } from '../export/svg.js';
 import type { Host } from '../host.js';
 import { fieldOf, stressForceValues, viewFor } from '../stage/scene.js';
-import { LIMITS } from '../state.js';
+import { figureSizeRange, LIMITS, type FigureState, type Range } from '../state.js';
 
 export interface ExportPanel {
   el: HTMLElement;
@@ -26,68 +26,100 @@ const CHAR_WIDTH = 6.6;
 
 export function buildExportPanel(app: Host): ExportPanel {
   const btn = (label: string, testid: string, onclick: () => void, title?: string) => h('button', { type: 'button', 'data-testid': testid, onclick, title }, label);
-  const num = (label: string, testid: string, r: { min: number; max: number; integer?: boolean }, get: () => number, set: (v: number) => void, persist = true) => {
+  /** A number field of the state; `range` may change (figure sizes follow the unit), `unit` is named in the message. */
+  const num = (label: string, testid: string, range: Range | (() => Range), get: () => number, set: (v: number) => void, unit: () => string = () => '') => {
     const id = newId('g');
-    const input = h('input', { type: 'number', id, class: 'num', min: r.min, max: r.max, step: r.integer ? 1 : 'any', value: String(get()), 'data-testid': testid });
+    const rangeNow = () => (typeof range === 'function' ? range() : range);
+    const r0 = rangeNow();
+    const input = h('input', { type: 'number', id, class: 'num', min: r0.min, max: r0.max, step: r0.integer ? 1 : 'any', value: String(get()), 'data-testid': testid });
     const msg = h('div', { class: 'field-msg', role: 'status' });
     input.addEventListener('change', () => {
+      const r = rangeNow();
       const v = Number(input.value);
       const ok = input.value.trim() !== '' && Number.isFinite(v) && v >= r.min && v <= r.max && (!r.integer || Number.isInteger(v));
       input.setAttribute('aria-invalid', String(!ok));
-      msg.textContent = ok ? '' : `${label}: give ${r.integer ? 'a whole number' : 'a number'} from ${r.min} to ${r.max}.`;
+      msg.textContent = ok ? '' : `${label}: give ${r.integer ? 'a whole number' : 'a number'} from ${r.min} to ${r.max}${unit() ? ` ${unit()}` : ''}.`;
       if (ok) {
         set(v);
-        if (persist) app.syncHash();
+        app.syncHash();
       }
     });
     return { el: h('div', { class: 'field' }, h('label', { for: id }, label), input, msg), input, msg };
   };
 
-  // ---- figure settings (kept in the page, not in links or state files)
-  const fig: FigureSize & { transparent: boolean; caption: boolean; caution: boolean; arrowScale: number; lineScale: number } = {
-    width: 1200,
-    height: 900,
-    unit: 'px',
-    dpi: 192,
-    transparent: false,
-    caption: true,
-    caution: false,
-    arrowScale: 1,
-    lineScale: 1,
-  };
+  // ---- figure settings: part of the state (state files and links), so always read through
+  // app.state (opening a state file or a link replaces the whole state object)
+  const fig = (): FigureState => app.state.figure;
   const sizeNote = h('p', { class: 'hint', 'data-testid': 'figure-pixels', 'aria-live': 'polite' });
   const showPixels = () => {
-    const { pixels } = figurePixels(fig);
-    sizeNote.textContent = `${pixels[0]} × ${pixels[1]} pixels${fig.unit === 'mm' ? ` (${fig.width} × ${fig.height} mm at ${fig.dpi} dpi)` : ` at ${fig.dpi} dpi (text and lines ×${(fig.dpi / 96).toFixed(2)})`}`;
+    const f = fig();
+    const { pixels } = figurePixels(f);
+    sizeNote.textContent = `${pixels[0]} × ${pixels[1]} pixels${f.unit === 'mm' ? ` (${f.width} × ${f.height} mm at ${f.dpi} dpi)` : ` at ${f.dpi} dpi (text and lines ×${(f.dpi / 96).toFixed(2)})`}`;
   };
-  const anySize = { min: 1, max: 8000 };
-  const fw = num('width', 'figure-width', anySize, () => fig.width, (v) => ((fig.width = v), showPixels()), false);
-  const fh = num('height', 'figure-height', anySize, () => fig.height, (v) => ((fig.height = v), showPixels()), false);
-  const dpi = num('dpi', 'figure-dpi', { min: 36, max: 1200 }, () => fig.dpi, (v) => ((fig.dpi = v), showPixels()), false);
+  const sizeRange = () => figureSizeRange(fig().unit);
+  const unitName = () => (fig().unit === 'mm' ? 'mm' : 'px');
+  const fw = num('width', 'figure-width', sizeRange, () => fig().width, (v) => ((fig().width = v), showPixels()), unitName);
+  const fh = num('height', 'figure-height', sizeRange, () => fig().height, (v) => ((fig().height = v), showPixels()), unitName);
+  const dpi = num('dpi', 'figure-dpi', LIMITS.figureDpi, () => fig().dpi, (v) => ((fig().dpi = v), showPixels()));
   const unit = select<'px' | 'mm'>(
     'unit',
     [
       { value: 'px', label: 'pixels' },
       { value: 'mm', label: 'millimetres' },
     ],
-    fig.unit,
+    fig().unit,
     (u) => {
-      // keep the physical size: convert at the current dpi
-      const f = u === 'mm' ? 25.4 / fig.dpi : fig.dpi / 25.4;
-      fig.width = Math.round(fig.width * f * 10) / 10;
-      fig.height = Math.round(fig.height * f * 10) / 10;
-      fig.unit = u;
-      fw.input.value = String(fig.width);
-      fh.input.value = String(fig.height);
-      showPixels();
+      // keep the physical size: convert at the current dpi; a size the new unit does not allow
+      // (e.g. 64 px at 1200 dpi is 1.4 mm) is brought to the nearest allowed one, and said so
+      const f = fig();
+      const k = u === 'mm' ? 25.4 / f.dpi : f.dpi / 25.4;
+      const r = figureSizeRange(u);
+      const notes: [typeof fw, string][] = [];
+      for (const [key, field] of [['width', fw], ['height', fh]] as const) {
+        const x = Math.round(f[key] * k * 10) / 10;
+        const c = Math.min(r.max, Math.max(r.min, x));
+        if (c !== x) notes.push([field, `${key}: ${x} ${u} is outside ${r.min} to ${r.max} ${u}; set to ${c} ${u}.`]);
+        f[key] = c;
+      }
+      f.unit = u;
+      showFigure();
+      for (const [field, text] of notes) field.msg.textContent = text;
+      app.syncHash();
     },
     'figure-unit',
   );
-  const transparent = checkbox('transparent background (PNG, SVG)', fig.transparent, (v) => (fig.transparent = v), 'figure-transparent');
-  const caption = checkbox('caption (setup and phase)', fig.caption, (v) => (fig.caption = v), 'figure-caption');
-  const caution = checkbox('short caution in the caption', fig.caution, (v) => (fig.caution = v), 'figure-caution');
-  const arrowScale = num('arrows ×', 'figure-arrow-scale', { min: 0.1, max: 10 }, () => fig.arrowScale, (v) => (fig.arrowScale = v), false);
-  const lineScale = num('lines ×', 'figure-line-scale', { min: 0.1, max: 10 }, () => fig.lineScale, (v) => (fig.lineScale = v), false);
+  const transparent = checkbox('transparent background (PNG, SVG)', fig().transparent, (v) => ((fig().transparent = v), app.syncHash()), 'figure-transparent');
+  const caption = checkbox('caption (setup and phase)', fig().caption, (v) => ((fig().caption = v), app.syncHash()), 'figure-caption');
+  const caution = checkbox('short caution in the caption', fig().caution, (v) => ((fig().caution = v), app.syncHash()), 'figure-caution');
+  const arrowScale = num('arrows ×', 'figure-arrow-scale', LIMITS.figureScale, () => fig().arrowScale, (v) => (fig().arrowScale = v));
+  const lineScale = num('lines ×', 'figure-line-scale', LIMITS.figureScale, () => fig().lineScale, (v) => (fig().lineScale = v));
+  /** The controls show the state's figure (after a state file or link is opened; an input being edited is left alone). */
+  const showFigure = () => {
+    const f = fig();
+    const r = figureSizeRange(f.unit);
+    for (const field of [fw, fh]) {
+      field.input.min = String(r.min);
+      field.input.max = String(r.max);
+    }
+    const values: [typeof fw, number][] = [
+      [fw, f.width],
+      [fh, f.height],
+      [dpi, f.dpi],
+      [arrowScale, f.arrowScale],
+      [lineScale, f.lineScale],
+    ];
+    for (const [field, v] of values) {
+      if (field.input === document.activeElement && Number(field.input.value) !== v) continue;
+      field.input.value = String(v);
+      field.input.setAttribute('aria-invalid', 'false');
+      field.msg.textContent = '';
+    }
+    unit.input.value = f.unit;
+    transparent.input.checked = f.transparent;
+    caption.input.checked = f.caption;
+    caution.input.checked = f.caution;
+    showPixels();
+  };
   showPixels();
 
   // ---- the drawn motion
@@ -132,7 +164,7 @@ export function buildExportPanel(app: Host): ExportPanel {
     return src;
   };
   const sizeOk = () => {
-    const problems = checkFigureSize(fig);
+    const problems = checkFigureSize(fig());
     if (!problems.length) return true;
     app.reportError('export', new InputError('The figure size cannot be used:', problems));
     return false;
@@ -149,7 +181,7 @@ export function buildExportPanel(app: Host): ExportPanel {
     const motion = stress ? null : app.drawnMotion();
     const field = motion ? fieldOf(model, motion, v.amplitude) : null;
     const rc = recipe();
-    const lines = captionLines({ result: r, resultState: src.resultState, view: v, recipe: rc }, { caption: fig.caption, caution: fig.caution, turns: field ? t : null });
+    const lines = captionLines({ result: r, resultState: src.resultState, view: v, recipe: rc }, { caption: fig().caption, caution: fig().caution, turns: field ? t : null });
     const caption = wrapLines(lines, layoutW - 24, CHAR_WIDTH);
     const drawH = Math.max(32, layoutH - captionHeight(caption.length));
     return {
@@ -163,9 +195,9 @@ export function buildExportPanel(app: Host): ExportPanel {
       view: viewFor(model, layoutW, drawH, src.zoom, src.centre),
       caption,
       legend: stress ? { kind: 'stress', title: 'bar tension (self-stress)' } : field && v.colour ? { kind: 'amplitude', title: 'joint amplitude |u| / max |u|' } : null,
-      background: fig.transparent ? null : undefined,
-      lineScale: fig.lineScale,
-      arrowScale: fig.arrowScale,
+      background: fig().transparent ? null : undefined,
+      lineScale: fig().lineScale,
+      arrowScale: fig().arrowScale,
     };
   };
   const stem = () => {
@@ -174,7 +206,7 @@ export function buildExportPanel(app: Host): ExportPanel {
   };
   const exportPng = () => {
     if (!requireResult('PNG') || !sizeOk()) return;
-    const { layout, scale } = figurePixels(fig);
+    const { layout, scale } = figurePixels(fig());
     const f = figure(layout[0], layout[1], null)!;
     const canvas = figureCanvas(f, scale);
     const name = `${stem()}.png`;
@@ -187,9 +219,9 @@ export function buildExportPanel(app: Host): ExportPanel {
   const exportSvg = () => {
     const src = requireResult('SVG');
     if (!src || !sizeOk()) return;
-    const { layout } = figurePixels(fig);
+    const { layout } = figurePixels(fig());
     const f = figure(layout[0], layout[1], null)!;
-    if (fig.unit === 'mm') f.outerSize = [`${fig.width}mm`, `${fig.height}mm`];
+    if (fig().unit === 'mm') f.outerSize = [`${fig().width}mm`, `${fig().height}mm`];
     const rc = recipe();
     const setup = captionLines({ result: src.result, resultState: src.resultState, view: src.state.view, recipe: rc }, { caption: true, caution: true, turns: null });
     const title = setup[0].split(';')[0];
@@ -207,7 +239,7 @@ export function buildExportPanel(app: Host): ExportPanel {
     const g = app.state.gif;
     const width = g.width;
     // the figure's aspect, not the window's
-    const height = Math.max(32, Math.round((width * fig.height) / Math.max(1e-9, fig.width)));
+    const height = Math.max(32, Math.round((width * fig().height) / Math.max(1e-9, fig().width)));
     const captions: string[] = [];
     const name = `${stem()}.gif`;
     try {
@@ -314,7 +346,7 @@ export function buildExportPanel(app: Host): ExportPanel {
       transparent.el,
       caption.el,
       caution.el,
-      h('p', { class: 'hint' }, 'The size does not depend on the window. The caution about first-order motions stays in the app and the README; tick it to print it in the figure too.'),
+      h('p', { class: 'hint' }, 'The size does not depend on the window; these settings are saved with the state and carried by the link. The caution about first-order motions stays in the app and the README; tick it to print it in the figure too.'),
     ),
     h('div', { class: 'grid3' }, frames.el, width.el, period.el),
     h('div', { class: 'row' }, gifBtn, gifCancel, gifStatus, gifCaptions),
@@ -337,6 +369,7 @@ export function buildExportPanel(app: Host): ExportPanel {
       frames.input.value = String(app.state.gif.frames);
       width.input.value = String(app.state.gif.width);
       period.input.value = String(app.state.gif.period);
+      showFigure();
       refreshLink();
     },
     refreshLink,
