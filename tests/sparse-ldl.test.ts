@@ -7,7 +7,7 @@
 import Ajv2020 from 'ajv/dist/2020.js';
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
+import { EigenvalueDecomposition, LuDecomposition, Matrix } from 'ml-matrix';
 import { describe, expect, it } from 'vitest';
 import { main, readTextFile } from '../src/cli/main.js';
 import { denseSolver } from '../src/flex/solve-dense.js';
@@ -194,6 +194,196 @@ describe('sparse LDLᴴ on random sparse Hermitian matrices against the dense ei
     expect(F.breakdown!.pivot).toBe(0);
     expect(Array.from(H.re)).toEqual(Array.from(before));
     expect(() => F.solve(new Float64Array(2), null)).toThrow(/broke down/);
+  });
+});
+
+// ---------------------------------------------------------------------------------------------
+// The dense kernels: blocked solves and the blocked Crout factorisation
+
+/** The dense solution of (A − shift·I) X = B for each column, through ml-matrix (a complex A by its real embedding). */
+function denseSolve(m: TestMatrix, shift: number, b: [Float64Array, Float64Array | null][]): [Float64Array, Float64Array | null][] {
+  const n = m.re.length;
+  const complex = m.im !== null;
+  const N = complex ? 2 * n : n;
+  const M = Matrix.zeros(N, N);
+  for (let i = 0; i < n; i++)
+    for (let j = 0; j < n; j++) {
+      const a = m.re[i][j] - (i === j ? shift : 0);
+      M.set(i, j, a);
+      if (complex) {
+        M.set(n + i, n + j, a);
+        M.set(i, n + j, -m.im![i][j]);
+        M.set(n + i, j, m.im![i][j]);
+      }
+    }
+  const rhs = Matrix.zeros(N, b.length);
+  b.forEach(([re, im], q) => {
+    for (let i = 0; i < n; i++) {
+      rhs.set(i, q, re[i]);
+      if (complex) rhs.set(n + i, q, im ? im[i] : 0);
+    }
+  });
+  const x = new LuDecomposition(M).solve(rhs);
+  return b.map((_, q) => [Float64Array.from({ length: n }, (_, i) => x.get(i, q)), complex ? Float64Array.from({ length: n }, (_, i) => x.get(n + i, q)) : null]);
+}
+
+/** max_i |x_i − y_i| / max_i |y_i| over both parts. */
+function relDiff(x: [Float64Array, Float64Array | null], y: [Float64Array, Float64Array | null]): number {
+  let num = 0;
+  let den = 0;
+  for (let i = 0; i < x[0].length; i++) {
+    num = Math.max(num, Math.abs(x[0][i] - y[0][i]), x[1] ? Math.abs(x[1][i] - y[1]![i]) : 0);
+    den = Math.max(den, Math.abs(y[0][i]), y[1] ? Math.abs(y[1][i]) : 0);
+  }
+  return num / den;
+}
+
+/** The midpoint of the widest gap between eigenvalues in the middle half of the spectrum (a well-conditioned indefinite shift), with the gap. */
+function middleGapShift(eig: number[]): { shift: number; gap: number; below: number } {
+  let best = { shift: 0, gap: -1, below: 0 };
+  for (let k = Math.floor(eig.length / 4); k < Math.floor((3 * eig.length) / 4); k++) {
+    const gap = eig[k + 1] - eig[k];
+    if (gap > best.gap) best = { shift: (eig[k] + eig[k + 1]) / 2, gap: gap / 2, below: k + 1 };
+  }
+  return best;
+}
+
+/** Distinct supernode widths of an analysis. */
+function widths(sym: ReturnType<typeof analyseHermitian>): Set<number> {
+  const out = new Set<number>();
+  for (let s = 0; s + 1 < sym.superStart.length; s++) out.add(sym.superStart[s + 1] - sym.superStart[s]);
+  return out;
+}
+
+describe('the blocked kernels of the sparse LDLᴴ', () => {
+  const KERNEL_CASES = [
+    { label: 'real', n: 260, complex: false, seed: 301 },
+    { label: 'complex Hermitian', n: 210, complex: true, seed: 302 },
+  ];
+  KERNEL_CASES.forEach(({ label, n, complex, seed }) => {
+    it(`${label} (n = ${n}, supernodes of several widths): solveBlock with 1, 3, 4, 5, 16, 17, 37 columns equals single solves and the dense solve`, () => {
+      const m = randomSparse(n, seed, complex, (_, g) => 4 * (g() - 0.5), 0, 0);
+      const H = hermitianFromDense(m.re, m.im ?? undefined);
+      // large leaves: wide supernodes (odd and even widths, so every remainder path of the kernels runs)
+      const sym = analyseHermitian(H, { positions: m.positions, leafSize: 40 });
+      const ws = widths(sym);
+      expect(ws.size).toBeGreaterThanOrEqual(4);
+      expect(Math.max(...ws)).toBeGreaterThanOrEqual(9);
+      expect([...ws].some((w) => w % 2 === 1 && w > 1)).toBe(true);
+      const { shift, gap, below } = middleGapShift(m.eig);
+      const F = sparseLdl(H, sym, { shift });
+      expect(F.breakdown).toBeNull();
+      expect(F.negatives).toBe(below);
+      const g = rng(seed + 1);
+      const bound = 20 * n * EPS * (m.norm / gap); // rounding of two backward-stable solves, amplified by the conditioning
+      for (const q of [1, 3, 4, 5, 16, 17, 37]) {
+        const rhs = Array.from({ length: q }, () => [Float64Array.from({ length: n }, () => g() - 0.5), complex ? Float64Array.from({ length: n }, () => g() - 0.5) : null] as [Float64Array, Float64Array | null]);
+        const block = rhs.map(([a, b]) => [a.slice(), b ? b.slice() : null] as [Float64Array, Float64Array | null]);
+        F.solveBlock(
+          block.map((x) => x[0]),
+          complex ? block.map((x) => x[1]!) : null,
+        );
+        const dense = denseSolve(m, shift, rhs);
+        for (let r = 0; r < q; r++) {
+          const single: [Float64Array, Float64Array | null] = [rhs[r][0].slice(), rhs[r][1] ? rhs[r][1]!.slice() : null];
+          F.solve(single[0], single[1]);
+          expect(relDiff(block[r], single), `q = ${q}, column ${r} against its single solve`).toBeLessThan(bound);
+          expect(relDiff(block[r], dense[r]), `q = ${q}, column ${r} against the dense solve`).toBeLessThan(bound);
+          expect(relativeResidual(m, shift, block[r], rhs[r])).toBeLessThan(1e-13);
+        }
+      }
+      expect(bound).toBeLessThan(1e-9); // the comparison means something
+    });
+
+    it(`${label}: the factor's L D Lᴴ reproduces A − shift·I entry by entry, and the inertia equals the dense eigenvalue count at shifted indefinite points`, () => {
+      const m = randomSparse(n, seed + 10, complex, (_, g) => 4 * (g() - 0.5), 0, 0);
+      const H = hermitianFromDense(m.re, m.im ?? undefined);
+      const sym = analyseHermitian(H, { positions: m.positions, leafSize: 40 });
+      expect(Math.max(...widths(sym))).toBeGreaterThanOrEqual(9);
+      for (const frac of [0.2, 0.5, 0.8]) {
+        // between two eigenvalues near the given fraction of the spectrum
+        const k = Math.floor(frac * n);
+        const shift = (m.eig[k - 1] + m.eig[k]) / 2;
+        const F = sparseLdl(H, sym, { shift });
+        expect(F.breakdown).toBeNull();
+        expect(F.negatives, `shift ${shift}`).toBe(k);
+        expect(F.growth).toBeGreaterThanOrEqual(1 - 1e-12);
+        // dense L (new ordering) from the panels, then (L D Lᴴ)_ij against (A − shift·I)_(order i)(order j)
+        const Lr = Array.from({ length: n }, () => new Float64Array(n));
+        const Li = Array.from({ length: n }, () => new Float64Array(n));
+        for (let s = 0; s + 1 < sym.superStart.length; s++) {
+          const f = sym.superStart[s];
+          const w = sym.superStart[s + 1] - f;
+          for (let t = 0; t < sym.rowPtr[s + 1] - sym.rowPtr[s]; t++) {
+            const i = sym.superRows[sym.rowPtr[s] + t];
+            for (let c = 0; c < w && f + c < i; c++) {
+              Lr[i][f + c] = F.re[F.panelPtr[s] + t * w + c];
+              Li[i][f + c] = F.im ? F.im[F.panelPtr[s] + t * w + c] : 0;
+            }
+          }
+        }
+        for (let i = 0; i < n; i++) Lr[i][i] = 1;
+        let worst = 0;
+        let scale = 0;
+        for (let i = 0; i < n; i++)
+          for (let j = 0; j <= i; j++) {
+            let sr = 0;
+            let si = 0;
+            let mag = 0;
+            for (let c = 0; c <= j; c++) {
+              // L_ic D_c conj(L_jc)
+              const ar = Lr[i][c] * F.d[c];
+              const ai = Li[i][c] * F.d[c];
+              sr += ar * Lr[j][c] + ai * Li[j][c];
+              si += ai * Lr[j][c] - ar * Li[j][c];
+              mag += Math.hypot(ar, ai) * Math.hypot(Lr[j][c], Li[j][c]);
+            }
+            const oi = sym.order[i];
+            const oj = sym.order[j];
+            const er = m.re[oi][oj] - (i === j ? shift : 0);
+            const ei = m.im ? m.im[oi][oj] : 0;
+            worst = Math.max(worst, Math.hypot(sr - er, si - ei));
+            scale = Math.max(scale, mag);
+          }
+        // the backward error of LDLᴴ: c·(dot length)·ε·max (|L||D||Lᴴ|)_ij (Higham 2002, ch. 10, from memory)
+        expect(worst).toBeLessThan(4 * sym.dotLength * EPS * scale);
+        expect(worst).toBeLessThan(1e-12 * Math.max(m.norm, scale));
+      }
+    });
+  });
+
+  it('a real factor solves complex right-hand sides (real and imaginary parts apart) as a complex solve would', () => {
+    const n = 230;
+    const m = randomSparse(n, 311, false, (_, g) => 4 * (g() - 0.5), 0, 0);
+    const H = hermitianFromDense(m.re);
+    const sym = analyseHermitian(H, { positions: m.positions, leafSize: 40 });
+    const { shift, gap } = middleGapShift(m.eig);
+    const F = sparseLdl(H, sym, { shift });
+    const g = rng(312);
+    const rhs = Array.from({ length: 6 }, () => [Float64Array.from({ length: n }, () => g() - 0.5), Float64Array.from({ length: n }, () => g() - 0.5)] as [Float64Array, Float64Array]);
+    const xs = rhs.map(([a, b]) => [a.slice(), b.slice()] as [Float64Array, Float64Array]);
+    F.solveBlock(
+      xs.map((x) => x[0]),
+      xs.map((x) => x[1]),
+    );
+    for (let r = 0; r < rhs.length; r++) {
+      const re = rhs[r][0].slice();
+      const im = rhs[r][1].slice();
+      F.solve(re, null);
+      F.solve(im, null);
+      expect(relDiff(xs[r], [re, im])).toBeLessThan(20 * n * EPS * (m.norm / gap));
+      expect(relativeResidual(m, shift, xs[r], rhs[r])).toBeLessThan(1e-13);
+    }
+  });
+
+  it('solveBlock rejects mismatched right-hand sides with a message naming them', () => {
+    const H = hermitianFromDense([
+      [2, 1],
+      [1, 3],
+    ]);
+    const F = sparseLdl(H, analyseHermitian(H));
+    expect(() => F.solveBlock([new Float64Array(3)], null)).toThrow(/column 0 has length 3, the factor 2/);
+    expect(() => F.solveBlock([new Float64Array(2), new Float64Array(2)], [new Float64Array(2)])).toThrow(/2 real parts but 1 imaginary/);
   });
 });
 

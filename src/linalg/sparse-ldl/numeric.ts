@@ -12,6 +12,8 @@
  * max_i (Σ_k |L_ik|²|D_k| + |D_i|) / max_i |A_ii − shift|, so the same backward-error bound
  * applies with the band's widths replaced by the pattern's (SymbolicFactor.dotLength, rowWidth).
  */
+import { croutRowComplex, croutRowReal, croutRowsComplex, croutRowsReal } from './factor-kernels.js';
+import { backwardComplex, backwardReal, forwardComplex, forwardReal } from './solve-kernels.js';
 import type { SymbolicFactor } from './symbolic.js';
 
 /** A Hermitian matrix in CSR form with both triangles stored (row i lists A_ij). */
@@ -50,200 +52,128 @@ export class SparseLdlFactor {
     readonly breakdown: { index: number; pivot: number } | null,
   ) {}
 
+  /** solveBlock's chunk buffers (real and imaginary parts), grown on demand and reused. */
+  private bufR = new Float64Array(0);
+  private bufI = new Float64Array(0);
+
   /** Solve (A − shift·I) x = b in place (xIm null for real data and a real factor). */
   solve(xRe: Float64Array, xIm: Float64Array | null): void {
     this.solveBlock([xRe], xIm ? [xIm] : null);
   }
 
-  /** Solve for several right-hand sides in place, in chunks of 16 laid out row-major. */
+  /**
+   * Solve for several right-hand sides in place, in chunks of up to 32 laid out row-major (one
+   * chunk buffer per part, reused across chunks). A real factor with complex right-hand sides
+   * solves the real and imaginary parts apart.
+   */
   solveBlock(cols: Float64Array[], colsIm: Float64Array[] | null): void {
     if (this.breakdown) throw new Error('sparse LDLᴴ: cannot solve with a factor that broke down');
     const complex = this.im !== null || colsIm !== null;
     if (complex && !colsIm) throw new Error('a complex factor needs complex right-hand sides');
+    if (colsIm && colsIm.length !== cols.length) throw new RangeError(`solveBlock: ${cols.length} real parts but ${colsIm.length} imaginary parts; pass one imaginary part per column`);
     const { n, perm } = this.symbolic;
-    const CH = 16;
-    for (let c0 = 0; c0 < cols.length; c0 += CH) {
-      const c = Math.min(CH, cols.length - c0);
-      const XR = new Float64Array(n * c);
-      const XI = complex ? new Float64Array(n * c) : null;
-      for (let r = 0; r < c; r++) {
-        const cr = cols[c0 + r];
-        for (let i = 0; i < n; i++) XR[perm[i] * c + r] = cr[i];
-        if (XI) {
-          const ci = colsIm![c0 + r];
-          for (let i = 0; i < n; i++) XI[perm[i] * c + r] = ci[i];
-        }
+    for (let q = 0; q < cols.length; q++) {
+      if (cols[q].length !== n || (colsIm && colsIm[q].length !== n)) throw new RangeError(`solveBlock: column ${q} has length ${colsIm && colsIm[q].length !== n ? colsIm[q].length : cols[q].length}, the factor ${n}`);
+    }
+    const q = cols.length;
+    if (q === 0) return;
+    // chunks of equal width (multiples of 4 where possible: the kernels block four columns)
+    const chunks = Math.ceil(q / CHUNK);
+    const width = Math.min(CHUNK, 4 * Math.ceil(q / chunks / 4));
+    // the chunk buffers are kept for the next call (fresh memory costs a page fault per 4 KB)
+    const words = n * Math.min(width, q);
+    if (this.bufR.length < words) this.bufR = new Float64Array(words);
+    if (complex && this.bufI.length < words) this.bufI = new Float64Array(words);
+    const XR = this.bufR;
+    const XI = complex ? this.bufI : null;
+    for (let c0 = 0; c0 < q; c0 += width) {
+      const c = Math.min(width, q - c0);
+      gather(cols, c0, c, perm, XR);
+      if (XI) gather(colsIm!, c0, c, perm, XI);
+      if (XI && this.im) this.solveComplex(XR, XI, c);
+      else {
+        this.solveReal(XR, c);
+        if (XI) this.solveReal(XI, c);
       }
-      if (XI) this.solveComplex(XR, XI, c);
-      else if (c === 1) this.solveOneReal(XR);
-      else this.solveReal(XR, c);
-      for (let r = 0; r < c; r++) {
-        const cr = cols[c0 + r];
-        for (let i = 0; i < n; i++) cr[i] = XR[perm[i] * c + r];
-        if (XI) {
-          const ci = colsIm![c0 + r];
-          for (let i = 0; i < n; i++) ci[i] = XI[perm[i] * c + r];
-        }
-      }
+      scatter(cols, c0, c, perm, XR);
+      if (XI) scatter(colsIm!, c0, c, perm, XI);
     }
   }
 
-  /** solveReal for one vector: each row's forward sum one dot product, the backward step axpys. */
-  private solveOneReal(x: Float64Array): void {
+  /** Row offsets (new index × c) of supernode s's front rows into `off`. */
+  private offsets(s: number, c: number, off: Int32Array): void {
     const { superStart, rowPtr, superRows } = this.symbolic;
-    const P = this.re;
-    const ns = superStart.length - 1;
-    for (let s = 0; s < ns; s++) {
-      const f = superStart[s];
-      const w = superStart[s + 1] - f;
-      const r0 = rowPtr[s];
-      const nf = rowPtr[s + 1] - r0;
-      const p = this.panelPtr[s];
-      for (let i = 1; i < w; i++) {
-        const pi = p + i * w - f;
-        let t = x[f + i];
-        for (let k = f; k < f + i; k++) t -= P[pi + k] * x[k];
-        x[f + i] = t;
-      }
-      for (let i = w; i < nf; i++) {
-        const pi = p + i * w - f;
-        let t = 0;
-        for (let k = f; k < f + w; k++) t += P[pi + k] * x[k];
-        x[superRows[r0 + i]] -= t;
-      }
-    }
-    const d = this.d;
-    for (let i = 0; i < d.length; i++) x[i] /= d[i];
-    for (let s = ns - 1; s >= 0; s--) {
-      const f = superStart[s];
-      const w = superStart[s + 1] - f;
-      const r0 = rowPtr[s];
-      const nf = rowPtr[s + 1] - r0;
-      const p = this.panelPtr[s];
-      for (let i = nf - 1; i >= w; i--) {
-        const xi = x[superRows[r0 + i]];
-        if (xi === 0) continue;
-        const pi = p + i * w - f;
-        for (let k = f; k < f + w; k++) x[k] -= P[pi + k] * xi;
-      }
-      for (let i = w - 1; i >= 1; i--) {
-        const xi = x[f + i];
-        if (xi === 0) continue;
-        const pi = p + i * w - f;
-        for (let k = f; k < f + i; k++) x[k] -= P[pi + k] * xi;
-      }
-    }
+    const r0 = rowPtr[s];
+    const nf = rowPtr[s + 1] - r0;
+    for (let t = 0; t < nf; t++) off[t] = superRows[r0 + t] * c;
   }
 
   private solveReal(X: Float64Array, c: number): void {
-    const { superStart, rowPtr, superRows } = this.symbolic;
+    const { superStart, rowPtr, maxFront } = this.symbolic;
     const P = this.re;
     const ns = superStart.length - 1;
+    const off = new Int32Array(maxFront);
     for (let s = 0; s < ns; s++) {
-      const f = superStart[s];
-      const w = superStart[s + 1] - f;
-      const r0 = rowPtr[s];
-      const nf = rowPtr[s + 1] - r0;
-      const p = this.panelPtr[s];
-      for (let i = 1; i < nf; i++) {
-        const oi = (i < w ? f + i : superRows[r0 + i]) * c;
-        const pi = p + i * w;
-        const kEnd = Math.min(i, w);
-        for (let k = 0; k < kEnd; k++) {
-          const l = P[pi + k];
-          if (l === 0) continue;
-          const ok = (f + k) * c;
-          for (let r = 0; r < c; r++) X[oi + r] -= l * X[ok + r];
-        }
-      }
+      this.offsets(s, c, off);
+      forwardReal(P, this.panelPtr[s], superStart[s + 1] - superStart[s], rowPtr[s + 1] - rowPtr[s], off, X, c);
     }
     const d = this.d;
-    for (let i = 0; i < d.length; i++) {
+    for (let i = 0, o = 0; i < d.length; i++) {
       const inv = 1 / d[i];
-      for (let r = 0; r < c; r++) X[i * c + r] *= inv;
+      for (let r = 0; r < c; r++, o++) X[o] *= inv;
     }
     for (let s = ns - 1; s >= 0; s--) {
-      const f = superStart[s];
-      const w = superStart[s + 1] - f;
-      const r0 = rowPtr[s];
-      const nf = rowPtr[s + 1] - r0;
-      const p = this.panelPtr[s];
-      for (let i = nf - 1; i >= 1; i--) {
-        const oi = (i < w ? f + i : superRows[r0 + i]) * c;
-        const pi = p + i * w;
-        const kEnd = Math.min(i, w);
-        for (let k = 0; k < kEnd; k++) {
-          const l = P[pi + k];
-          if (l === 0) continue;
-          const ok = (f + k) * c;
-          for (let r = 0; r < c; r++) X[ok + r] -= l * X[oi + r];
-        }
-      }
+      this.offsets(s, c, off);
+      backwardReal(P, this.panelPtr[s], superStart[s + 1] - superStart[s], rowPtr[s + 1] - rowPtr[s], off, X, c);
     }
   }
 
   private solveComplex(XR: Float64Array, XI: Float64Array, c: number): void {
-    const { superStart, rowPtr, superRows } = this.symbolic;
+    const { superStart, rowPtr, maxFront } = this.symbolic;
     const PR = this.re;
-    const PI = this.im;
+    const PI = this.im!;
     const ns = superStart.length - 1;
+    const off = new Int32Array(maxFront);
     for (let s = 0; s < ns; s++) {
-      const f = superStart[s];
-      const w = superStart[s + 1] - f;
-      const r0 = rowPtr[s];
-      const nf = rowPtr[s + 1] - r0;
-      const p = this.panelPtr[s];
-      for (let i = 1; i < nf; i++) {
-        const oi = (i < w ? f + i : superRows[r0 + i]) * c;
-        const pi = p + i * w;
-        const kEnd = Math.min(i, w);
-        for (let k = 0; k < kEnd; k++) {
-          const lr = PR[pi + k];
-          const li = PI ? PI[pi + k] : 0;
-          if (lr === 0 && li === 0) continue;
-          const ok = (f + k) * c;
-          for (let r = 0; r < c; r++) {
-            const yr = XR[ok + r];
-            const yi = XI[ok + r];
-            XR[oi + r] -= lr * yr - li * yi;
-            XI[oi + r] -= lr * yi + li * yr;
-          }
-        }
-      }
+      this.offsets(s, c, off);
+      forwardComplex(PR, PI, this.panelPtr[s], superStart[s + 1] - superStart[s], rowPtr[s + 1] - rowPtr[s], off, XR, XI, c);
     }
     const d = this.d;
-    for (let i = 0; i < d.length; i++) {
+    for (let i = 0, o = 0; i < d.length; i++) {
       const inv = 1 / d[i];
-      for (let r = 0; r < c; r++) {
-        XR[i * c + r] *= inv;
-        XI[i * c + r] *= inv;
+      for (let r = 0; r < c; r++, o++) {
+        XR[o] *= inv;
+        XI[o] *= inv;
       }
     }
-    // Lᴴ x = z: x_k −= conj(L_ik) x_i
+    // Lᴴ x = z: x_k −= Σ_i conj(L_ik) x_i
     for (let s = ns - 1; s >= 0; s--) {
-      const f = superStart[s];
-      const w = superStart[s + 1] - f;
-      const r0 = rowPtr[s];
-      const nf = rowPtr[s + 1] - r0;
-      const p = this.panelPtr[s];
-      for (let i = nf - 1; i >= 1; i--) {
-        const oi = (i < w ? f + i : superRows[r0 + i]) * c;
-        const pi = p + i * w;
-        const kEnd = Math.min(i, w);
-        for (let k = 0; k < kEnd; k++) {
-          const lr = PR[pi + k];
-          const li = PI ? -PI[pi + k] : 0;
-          if (lr === 0 && li === 0) continue;
-          const ok = (f + k) * c;
-          for (let r = 0; r < c; r++) {
-            const xr = XR[oi + r];
-            const xi = XI[oi + r];
-            XR[ok + r] -= lr * xr - li * xi;
-            XI[ok + r] -= lr * xi + li * xr;
-          }
-        }
-      }
+      this.offsets(s, c, off);
+      backwardComplex(PR, PI, this.panelPtr[s], superStart[s + 1] - superStart[s], rowPtr[s + 1] - rowPtr[s], off, XR, XI, c);
     }
+  }
+}
+
+/** Right-hand sides per chunk of solveBlock (the solve's buffers: n × 32 words per part, as checkMemory counts). */
+const CHUNK = 32;
+
+/** Columns c0 … c0+c−1 of `cols` into the row-major chunk X in the factor's ordering, one row of X at a time. */
+function gather(cols: Float64Array[], c0: number, c: number, perm: Int32Array, X: Float64Array): void {
+  const n = perm.length;
+  const v = cols.slice(c0, c0 + c);
+  for (let i = 0; i < n; i++) {
+    const o = perm[i] * c;
+    for (let r = 0; r < c; r++) X[o + r] = v[r][i];
+  }
+}
+
+/** The chunk X back into columns c0 … c0+c−1 of `cols` (A's ordering), one row of X at a time. */
+function scatter(cols: Float64Array[], c0: number, c: number, perm: Int32Array, X: Float64Array): void {
+  const n = perm.length;
+  const v = cols.slice(c0, c0 + c);
+  for (let i = 0; i < n; i++) {
+    const o = perm[i] * c;
+    for (let r = 0; r < c; r++) v[r][i] = X[o + r];
   }
 }
 
@@ -293,6 +223,8 @@ export function sparseLdl(A: HermitianCsr, sym: SymbolicFactor, options: SparseL
   const WR = new Float64Array(maxFront * maxCols);
   const WI = complex ? new Float64Array(maxFront * maxCols) : null;
   const pos = new Int32Array(n);
+  const rel = new Int32Array(maxFront);
+  const gOut = new Float64Array(1);
   const updR: (Float64Array | null)[] = new Array(nsup).fill(null);
   const updI: (Float64Array | null)[] = new Array(nsup).fill(null);
   const firstChild = new Int32Array(nsup).fill(-1);
@@ -319,19 +251,7 @@ export function sparseLdl(A: HermitianCsr, sym: SymbolicFactor, options: SparseL
     for (let t = 0; t < nf; t++) pos[superRows[r0 + t]] = t;
     FR.fill(0, 0, nf * nf);
     if (FI) FI.fill(0, 0, nf * nf);
-    // A's entries of columns f … f+w−1 on and below the diagonal: (i, j) = conj(A_{old j, old i})
-    for (let j = f; j < f + w; j++) {
-      const v = order[j];
-      const cj = j - f;
-      for (let t = A.ptr[v]; t < A.ptr[v + 1]; t++) {
-        const i = perm[A.idx[t]];
-        if (i < j) continue;
-        const at = pos[i] * nf + cj;
-        FR[at] += A.re[t];
-        if (FI && i !== j) FI[at] -= A.im![t];
-      }
-      FR[cj * nf + cj] -= shift;
-    }
+    assembleFront(A, order, perm, pos, f, w, nf, shift, FR, FI);
     // extend-add of the children's update matrices
     for (let c = firstChild[s]; c >= 0; c = nextSibling[c]) {
       const U = updR[c];
@@ -340,38 +260,31 @@ export function sparseLdl(A: HermitianCsr, sym: SymbolicFactor, options: SparseL
       const cw = superStart[c + 1] - superStart[c];
       const cr0 = rowPtr[c] + cw;
       const nuc = rowPtr[c + 1] - cr0;
-      for (let a = 0; a < nuc; a++) {
-        const pa = pos[superRows[cr0 + a]] * nf;
-        const ua = a * nuc;
-        for (let b = 0; b <= a; b++) {
-          const at = pa + pos[superRows[cr0 + b]];
-          FR[at] += U[ua + b];
-          if (FI) FI[at] += UI![ua + b];
-        }
-      }
+      for (let a = 0; a < nuc; a++) rel[a] = pos[superRows[cr0 + a]];
+      if (UI) extendAddComplex(FR, FI!, U, UI, rel, nuc, nf);
+      else extendAddReal(FR, U, rel, nuc, nf);
       updR[c] = null;
       updI[c] = null;
     }
-    // Crout rows: L_ij for j < min(i, w), D_i for i < w; W holds L_ik·D_k
-    for (let i = 0; i < nf; i++) {
-      const fi = i * nf;
-      const wi = i * w;
-      const jEnd = Math.min(i, w);
-      let g = 0;
-      if (!FI) {
-        for (let j = 0; j < jEnd; j++) {
-          const fj = j * nf;
-          let s0 = FR[fi + j];
-          for (let k = 0; k < j; k++) s0 -= WR[wi + k] * FR[fj + k];
-          WR[wi + j] = s0;
-          FR[fi + j] = s0 / d[f + j];
+    // Crout rows: L_ij for j < min(i, w), D_i for i < w; W holds L_ik·D_k. Rows go in blocks of
+    // four: their entries left of the block's first row (every pivot they need is known) in
+    // register blocks, then row by row the rest of the block's triangle and the pivot.
+    for (let i0 = 0; i0 < nf; i0 += 4) {
+      const i1 = Math.min(nf, i0 + 4);
+      const jShared = Math.min(i0, w);
+      if (!FI) croutRowsReal(FR, WR, d, f, nf, w, i0, i1, jShared);
+      else croutRowsComplex(FR, FI, WR, WI!, d, f, nf, w, i0, i1, jShared);
+      for (let i = i0; i < i1; i++) {
+        // the rest of row i's entries, then D_i = F_ii − Σ_k W_ik conj(L_ik) and the growth term Σ_k |W_ik conj(L_ik)|
+        let dd: number;
+        if (!FI) {
+          croutRowReal(FR, WR, d, f, nf, w, i, jShared, Math.min(i, w));
+          dd = pivotReal(FR, WR, nf, w, i, gOut);
+        } else {
+          croutRowComplex(FR, FI, WR, WI!, d, f, nf, w, i, jShared, Math.min(i, w));
+          dd = pivotComplex(FR, FI, WR, WI!, nf, w, i, gOut);
         }
-        let dd = i < w ? FR[fi + i] : 0;
-        for (let k = 0; k < jEnd; k++) {
-          const t = WR[wi + k] * FR[fi + k];
-          dd -= t;
-          g += Math.abs(t);
-        }
+        const g = gOut[0];
         if (i < w) {
           if (!(Math.abs(dd) > tiny)) {
             breakdown = { index: f + i, pivot: dd };
@@ -380,48 +293,12 @@ export function sparseLdl(A: HermitianCsr, sym: SymbolicFactor, options: SparseL
           d[f + i] = dd;
           if (dd < 0) negatives++;
         }
-      } else {
-        const WIm = WI!;
-        for (let j = 0; j < jEnd; j++) {
-          const fj = j * nf;
-          let sr = FR[fi + j];
-          let si = FI[fi + j];
-          for (let k = 0; k < j; k++) {
-            // s −= W_ik · conj(L_jk)
-            const lr = FR[fj + k];
-            const li = FI[fj + k];
-            sr -= WR[wi + k] * lr + WIm[wi + k] * li;
-            si -= WIm[wi + k] * lr - WR[wi + k] * li;
-          }
-          WR[wi + j] = sr;
-          WIm[wi + j] = si;
-          FR[fi + j] = sr / d[f + j];
-          FI[fi + j] = si / d[f + j];
-        }
-        let dd = i < w ? FR[fi + i] : 0;
-        for (let k = 0; k < jEnd; k++) {
-          // W_ik conj(L_ik) = D_k |L_ik|²
-          const t = WR[wi + k] * FR[fi + k] + WIm[wi + k] * FI[fi + k];
-          dd -= t;
-          g += Math.abs(t);
-        }
-        if (i < w) {
-          if (!(Math.abs(dd) > tiny)) {
-            breakdown = { index: f + i, pivot: dd };
-            break outer;
-          }
-          d[f + i] = dd;
-          if (dd < 0) negatives++;
-        }
+        rowSum[superRows[r0 + i]] += g;
       }
-      rowSum[superRows[r0 + i]] += g;
     }
     // keep the panel (rows × w)
-    const p = panelPtr[s];
-    for (let i = 0; i < nf; i++) {
-      LR.set(FR.subarray(i * nf, i * nf + w), p + i * w);
-      if (LI) LI.set(FI!.subarray(i * nf, i * nf + w), p + i * w);
-    }
+    copyPanel(FR, LR, panelPtr[s], nf, w);
+    if (LI) copyPanel(FI!, LI, panelPtr[s], nf, w);
     // the Schur complement of the rows below, for the parent
     if (nu > 0 && superParent[s] >= 0) {
       const U = new Float64Array(nu * nu);
@@ -442,6 +319,87 @@ export function sparseLdl(A: HermitianCsr, sym: SymbolicFactor, options: SparseL
   let sMax = 0;
   for (let i = 0; i < n; i++) sMax = Math.max(sMax, rowSum[i] + Math.abs(d[i]));
   return new SparseLdlFactor(sym, panelPtr, LR, LI, d, shift, negatives, diagMax > 0 ? sMax / diagMax : 1, breakdown);
+}
+
+/**
+ * A's entries of columns f … f+w−1 (new numbering) on and below the diagonal into the front
+ * (row pos[i], column j − f): (i, j) = conj(A_(old j)(old i)); the shift off the diagonal.
+ */
+function assembleFront(A: HermitianCsr, order: Int32Array, perm: Int32Array, pos: Int32Array, f: number, w: number, nf: number, shift: number, FR: Float64Array, FI: Float64Array | null): void {
+  for (let j = f; j < f + w; j++) {
+    const v = order[j];
+    const cj = j - f;
+    for (let t = A.ptr[v]; t < A.ptr[v + 1]; t++) {
+      const i = perm[A.idx[t]];
+      if (i < j) continue;
+      const at = pos[i] * nf + cj;
+      FR[at] += A.re[t];
+      if (FI && i !== j) FI[at] -= A.im![t];
+    }
+    FR[cj * nf + cj] -= shift;
+  }
+}
+
+/** F_ii − Σ_{k<min(i,w)} W_ik L_ik (0 − … for a row below the supernode); Σ_k |W_ik L_ik| into g[0]. */
+function pivotReal(F: Float64Array, W: Float64Array, nf: number, w: number, i: number, g: Float64Array): number {
+  const fi = i * nf;
+  const wi = i * w;
+  const kEnd = Math.min(i, w);
+  let dd = i < w ? F[fi + i] : 0;
+  let sum = 0;
+  for (let k = 0; k < kEnd; k++) {
+    const t = W[wi + k] * F[fi + k];
+    dd -= t;
+    sum += Math.abs(t);
+  }
+  g[0] = sum;
+  return dd;
+}
+
+/** pivotReal for complex data: W_ik conj(L_ik) = D_k |L_ik|². */
+function pivotComplex(FR: Float64Array, FI: Float64Array, WR: Float64Array, WI: Float64Array, nf: number, w: number, i: number, g: Float64Array): number {
+  const fi = i * nf;
+  const wi = i * w;
+  const kEnd = Math.min(i, w);
+  let dd = i < w ? FR[fi + i] : 0;
+  let sum = 0;
+  for (let k = 0; k < kEnd; k++) {
+    const t = WR[wi + k] * FR[fi + k] + WI[wi + k] * FI[fi + k];
+    dd -= t;
+    sum += Math.abs(t);
+  }
+  g[0] = sum;
+  return dd;
+}
+
+/** The first w columns of the front F (nf × nf) into the panel L (nf × w) from p. */
+function copyPanel(F: Float64Array, L: Float64Array, p: number, nf: number, w: number): void {
+  for (let i = 0; i < nf; i++) {
+    const fi = i * nf;
+    const pi = p + i * w;
+    for (let k = 0; k < w; k++) L[pi + k] = F[fi + k];
+  }
+}
+
+/** F_(rel a)(rel b) += U_ab for b ≤ a: a child's update matrix into its parent's front (rel ascending). */
+function extendAddReal(F: Float64Array, U: Float64Array, rel: Int32Array, nu: number, nf: number): void {
+  for (let a = 0; a < nu; a++) {
+    const pa = rel[a] * nf;
+    const ua = a * nu;
+    for (let b = 0; b <= a; b++) F[pa + rel[b]] += U[ua + b];
+  }
+}
+
+/** extendAddReal for complex data. */
+function extendAddComplex(FR: Float64Array, FI: Float64Array, UR: Float64Array, UI: Float64Array, rel: Int32Array, nu: number, nf: number): void {
+  for (let a = 0; a < nu; a++) {
+    const pa = rel[a] * nf;
+    const ua = a * nu;
+    for (let b = 0; b <= a; b++) {
+      FR[pa + rel[b]] += UR[ua + b];
+      FI[pa + rel[b]] += UI[ua + b];
+    }
+  }
 }
 
 /** U_ab = F_(w+a)(w+b) − Σ_k W_(w+a)k L_(w+b)k for b ≤ a, two rows and two columns at a time. */
