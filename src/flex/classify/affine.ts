@@ -189,11 +189,87 @@ export function splitAffine(sc: Supercell, flexBasis: Cx[], rest: Cx[]): AffineR
     affine.push(v);
   });
   if (affine.length === 0) return { ...none, inKernel: inK.length, dropped };
+  // the eigenvectors of H are arbitrary wherever its eigenvalues coincide (all near 1 when every
+  // affine flex lies in the rest): choose the vectors of the span by fixed references instead
+  const canonical = canonicalAffineBasis(sc, affine, F);
+  affine.splice(0, affine.length, ...canonical);
   // 3. rest ⊖ affine, as coefficients of the rest
   const part = complementCoefficients(rest, affine);
   // the affine vectors are combinations of the rest vectors, orthonormalised: Y has orthonormal columns
   if (!part) throw new Error('classify: an affine flex vector lies outside the rest it was built from (internal error)');
   return { affine, rest, part, inKernel: inK.length, kept, dropped };
+}
+
+/** A reference direction joins the affine basis when this much of it (unit length) is left. */
+const REFERENCE_LEFT = 1e-6;
+
+/**
+ * An orthonormal basis of span(affine) that does not depend on the basis it is given in (so not
+ * on the flex basis a solver returns, nor on its rounding): Gram–Schmidt, in a fixed order, of the
+ * projections onto the span of reference fields — the translations along x and y, the rotation
+ * about the supercell's centroid (the rigid motions, when they are affine flexes), then the
+ * affine fields F of the unit cell in their own order. A reference is taken when more than
+ * REFERENCE_LEFT of it is left after the directions already taken; each vector v has ⟨v, r⟩ real
+ * and positive for its reference r. The span holds at most 2·(joints per cell) + 4 vectors, so the
+ * cost is a few passes over them per reference.
+ */
+export function canonicalAffineBasis(sc: Supercell, affine: Cx[], F: Cx[]): Cx[] {
+  const a = affine.length;
+  const n = affine[0].re.length;
+  const jc = n / 2;
+  const p = sc.positions;
+  let cx = 0;
+  let cy = 0;
+  for (let j = 0; j < jc; j++) {
+    cx += p[2 * j];
+    cy += p[2 * j + 1];
+  }
+  cx /= jc;
+  cy /= jc;
+  const field = (f: (j: number) => [number, number]): Cx => {
+    const v = { re: new Float64Array(n), im: new Float64Array(n) };
+    for (let j = 0; j < jc; j++) [v.re[2 * j], v.re[2 * j + 1]] = f(j);
+    scaleInPlace(v, 1 / (norm(v) || 1));
+    return v;
+  };
+  const refs: Cx[] = [field(() => [1, 0]), field(() => [0, 1]), field((j) => [-(p[2 * j + 1] - cy), p[2 * j] - cx]), ...F];
+  // coefficients c = affineᴴ r of each reference, orthonormalised in order (complex a-vectors)
+  const taken: { re: Float64Array; im: Float64Array }[] = [];
+  for (const r of refs) {
+    if (taken.length === a) break;
+    const c = { re: new Float64Array(a), im: new Float64Array(a) };
+    affine.forEach((u, k) => ([c.re[k], c.im[k]] = dot(u, r)));
+    for (let pass = 0; pass < 2; pass++)
+      for (const q of taken) {
+        let sr = 0;
+        let si = 0;
+        for (let k = 0; k < a; k++) {
+          sr += q.re[k] * c.re[k] + q.im[k] * c.im[k];
+          si += q.re[k] * c.im[k] - q.im[k] * c.re[k];
+        }
+        for (let k = 0; k < a; k++) {
+          c.re[k] -= sr * q.re[k] - si * q.im[k];
+          c.im[k] -= sr * q.im[k] + si * q.re[k];
+        }
+      }
+    let left = 0;
+    for (let k = 0; k < a; k++) left += c.re[k] ** 2 + c.im[k] ** 2;
+    left = Math.sqrt(left);
+    if (!(left > REFERENCE_LEFT)) continue;
+    for (let k = 0; k < a; k++) {
+      c.re[k] /= left;
+      c.im[k] /= left;
+    }
+    taken.push(c);
+  }
+  // the fields F span every affine field, so their projections span the affine flexes in the rest
+  if (taken.length < a) throw new Error(`classify: the reference fields reach only ${taken.length} of the ${a} affine directions (internal error)`);
+  const real = affine.every((u) => u.im.every((x) => x === 0)) && taken.every((q) => q.im.every((x) => x === 0));
+  return taken.map((q) => {
+    const v = { re: new Float64Array(n), im: new Float64Array(n) };
+    affine.forEach((u, k) => addScaled(v, u, q.re[k], q.im[k], real));
+    return v;
+  });
 }
 
 /**
