@@ -446,72 +446,120 @@ export function reverseCuthillMcKee(g: Graph): Int32Array {
   const { n, ptr, adj } = g;
   const order = new Int32Array(n);
   const visited = new Uint8Array(n);
-  const degree = (i: number) => ptr[i + 1] - ptr[i];
   let filled = 0;
-  const level = new Int32Array(n);
   // one queue for every breadth-first search (typed, reused: a pass allocates nothing)
-  const queue = new Int32Array(n);
-  const bfsLevels = (start: number): { last: Int32Array; depth: number } => {
-    // BFS over the unvisited component, tracking levels (uses `level` with −1 = unseen)
-    queue[0] = start;
-    let tail = 1;
-    level[start] = 0;
-    let head = 0;
-    let depth = 0;
-    while (head < tail) {
-      const v = queue[head++];
-      const lv = level[v] + 1;
-      for (let k = ptr[v]; k < ptr[v + 1]; k++) {
-        const u = adj[k];
-        if (visited[u] || level[u] >= 0) continue;
-        level[u] = lv;
-        if (lv > depth) depth = lv;
-        queue[tail++] = u;
-      }
-    }
-    // the last level is the queue's tail (levels are appended in order)
-    let first = tail;
-    while (first > 0 && level[queue[first - 1]] === depth) first--;
-    const last = queue.slice(first, tail);
-    for (let i = 0; i < tail; i++) level[queue[i]] = -1;
-    return { last, depth };
-  };
-  level.fill(-1);
+  const bfs: LevelSearch = { ptr, adj, visited, level: new Int32Array(n).fill(-1), queue: new Int32Array(n), depth: 0, lastMinDegree: -1 };
   for (let s = 0; s < n; s++) {
     if (visited[s]) continue;
     // pseudo-peripheral node (George & Liu's heuristic): restart from a minimum-degree node of
-    // the last level while the eccentricity grows
+    // the last level (the first such in the queue) while the eccentricity grows
     let start = s;
-    let { last, depth } = bfsLevels(start);
+    levelSearch(bfs, start);
+    let depth = bfs.depth;
+    let cand = bfs.lastMinDegree;
     for (let it = 0; it < 8; it++) {
-      let cand = last[0];
-      for (const v of last) if (degree(v) < degree(cand)) cand = v;
-      const next = bfsLevels(cand);
-      if (next.depth <= depth) break;
+      levelSearch(bfs, cand);
+      if (bfs.depth <= depth) break;
       start = cand;
-      last = next.last;
-      depth = next.depth;
+      depth = bfs.depth;
+      cand = bfs.lastMinDegree;
     }
     // Cuthill–McKee from `start`
-    const begin = filled;
-    order[filled++] = start;
-    visited[start] = 1;
-    let head = begin;
-    const nb: number[] = [];
-    while (head < filled) {
-      const v = order[head++];
-      nb.length = 0;
-      for (let k = ptr[v]; k < ptr[v + 1]; k++) {
-        const u = adj[k];
-        if (!visited[u]) {
-          visited[u] = 1;
-          nb.push(u);
-        }
-      }
-      nb.sort((x, y) => degree(x) - degree(y) || x - y);
-      for (const u of nb) order[filled++] = u;
-    }
+    filled = cuthillMcKee(ptr, adj, visited, order, filled, start);
   }
   order.reverse();
   return order;
+}
+
+/** State of the level searches of reverseCuthillMcKee (`level` −1 = unseen between searches). */
+interface LevelSearch {
+  ptr: Int32Array;
+  adj: Int32Array;
+  visited: Uint8Array;
+  level: Int32Array;
+  queue: Int32Array;
+  /** Results of the last search: its depth and the first node of least degree on its last level. */
+  depth: number;
+  lastMinDegree: number;
+}
+
+/** Breadth-first search over the unvisited component of `start`, by levels. */
+function levelSearch(st: LevelSearch, start: number): void {
+  const { ptr, adj, visited, level, queue } = st;
+  queue[0] = start;
+  let tail = 1;
+  level[start] = 0;
+  let head = 0;
+  let depth = 0;
+  while (head < tail) {
+    const v = queue[head++];
+    const lv = level[v] + 1;
+    for (let k = ptr[v]; k < ptr[v + 1]; k++) {
+      const u = adj[k];
+      if (visited[u] || level[u] >= 0) continue;
+      level[u] = lv;
+      if (lv > depth) depth = lv;
+      queue[tail++] = u;
+    }
+  }
+  // the last level is the queue's tail (levels are appended in order)
+  let first = tail;
+  while (first > 0 && level[queue[first - 1]] === depth) first--;
+  let cand = queue[first];
+  for (let t = first + 1; t < tail; t++) {
+    const v = queue[t];
+    if (ptr[v + 1] - ptr[v] < ptr[cand + 1] - ptr[cand]) cand = v;
+  }
+  for (let i = 0; i < tail; i++) level[queue[i]] = -1;
+  st.depth = depth;
+  st.lastMinDegree = cand;
+}
+
+/**
+ * Cuthill–McKee from `start` into order[filled…]: breadth first, each node's unvisited neighbours
+ * by increasing (degree, index). Returns the new fill.
+ */
+function cuthillMcKee(ptr: Int32Array, adj: Int32Array, visited: Uint8Array, order: Int32Array, filled: number, start: number): number {
+  const n = visited.length;
+  let head = filled;
+  order[filled++] = start;
+  visited[start] = 1;
+  while (head < filled) {
+    const v = order[head++];
+    const from = filled;
+    for (let k = ptr[v]; k < ptr[v + 1]; k++) {
+      const u = adj[k];
+      if (!visited[u]) {
+        visited[u] = 1;
+        order[filled++] = u;
+      }
+    }
+    // sorted in place: insertion sort for the usual few, a typed sort of packed keys for a long run
+    if (filled - from > 32) sortByDegree(order, from, filled, ptr, n);
+    else {
+      for (let t = from + 1; t < filled; t++) {
+        const u = order[t];
+        const du = ptr[u + 1] - ptr[u];
+        let s = t - 1;
+        while (s >= from) {
+          const x = order[s];
+          const dx = ptr[x + 1] - ptr[x];
+          if (dx < du || (dx === du && x < u)) break;
+          order[s + 1] = x;
+          s--;
+        }
+        order[s + 1] = u;
+      }
+    }
+  }
+  return filled;
+}
+
+/** Sorts a[from … to − 1] (distinct nodes of a graph on n nodes) by (degree, index): keys degree·n + node, exact in a double. */
+function sortByDegree(a: Int32Array, from: number, to: number, ptr: Int32Array, n: number): void {
+  const keys = new Float64Array(to - from);
+  for (let t = from; t < to; t++) keys[t - from] = (ptr[a[t] + 1] - ptr[a[t]]) * n + a[t];
+  keys.sort();
+  // the remainder of a double is exact
+  for (let t = from; t < to; t++) a[t] = keys[t - from] % n;
 }

@@ -46,35 +46,47 @@ export function gramBandwidth(A: SparseMatrix, perm: Int32Array): number {
   return bw;
 }
 
-/** The graph of AᴴA: nodes are A's columns, joined when some row of A holds both (two passes: count, then fill). */
+/**
+ * Σ over A's columns c of Σ over the rows r holding c of (entries in row r): an upper bound of the
+ * entries of AᴴA's pattern row by row (products counted with repeats), one pass over Aᴴ.
+ */
+function productBound(A: SparseMatrix, AH: SparseMatrix): number {
+  let total = 0;
+  for (let k = 0; k < AH.colIdx.length; k++) {
+    const r = AH.colIdx[k];
+    total += A.rowPtr[r + 1] - A.rowPtr[r];
+  }
+  return total;
+}
+
+/**
+ * The graph of AᴴA: nodes are A's columns, joined when some row of A holds both; each node's
+ * neighbours in the order first met (rows of Aᴴ, then the entries of A's row). One pass into a
+ * buffer sized by the count of products, then trimmed.
+ */
 export function gramGraph(A: SparseMatrix, AH: SparseMatrix): Graph {
   const n = A.cols;
-  const mark = new Int32Array(n);
+  const mark = new Int32Array(n).fill(-1);
   const ptr = new Int32Array(n + 1);
-  // the neighbours of every column in turn; `adj` null: only count them into ptr
-  const walk = (adj: Int32Array | null): void => {
-    mark.fill(-1);
-    let w = 0;
-    for (let i = 0; i < n; i++) {
-      mark[i] = i;
-      for (let k = AH.rowPtr[i]; k < AH.rowPtr[i + 1]; k++) {
-        const r = AH.colIdx[k];
-        for (let t = A.rowPtr[r]; t < A.rowPtr[r + 1]; t++) {
-          const c = A.colIdx[t];
-          if (mark[c] !== i) {
-            mark[c] = i;
-            if (adj) adj[w] = c;
-            w++;
-          }
+  const buf = new Int32Array(productBound(A, AH));
+  const { rowPtr: hPtr, colIdx: hIdx } = AH;
+  const { rowPtr: aPtr, colIdx: aIdx } = A;
+  let w = 0;
+  for (let i = 0; i < n; i++) {
+    mark[i] = i;
+    for (let k = hPtr[i]; k < hPtr[i + 1]; k++) {
+      const r = hIdx[k];
+      for (let t = aPtr[r]; t < aPtr[r + 1]; t++) {
+        const c = aIdx[t];
+        if (mark[c] !== i) {
+          mark[c] = i;
+          buf[w++] = c;
         }
       }
-      ptr[i + 1] = w;
     }
-  };
-  walk(null);
-  const adj = new Int32Array(ptr[n]);
-  walk(adj);
-  return { n, ptr, adj };
+    ptr[i + 1] = w;
+  }
+  return { n, ptr, adj: buf.slice(0, w) };
 }
 
 export function inversePermutation(order: Int32Array): Int32Array {
@@ -83,41 +95,120 @@ export function inversePermutation(order: Int32Array): Int32Array {
   return perm;
 }
 
-/** The narrower of the given orderings (perm[old] = new) for AᴴA. */
+function identity(k: number): Int32Array {
+  const p = new Int32Array(k);
+  for (let i = 0; i < k; i++) p[i] = i;
+  return p;
+}
+
+/** The narrower of the given orderings (perm[old] = new) for AᴴA; the first on a tie. */
 export function narrowest(A: SparseMatrix, perms: Int32Array[]): { perm: Int32Array; bw: number } {
   let best = { perm: perms[0], bw: gramBandwidth(A, perms[0]) };
-  for (const p of perms.slice(1)) {
-    const bw = gramBandwidth(A, p);
-    if (bw < best.bw) best = { perm: p, bw };
+  for (let i = 1; i < perms.length; i++) {
+    const bw = gramBandwidth(A, perms[i]);
+    if (bw < best.bw) best = { perm: perms[i], bw };
   }
   return best;
 }
 
+/**
+ * R's rows "by cell": sorted by the first, then the last band position of their columns under
+ * colPerm, then by index (an empty row counts as (0, 0)). Returns order[new] = row. Two stable
+ * counting sorts (by the last position, then by the first), the order a comparison sort on
+ * (first, last, index) gives.
+ */
+export function rowsByCell(R: SparseMatrix, colPerm: Int32Array): Int32Array {
+  const m = R.rows;
+  const n = R.cols;
+  const lo = new Int32Array(m);
+  const hi = new Int32Array(m);
+  for (let r = 0; r < m; r++) {
+    let a = n;
+    let b = -1;
+    for (let k = R.rowPtr[r]; k < R.rowPtr[r + 1]; k++) {
+      const p = colPerm[R.colIdx[k]];
+      if (p < a) a = p;
+      if (p > b) b = p;
+    }
+    if (b < 0) a = b = 0;
+    lo[r] = a;
+    hi[r] = b;
+  }
+  const count = new Int32Array(Math.max(1, n) + 1);
+  const pass = (key: Int32Array, from: Int32Array | null, to: Int32Array) => {
+    count.fill(0);
+    for (let r = 0; r < m; r++) count[key[r] + 1]++;
+    for (let v = 0; v < n; v++) count[v + 1] += count[v];
+    for (let t = 0; t < m; t++) {
+      const r = from ? from[t] : t;
+      to[count[key[r]]++] = r;
+    }
+  };
+  const byHi = new Int32Array(m);
+  pass(hi, null, byHi);
+  const order = new Int32Array(m);
+  pass(lo, byHi, order);
+  return order;
+}
+
+/** The flex side's band ordering: the narrower of R's own column order and reverse Cuthill–McKee on RᴴR. */
+function columnOrdering(R: SparseMatrix, RH: SparseMatrix): { perm: Int32Array; bw: number } {
+  const colRcm = inversePermutation(reverseCuthillMcKee(gramGraph(R, RH)));
+  const cols = narrowest(R, [identity(R.cols), colRcm]);
+  return { perm: cols.perm, bw: Math.min(cols.bw, Math.max(0, R.cols - 1)) };
+}
+
+/** The stress side's: the narrower of R's rows by cell (under the column ordering) and reverse Cuthill–McKee on RRᴴ. */
+function rowOrdering(R: SparseMatrix, RH: SparseMatrix, colPerm: Int32Array): { perm: Int32Array; bw: number } {
+  const byCell = rowsByCell(R, colPerm);
+  const rowRcm = inversePermutation(reverseCuthillMcKee(gramGraph(RH, R)));
+  const rows = narrowest(RH, [inversePermutation(byCell), rowRcm]);
+  return { perm: rows.perm, bw: Math.min(rows.bw, Math.max(0, R.rows - 1)) };
+}
+
+/**
+ * The two sides. Each side's band ordering (perm, bw) is computed on first read and kept (getters
+ * on the side): a count factors one side, and a sparse-planned side reads only bw (for the
+ * band's figures). The stress side's ordering reads the flex side's (rows by cell).
+ */
 export function makeSides(R: SparseMatrix, RH: SparseMatrix, positions?: SidePositions): { flex: Side; stress: Side } {
   const n = R.cols;
   const m = R.rows;
-  const identity = (k: number) => Int32Array.from({ length: k }, (_, i) => i);
-  const colRcm = inversePermutation(reverseCuthillMcKee(gramGraph(R, RH)));
-  const cols = narrowest(R, [identity(n), colRcm]);
-  // rows of R sorted by the first (then last) band position of their columns: "by cell"
-  const key = new Float64Array(m);
-  for (let r = 0; r < m; r++) {
-    let lo = Infinity;
-    let hi = -Infinity;
-    for (let k = R.rowPtr[r]; k < R.rowPtr[r + 1]; k++) {
-      const p = cols.perm[R.colIdx[k]];
-      lo = Math.min(lo, p);
-      hi = Math.max(hi, p);
-    }
-    key[r] = lo === Infinity ? 0 : lo * (n + 1) + hi;
-  }
-  const byCell = Int32Array.from({ length: m }, (_, i) => i).sort((a, b) => key[a] - key[b] || a - b);
-  const rowRcm = inversePermutation(reverseCuthillMcKee(gramGraph(RH, R)));
-  const rows = narrowest(RH, [inversePermutation(byCell), rowRcm]);
-  return {
-    flex: { kind: 'flexes', A: R, AH: RH, dim: n, perm: cols.perm, bw: Math.min(cols.bw, Math.max(0, n - 1)), gramName: 'RᴴR', opName: 'R', positions: positions?.columns ?? null },
-    stress: { kind: 'selfStresses', A: RH, AH: R, dim: m, perm: rows.perm, bw: Math.min(rows.bw, Math.max(0, m - 1)), gramName: 'RRᴴ', opName: 'Rᴴ', positions: positions?.rows ?? null },
+  let cols: { perm: Int32Array; bw: number } | null = null;
+  let rows: { perm: Int32Array; bw: number } | null = null;
+  const colsOf = () => (cols ??= columnOrdering(R, RH));
+  const rowsOf = () => (rows ??= rowOrdering(R, RH, colsOf().perm));
+  const flex: Side = {
+    kind: 'flexes',
+    A: R,
+    AH: RH,
+    dim: n,
+    get perm() {
+      return colsOf().perm;
+    },
+    get bw() {
+      return colsOf().bw;
+    },
+    gramName: 'RᴴR',
+    opName: 'R',
+    positions: positions?.columns ?? null,
   };
+  const stress: Side = {
+    kind: 'selfStresses',
+    A: RH,
+    AH: R,
+    dim: m,
+    get perm() {
+      return rowsOf().perm;
+    },
+    get bw() {
+      return rowsOf().bw;
+    },
+    gramName: 'RRᴴ',
+    opName: 'Rᴴ',
+    positions: positions?.rows ?? null,
+  };
+  return { flex, stress };
 }
 
 /** K = AᴴA in band storage, permuted. */
@@ -147,56 +238,72 @@ export function gramBand(side: Side): BandMatrix {
   return G;
 }
 
-/** K = AᴴA with both triangles stored, in the side's own (unpermuted) numbering. */
+/** Sorts a[from … to − 1] ascending (insertion sort for short runs, the typed-array sort beyond). */
+function sortRun(a: Int32Array, from: number, to: number): void {
+  if (to - from > 32) {
+    a.subarray(from, to).sort();
+    return;
+  }
+  for (let t = from + 1; t < to; t++) {
+    const v = a[t];
+    let u = t - 1;
+    while (u >= from && a[u] > v) {
+      a[u + 1] = a[u];
+      u--;
+    }
+    a[u + 1] = v;
+  }
+}
+
+/**
+ * K = AᴴA with both triangles stored, in the side's own (unpermuted) numbering. Row by row: the
+ * products accumulate per column (in the order of Aᴴ's row, then A's rows), the row's columns are
+ * sorted in place, and the buffers are sized once by the count of products and trimmed at the end.
+ */
 export function gramCsr(side: Side): HermitianCsr {
   const { A, AH } = side;
   const n = side.dim;
   const mark = new Int32Array(n).fill(-1);
   const accR = new Float64Array(n);
-  const accI = A.im ? new Float64Array(n) : null;
+  const Aim = A.im;
+  const AHim = AH.im;
+  const accI = Aim ? new Float64Array(n) : null;
   const ptr = new Int32Array(n + 1);
-  let idx = new Int32Array(Math.max(16, 8 * n));
-  let re = new Float64Array(idx.length);
-  let im = accI ? new Float64Array(idx.length) : null;
+  const cap = productBound(A, AH) + n;
+  const idx = new Int32Array(cap);
+  const re = new Float64Array(cap);
+  const im = accI ? new Float64Array(cap) : null;
+  const { rowPtr: hPtr, colIdx: hIdx, re: hRe } = AH;
+  const { rowPtr: aPtr, colIdx: aIdx, re: aRe } = A;
   let w = 0;
-  const row: number[] = [];
   for (let i = 0; i < n; i++) {
-    row.length = 0;
+    const begin = w;
     // K_ij = Σ_r conj(A_ri) A_rj; AH's row i holds conj(A_ri)
-    for (let a = AH.rowPtr[i]; a < AH.rowPtr[i + 1]; a++) {
-      const r = AH.colIdx[a];
-      const xr = AH.re[a];
-      const xi = AH.im ? AH.im[a] : 0;
-      for (let b = A.rowPtr[r]; b < A.rowPtr[r + 1]; b++) {
-        const j = A.colIdx[b];
+    for (let a = hPtr[i]; a < hPtr[i + 1]; a++) {
+      const r = hIdx[a];
+      const xr = hRe[a];
+      const xi = AHim ? AHim[a] : 0;
+      for (let b = aPtr[r]; b < aPtr[r + 1]; b++) {
+        const j = aIdx[b];
         if (mark[j] !== i) {
           mark[j] = i;
           accR[j] = 0;
           if (accI) accI[j] = 0;
-          row.push(j);
+          idx[w++] = j;
         }
-        const yr = A.re[b];
-        accR[j] += xr * yr - (A.im ? xi * A.im[b] : 0);
-        if (accI) accI[j] += xr * A.im![b] + xi * yr;
+        const yr = aRe[b];
+        accR[j] += xr * yr - (Aim ? xi * Aim[b] : 0);
+        if (accI) accI[j] += xr * Aim![b] + xi * yr;
       }
     }
-    if (mark[i] !== i) row.push(i); // an empty column still gets its (zero) diagonal
-    row.sort((x, y) => x - y);
-    if (w + row.length > idx.length) {
-      const size = Math.max(2 * idx.length, w + row.length);
-      const grow = <T extends Int32Array | Float64Array>(old: T, fresh: T): T => {
-        fresh.set(old);
-        return fresh;
-      };
-      idx = grow(idx, new Int32Array(size));
-      re = grow(re, new Float64Array(size));
-      if (im) im = grow(im, new Float64Array(size));
-    }
-    for (const j of row) {
-      idx[w] = j;
-      re[w] = mark[j] === i ? accR[j] : 0;
-      if (im) im[w] = mark[j] === i && j !== i ? accI![j] : 0;
-      w++;
+    const diagonal = mark[i] === i;
+    if (!diagonal) idx[w++] = i; // an empty column still gets its (zero) diagonal
+    sortRun(idx, begin, w);
+    for (let t = begin; t < w; t++) {
+      const j = idx[t];
+      const here = j !== i || diagonal;
+      re[t] = here ? accR[j] : 0;
+      if (im) im[t] = here && j !== i ? accI![j] : 0;
     }
     ptr[i + 1] = w;
   }

@@ -36,94 +36,30 @@ export function nestedDissection(g: Graph, options: OrderingOptions = {}): Int32
   const localIndex = new Int32Array(n).fill(-1);
 
   const emit = (nodes: Int32Array) => {
-    for (const v of nodes) {
+    for (let t = 0; t < nodes.length; t++) {
+      const v = nodes[t];
       order[filled++] = v;
       label[v] = -1;
     }
   };
   const leaf = (nodes: Int32Array) => {
     if (nodes.length <= 2) return emit(nodes);
-    const local = inducedSubgraph(g, nodes, localIndex);
-    const o = reverseCuthillMcKee(local);
-    emit(o.map((i) => nodes[i]));
+    const o = reverseCuthillMcKee(inducedSubgraph(g, nodes, localIndex));
+    for (let t = 0; t < o.length; t++) {
+      const v = nodes[o[t]];
+      order[filled++] = v;
+      label[v] = -1;
+    }
   };
   const relabel = (nodes: Int32Array): number => {
     const id = nextLabel++;
-    for (const v of nodes) label[v] = id;
+    for (let t = 0; t < nodes.length; t++) label[nodes[t]] = id;
     return id;
   };
 
-  /** Split `nodes` (all carrying label `id`) into [A, B, S]; null when no useful split exists. */
-  const splitGeometric = (nodes: Int32Array, id: number): [Int32Array, Int32Array, Int32Array] | null => {
-    const p = positions!;
-    let x0 = Infinity;
-    let x1 = -Infinity;
-    let y0 = Infinity;
-    let y1 = -Infinity;
-    for (let t = 0; t < nodes.length; t++) {
-      const v = nodes[t];
-      x0 = Math.min(x0, p[2 * v]);
-      x1 = Math.max(x1, p[2 * v]);
-      y0 = Math.min(y0, p[2 * v + 1]);
-      y1 = Math.max(y1, p[2 * v + 1]);
-    }
-    const axis = x1 - x0 >= y1 - y0 ? 0 : 1;
-    // the low half: coordinates below the median, then ties in index order up to half
-    const coords = new Float64Array(nodes.length);
-    for (let i = 0; i < nodes.length; i++) coords[i] = p[2 * nodes[i] + axis];
-    const half = nodes.length >> 1;
-    const median = selectKth(coords, half);
-    let lowCount = 0;
-    for (let t = 0; t < nodes.length; t++) {
-      const v = nodes[t];
-      const low = p[2 * v + axis] < median;
-      isLow[v] = low ? 1 : 0;
-      if (low) lowCount++;
-    }
-    for (let t = 0; t < nodes.length; t++) {
-      const v = nodes[t];
-      if (lowCount >= half) break;
-      if (!isLow[v] && p[2 * v + axis] === median) {
-        isLow[v] = 1;
-        lowCount++;
-      }
-    }
-    // the one-sided boundaries of the cut, both in one pass (a node is on its side's boundary when
-    // a neighbour in the subset lies across the cut); the smaller is the separator
-    let lowBoundary = 0;
-    let highBoundary = 0;
-    const { ptr, adj } = g;
-    for (let t = 0; t < nodes.length; t++) {
-      const v = nodes[t];
-      const side = isLow[v];
-      inBoundary[v] = 0;
-      for (let k = ptr[v]; k < ptr[v + 1]; k++) {
-        const u = adj[k];
-        if (label[u] === id && isLow[u] !== side) {
-          inBoundary[v] = 1;
-          if (side) lowBoundary++;
-          else highBoundary++;
-          break;
-        }
-      }
-    }
-    const sepSide = lowBoundary <= highBoundary ? 1 : 0;
-    const sepSize = Math.min(lowBoundary, highBoundary);
-    if (sepSize >= nodes.length / 2) return null;
-    const A = new Int32Array(lowCount - (sepSide === 1 ? sepSize : 0));
-    const B = new Int32Array(nodes.length - lowCount - (sepSide === 0 ? sepSize : 0));
-    const S = new Int32Array(sepSize);
-    let a = 0;
-    let b = 0;
-    let c = 0;
-    for (let t = 0; t < nodes.length; t++) {
-      const v = nodes[t];
-      if (inBoundary[v] && isLow[v] === sepSide) S[c++] = v;
-      else if (isLow[v]) A[a++] = v;
-      else B[b++] = v;
-    }
-    return [A, B, S];
-  };
+  const split: GeometricSplit | null = positions
+    ? { ptr: g.ptr, adj: g.adj, p: positions, reach: neighbourReach(g, positions), coords: new Float64Array(n), isLow, inBoundary, label, box: new Float64Array(5), counts: new Int32Array(2) }
+    : null;
 
   /** Breadth-first level structure inside the subset; returns the nodes reached, by level. */
   const bfs = (start: number, id: number): { seen: number[]; depth: number } => {
@@ -201,7 +137,7 @@ export function nestedDissection(g: Graph, options: OrderingOptions = {}): Int32
     if (nodes.length <= leafSize) return leaf(nodes);
     const id = relabel(nodes);
     let parts: [Int32Array, Int32Array, Int32Array] | null;
-    if (positions) parts = splitGeometric(nodes, id);
+    if (split) parts = splitGeometric(split, nodes, id);
     else {
       const r = splitByLevels(nodes, id);
       if (r === 'disconnected') {
@@ -219,37 +155,223 @@ export function nestedDissection(g: Graph, options: OrderingOptions = {}): Int32
     emit(S);
   };
 
-  const all = Int32Array.from({ length: n }, (_, i) => i);
+  const all = new Int32Array(n);
+  for (let i = 0; i < n; i++) all[i] = i;
   dissect(all);
   if (filled !== n) throw new Error(`nestedDissection: ordered ${filled} of ${n} unknowns`);
   return order;
 }
 
+/**
+ * What a coordinate bisection reads and writes. Each step below is its own function with one
+ * loop and nothing after it but a plain return (results go to `box` and `counts` inside the loop):
+ * the first split runs over every unknown, and V8 compiles a long-running loop on the spot with
+ * the feedback gathered so far. Code after the loop has none then; that compiled loop is reused
+ * by later calls, which dropped out of it at the loop's end once per call (thousands of times),
+ * and a function holding several loops was compiled and thrown away once per loop.
+ */
+interface GeometricSplit {
+  ptr: Int32Array;
+  adj: Int32Array;
+  /** x, y per unknown; the neighbour reach per unknown and axis (neighbourReach). */
+  p: Float64Array;
+  reach: Float64Array;
+  /** The coordinates of the subset being split (a prefix), reordered by partitionAt. */
+  coords: Float64Array;
+  isLow: Uint8Array;
+  inBoundary: Uint8Array;
+  label: Int32Array;
+  /** Results of the steps: the extents (extents), the low and high boundary counts (markBoundary). */
+  box: Float64Array;
+  counts: Int32Array;
+}
+
+/** Split `nodes` (all carrying label `id`) into [A, B, S]; null when no useful split exists. */
+function splitGeometric(st: GeometricSplit, nodes: Int32Array, id: number): [Int32Array, Int32Array, Int32Array] | null {
+  const len = nodes.length;
+  const box = st.box;
+  extents(st.p, nodes, box);
+  // (Math.min/max turned an extent NaN, and the comparison false, when a coordinate was NaN)
+  const axis = box[4] === 0 && box[1] - box[0] >= box[3] - box[2] ? 0 : 1;
+  // the low half: coordinates below the median, then ties in index order up to half
+  const along = st.coords.subarray(0, len);
+  gatherAxis(st.p, nodes, axis, along);
+  const half = len >> 1;
+  partitionAt(along, half);
+  const median = along[half];
+  let lowCount = markBelow(st.p, nodes, axis, median, st.isLow);
+  if (lowCount < half) lowCount = markTies(st.p, nodes, axis, median, st.isLow, lowCount, half);
+  // the one-sided boundaries of the cut, both in one pass (a node is on its side's boundary when
+  // a neighbour in the subset lies across the cut); the smaller is the separator
+  markBoundary(st, nodes, id, axis, median);
+  const lowBoundary = st.counts[0];
+  const highBoundary = st.counts[1];
+  const sepSide = lowBoundary <= highBoundary ? 1 : 0;
+  const sepSize = Math.min(lowBoundary, highBoundary);
+  if (sepSize >= len / 2) return null;
+  const A = new Int32Array(lowCount - (sepSide === 1 ? sepSize : 0));
+  const B = new Int32Array(len - lowCount - (sepSide === 0 ? sepSize : 0));
+  const S = new Int32Array(sepSize);
+  distribute(nodes, st.isLow, st.inBoundary, sepSide, A, B, S);
+  return [A, B, S];
+}
+
+/** box = [min x, max x, min y, max y, 1 if a coordinate is NaN else 0] over the nodes (written as they change). */
+function extents(p: Float64Array, nodes: Int32Array, box: Float64Array): void {
+  box[0] = box[2] = Infinity;
+  box[1] = box[3] = -Infinity;
+  box[4] = 0;
+  for (let t = 0; t < nodes.length; t++) {
+    const v = nodes[t];
+    const x = p[2 * v];
+    const y = p[2 * v + 1];
+    if (x < box[0]) box[0] = x;
+    if (x > box[1]) box[1] = x;
+    if (y < box[2]) box[2] = y;
+    if (y > box[3]) box[3] = y;
+    if (x !== x || y !== y) box[4] = 1;
+  }
+}
+
+function gatherAxis(p: Float64Array, nodes: Int32Array, axis: number, out: Float64Array): void {
+  for (let t = 0; t < nodes.length; t++) out[t] = p[2 * nodes[t] + axis];
+}
+
+/** isLow = coordinate below the median; returns how many are. */
+function markBelow(p: Float64Array, nodes: Int32Array, axis: number, median: number, isLow: Uint8Array): number {
+  let count = 0;
+  for (let t = 0; t < nodes.length; t++) {
+    const v = nodes[t];
+    if (p[2 * v + axis] < median) {
+      isLow[v] = 1;
+      count++;
+    } else isLow[v] = 0;
+  }
+  return count;
+}
+
+/** Nodes at the median join the low side in index order until it holds `half`. */
+function markTies(p: Float64Array, nodes: Int32Array, axis: number, median: number, isLow: Uint8Array, count: number, half: number): number {
+  for (let t = 0; t < nodes.length && count < half; t++) {
+    const v = nodes[t];
+    if (!isLow[v] && p[2 * v + axis] === median) {
+      isLow[v] = 1;
+      count++;
+    }
+  }
+  return count;
+}
+
+/**
+ * inBoundary = 1 for a node with a neighbour in the subset across the cut; st.counts gets the low
+ * and the high side's counts (written inside the loop). A low node whose farthest neighbour along the
+ * axis still lies below the median (a high one: above it) has no neighbour across the cut and is
+ * not scanned: its reach is never below the true distance and rounding is monotone, so the test
+ * only skips nodes the scan would clear.
+ */
+function markBoundary(st: GeometricSplit, nodes: Int32Array, id: number, axis: number, median: number): void {
+  const { ptr, adj, p, reach, isLow, inBoundary, label, counts } = st;
+  counts[0] = counts[1] = 0;
+  for (let t = 0; t < nodes.length; t++) {
+    const v = nodes[t];
+    const side = isLow[v];
+    inBoundary[v] = 0;
+    const c = p[2 * v + axis];
+    if (side ? c + reach[2 * v + axis] < median : c - reach[2 * v + axis] > median) continue;
+    for (let k = ptr[v]; k < ptr[v + 1]; k++) {
+      const u = adj[k];
+      if (label[u] === id && isLow[u] !== side) {
+        inBoundary[v] = 1;
+        counts[side ? 0 : 1]++;
+        break;
+      }
+    }
+  }
+}
+
+/** The separator (boundary nodes on sepSide), then the low and high sides, each in the nodes' order. */
+function distribute(nodes: Int32Array, isLow: Uint8Array, inBoundary: Uint8Array, sepSide: number, A: Int32Array, B: Int32Array, S: Int32Array): void {
+  let a = 0;
+  let b = 0;
+  let c = 0;
+  for (let t = 0; t < nodes.length; t++) {
+    const v = nodes[t];
+    if (inBoundary[v] && isLow[v] === sepSide) S[c++] = v;
+    else if (isLow[v]) A[a++] = v;
+    else B[b++] = v;
+  }
+}
+
 /** The subgraph on `nodes` (local indices 0…k−1), self loops dropped; `local` is −1 everywhere and left so. */
 function inducedSubgraph(g: Graph, nodes: Int32Array, local: Int32Array): Graph {
   const k = nodes.length;
-  nodes.forEach((v, i) => (local[v] = i));
+  let bound = 0;
+  for (let i = 0; i < k; i++) {
+    const v = nodes[i];
+    local[v] = i;
+    bound += g.ptr[v + 1] - g.ptr[v];
+  }
   const ptr = new Int32Array(k + 1);
-  const adj: number[] = [];
+  const adj = new Int32Array(bound);
+  let w = 0;
   for (let i = 0; i < k; i++) {
     const v = nodes[i];
     for (let t = g.ptr[v]; t < g.ptr[v + 1]; t++) {
       const j = local[g.adj[t]];
-      if (j >= 0 && j !== i) adj.push(j);
+      if (j >= 0 && j !== i) adj[w++] = j;
     }
-    ptr[i + 1] = adj.length;
+    ptr[i + 1] = w;
   }
-  for (const v of nodes) local[v] = -1;
-  return { n: k, ptr, adj: Int32Array.from(adj) };
+  for (let i = 0; i < k; i++) local[nodes[i]] = -1;
+  return { n: k, ptr, adj: w === bound ? adj : adj.slice(0, w) };
+}
+
+/**
+ * For every unknown v and axis a: a number never below |p(u)_a − p(v)_a| for any neighbour u (the
+ * rounded difference raised by 2⁻⁴⁰ relative); Infinity on every axis when some coordinate is not
+ * finite, so nothing is skipped. Two per unknown, like the positions.
+ */
+function neighbourReach(g: Graph, p: Float64Array): Float64Array {
+  const { n, ptr, adj } = g;
+  const reach = new Float64Array(2 * n);
+  for (let i = 0; i < 2 * n; i++) {
+    if (!Number.isFinite(p[i])) return reach.fill(Infinity);
+  }
+  const up = 1 + 2 ** -40;
+  for (let v = 0; v < n; v++) {
+    const x = p[2 * v];
+    const y = p[2 * v + 1];
+    let rx = 0;
+    let ry = 0;
+    for (let k = ptr[v]; k < ptr[v + 1]; k++) {
+      const u = adj[k];
+      const dx = Math.abs(p[2 * u] - x);
+      const dy = Math.abs(p[2 * u + 1] - y);
+      if (dx > rx) rx = dx;
+      if (dy > ry) ry = dy;
+    }
+    reach[2 * v] = rx * up;
+    reach[2 * v + 1] = ry * up;
+  }
+  return reach;
 }
 
 /**
  * The k-th smallest entry (0-based) of a, the value a full sort would put at index k; a is
- * reordered. Quickselect with the median of three as pivot and Hoare partitioning (C. A. R.
- * Hoare, "Algorithm 65: Find", Comm. ACM 4(7), 321–322, 1961): O(length) expected, where the
- * sort it replaces cost O(length·log length) at every level of the dissection.
+ * reordered (partitionAt).
  */
 export function selectKth(a: Float64Array, k: number): number {
+  partitionAt(a, k);
+  return a[k];
+}
+
+/**
+ * Reorders a so a[k] holds the value a full sort would put there, with nothing larger before it
+ * and nothing smaller after it. Quickselect with the median of three as pivot and Hoare
+ * partitioning (C. A. R. Hoare, "Algorithm 65: Find", Comm. ACM 4(7), 321–322, 1961): O(length)
+ * expected, where the sort it replaces cost O(length·log length) at every level of the dissection.
+ */
+function partitionAt(a: Float64Array, k: number): void {
   let lo = 0;
   let hi = a.length - 1;
   while (hi > lo) {
@@ -273,9 +395,8 @@ export function selectKth(a: Float64Array, k: number): number {
     // now a[lo..j] ≤ pivot ≤ a[i..hi], and a[j+1..i−1] equal the pivot
     if (k <= j) hi = j;
     else if (k >= i) lo = i;
-    else return a[k];
+    else return;
   }
-  return a[k];
 }
 
 function swap(a: Float64Array, i: number, j: number): void {

@@ -49,14 +49,39 @@ export function analyse(g: Graph, order: Int32Array, maxSupernode = 256): Symbol
   const perm = new Int32Array(n).fill(-1);
   for (let i = 0; i < n; i++) perm[order[i]] = i;
   for (let i = 0; i < n; i++) if (perm[i] < 0) throw new RangeError('analyse: the ordering is not a permutation');
+  // each step is its own function: V8 compiles a long first run of a loop with the feedback
+  // gathered so far, so one function holding every loop was compiled again at each new loop
+  const parent = eliminationTree(g, order, perm);
+  const colCount = new Int32Array(n).fill(1);
+  const rowCount = new Int32Array(n).fill(1);
+  const mark = new Int32Array(n).fill(-1);
+  rowSubtreeCounts(g, order, perm, parent, mark, colCount, rowCount);
+  const superStart = fundamentalSupernodes(parent, colCount, maxSupernode);
+  const ns = superStart.length - 1;
+  const superOf = new Int32Array(n);
+  for (let s = 0; s < ns; s++) superOf.fill(s, superStart[s], superStart[s + 1]);
+  const superParent = new Int32Array(ns).fill(-1);
+  for (let s = 0; s < ns; s++) {
+    const p = parent[superStart[s + 1] - 1];
+    if (p >= 0) superParent[s] = superOf[p];
+  }
+  const rowPtr = new Int32Array(ns + 1);
+  for (let s = 0; s < ns; s++) rowPtr[s + 1] = rowPtr[s] + colCount[superStart[s]];
+  mark.fill(-1);
+  const superRows = supernodeRows(g, order, perm, superStart, superParent, rowPtr, mark);
+  return finish(relax({ n, order, perm, parent, colCount, rowCount, superStart, rowPtr, superRows, superParent }, maxSupernode));
+}
 
-  // elimination tree with path compression through `ancestor`
+/** Elimination tree over the new indices, with path compression through `ancestor` (−1 at a root). */
+function eliminationTree(g: Graph, order: Int32Array, perm: Int32Array): Int32Array {
+  const n = g.n;
+  const { ptr, adj } = g;
   const parent = new Int32Array(n).fill(-1);
   const ancestor = new Int32Array(n).fill(-1);
   for (let k = 0; k < n; k++) {
     const v = order[k];
-    for (let t = g.ptr[v]; t < g.ptr[v + 1]; t++) {
-      let i = perm[g.adj[t]];
+    for (let t = ptr[v]; t < ptr[v + 1]; t++) {
+      let i = perm[adj[t]];
       while (i !== -1 && i < k) {
         const next = ancestor[i];
         ancestor[i] = k;
@@ -68,48 +93,55 @@ export function analyse(g: Graph, order: Int32Array, maxSupernode = 256): Symbol
       }
     }
   }
+  return parent;
+}
 
-  // row k of L is the union of the tree paths from each i < k with A_ki ≠ 0 up to k
-  const colCount = new Int32Array(n).fill(1);
-  const rowCount = new Int32Array(n).fill(1);
-  const mark = new Int32Array(n).fill(-1);
+/** Row k of L is the union of the tree paths from each i < k with A_ki ≠ 0 up to k: adds 1 per entry. */
+function rowSubtreeCounts(g: Graph, order: Int32Array, perm: Int32Array, parent: Int32Array, mark: Int32Array, colCount: Int32Array, rowCount: Int32Array): void {
+  const n = g.n;
+  const { ptr, adj } = g;
   for (let k = 0; k < n; k++) {
     mark[k] = k;
     const v = order[k];
-    for (let t = g.ptr[v]; t < g.ptr[v + 1]; t++) {
-      let j = perm[g.adj[t]];
+    let row = 1;
+    for (let t = ptr[v]; t < ptr[v + 1]; t++) {
+      let j = perm[adj[t]];
       if (j >= k) continue;
       while (mark[j] !== k) {
         mark[j] = k;
         colCount[j]++;
-        rowCount[k]++;
+        row++;
         j = parent[j];
       }
     }
+    rowCount[k] = row;
   }
+}
 
-  // supernodes: j joins j−1's when j−1's only child-to-parent link is j and the patterns nest
+/**
+ * Fundamental supernodes: j joins j−1's when j−1's only child-to-parent link is j and the
+ * patterns nest (and the supernode stays under maxSupernode columns). Returns the starts and n.
+ */
+function fundamentalSupernodes(parent: Int32Array, colCount: Int32Array, maxSupernode: number): Int32Array {
+  const n = parent.length;
+  if (n === 0) return new Int32Array(1);
   const childCount = new Int32Array(n);
   for (let j = 0; j < n; j++) if (parent[j] >= 0) childCount[parent[j]]++;
-  const starts: number[] = [0];
+  const starts = new Int32Array(n + 1);
+  let ns = 1;
   for (let j = 1; j < n; j++) {
-    const size = j - starts[starts.length - 1];
+    const size = j - starts[ns - 1];
     const joins = parent[j - 1] === j && childCount[j] === 1 && colCount[j - 1] === colCount[j] + 1 && size < maxSupernode;
-    if (!joins) starts.push(j);
+    if (!joins) starts[ns++] = j;
   }
-  const ns = n === 0 ? 0 : starts.length;
-  const superStart = Int32Array.from(n === 0 ? [0] : [...starts, n]);
-  const superOf = new Int32Array(n);
-  for (let s = 0; s < ns; s++) for (let j = superStart[s]; j < superStart[s + 1]; j++) superOf[j] = s;
-  const superParent = new Int32Array(ns).fill(-1);
-  for (let s = 0; s < ns; s++) {
-    const p = parent[superStart[s + 1] - 1];
-    superParent[s] = p >= 0 ? superOf[p] : -1;
-  }
+  starts[ns] = n;
+  return starts.slice(0, ns + 1);
+}
 
-  // rows of each supernode: its columns, A's entries below it, and its children's rows below it
-  const rowPtr = new Int32Array(ns + 1);
-  for (let s = 0; s < ns; s++) rowPtr[s + 1] = rowPtr[s] + colCount[superStart[s]];
+/** Rows of each supernode: its columns, A's entries below it, and its children's rows below it (ascending). */
+function supernodeRows(g: Graph, order: Int32Array, perm: Int32Array, superStart: Int32Array, superParent: Int32Array, rowPtr: Int32Array, mark: Int32Array): Int32Array {
+  const ns = superStart.length - 1;
+  const { ptr, adj } = g;
   const superRows = new Int32Array(rowPtr[ns]);
   const firstChild = new Int32Array(ns).fill(-1);
   const nextSibling = new Int32Array(ns).fill(-1);
@@ -120,7 +152,6 @@ export function analyse(g: Graph, order: Int32Array, maxSupernode = 256): Symbol
       firstChild[p] = s;
     }
   }
-  mark.fill(-1);
   for (let s = 0; s < ns; s++) {
     const f = superStart[s];
     const l = superStart[s + 1];
@@ -132,8 +163,8 @@ export function analyse(g: Graph, order: Int32Array, maxSupernode = 256): Symbol
     const base = w;
     for (let j = f; j < l; j++) {
       const v = order[j];
-      for (let t = g.ptr[v]; t < g.ptr[v + 1]; t++) {
-        const i = perm[g.adj[t]];
+      for (let t = ptr[v]; t < ptr[v + 1]; t++) {
+        const i = perm[adj[t]];
         if (i >= l && mark[i] !== s) {
           mark[i] = s;
           superRows[w++] = i;
@@ -150,10 +181,26 @@ export function analyse(g: Graph, order: Int32Array, maxSupernode = 256): Symbol
       }
     }
     if (w !== rowPtr[s + 1]) throw new Error(`analyse: supernode ${s} has ${w - rowPtr[s]} rows, the column count says ${rowPtr[s + 1] - rowPtr[s]}`);
-    superRows.subarray(base, w).sort();
+    sortRows(superRows, base, w);
   }
+  return superRows;
+}
 
-  return finish(relax({ n, order, perm, parent, colCount, rowCount, superStart, rowPtr, superRows, superParent }, maxSupernode));
+/** Sorts a[from … to − 1] ascending: insertion sort for a short run, the typed-array sort beyond. */
+function sortRows(a: Int32Array, from: number, to: number): void {
+  if (to - from > 24) {
+    a.subarray(from, to).sort();
+    return;
+  }
+  for (let t = from + 1; t < to; t++) {
+    const v = a[t];
+    let u = t - 1;
+    while (u >= from && a[u] > v) {
+      a[u + 1] = a[u];
+      u--;
+    }
+    a[u + 1] = v;
+  }
 }
 
 type Structure = Pick<SymbolicFactor, 'n' | 'order' | 'perm' | 'parent' | 'colCount' | 'rowCount' | 'superStart' | 'rowPtr' | 'superRows' | 'superParent'>;
@@ -171,8 +218,10 @@ const trapezoid = (w: number, nf: number) => w * nf - (w * (w - 1)) / 2;
 function relax(st: Structure, maxSupernode: number): Structure {
   const { superStart, rowPtr, superRows, superParent } = st;
   const ns = superStart.length - 1;
-  // group[g] = [first fundamental supernode, last]; merged when the group's top has s+1 as parent
-  const groups: [number, number][] = [];
+  // group g = fundamental supernodes gA[g] … gB[g]; merged when the group's top has s+1 as parent
+  const gA = new Int32Array(ns);
+  const gB = new Int32Array(ns);
+  let G = 0;
   let gFirst = 0;
   let trueEntries = 0;
   for (let s = 0; s < ns; s++) {
@@ -190,21 +239,25 @@ function relax(st: Structure, maxSupernode: number): Structure {
     const joins = superParent[top] === s && mergedW <= maxSupernode && (mergedW <= 16 || zeros <= 0.1 * mergedEntries);
     if (joins) trueEntries += trapezoid(w, nf);
     else {
-      groups.push([gFirst, top]);
+      gA[G] = gFirst;
+      gB[G++] = top;
       gFirst = s;
       trueEntries = trapezoid(w, nf);
     }
   }
-  if (ns > 0) groups.push([gFirst, ns - 1]);
-  if (groups.length === ns) return st;
+  if (ns > 0) {
+    gA[G] = gFirst;
+    gB[G++] = ns - 1;
+  }
+  if (G === ns) return st;
   const groupOf = new Int32Array(ns);
-  groups.forEach(([a, b], g) => groupOf.fill(g, a, b + 1));
-  const G = groups.length;
+  for (let g = 0; g < G; g++) groupOf.fill(g, gA[g], gB[g] + 1);
   const start = new Int32Array(G + 1);
   const ptr = new Int32Array(G + 1);
   const parentG = new Int32Array(G).fill(-1);
   for (let g = 0; g < G; g++) {
-    const [a, b] = groups[g];
+    const a = gA[g];
+    const b = gB[g];
     start[g] = superStart[a];
     // rows: the group's columns before its top, then the top's rows
     ptr[g + 1] = ptr[g] + (superStart[b] - superStart[a]) + (rowPtr[b + 1] - rowPtr[b]);
@@ -213,10 +266,11 @@ function relax(st: Structure, maxSupernode: number): Structure {
   start[G] = st.n;
   const rows = new Int32Array(ptr[G]);
   for (let g = 0; g < G; g++) {
-    const [a, b] = groups[g];
+    const a = gA[g];
+    const b = gB[g];
     let w = ptr[g];
     for (let j = superStart[a]; j < superStart[b]; j++) rows[w++] = j;
-    rows.set(superRows.subarray(rowPtr[b], rowPtr[b + 1]), w);
+    for (let t = rowPtr[b]; t < rowPtr[b + 1]; t++) rows[w++] = superRows[t];
   }
   return { ...st, superStart: start, rowPtr: ptr, superRows: rows, superParent: parentG };
 }

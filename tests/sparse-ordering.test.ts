@@ -1,0 +1,456 @@
+/**
+ * The sparse solver's front end: the sides' band orderings (computed on first read), the Gram
+ * pattern and matrix, reverse Cuthill–McKee, the coordinate nested dissection and the symbolic
+ * counts, each against a plain reference written here (comparison sorts, full scans, dense
+ * elimination), so the faster code gives the same orderings and figures, not just valid ones.
+ */
+import { describe, expect, it } from 'vitest';
+import { gramCsr, gramGraph, makeSides, rowsByCell, type Side } from '../src/flex/sparse/sides.js';
+import { buildGallery } from '../src/framework/gallery.js';
+import { reverseCuthillMcKee, type Graph } from '../src/linalg/banded.js';
+import { analyse, nestedDissection } from '../src/linalg/sparse-ldl/index.js';
+import { conjugateTranspose, type SparseMatrix } from '../src/linalg/sparse.js';
+import { parseBoundary } from '../src/supercell/boundary.js';
+import { rigidityMatrix } from '../src/supercell/rigidity.js';
+import { buildSupercell } from '../src/supercell/supercell.js';
+import { rng } from './helpers.js';
+
+// ---------------------------------------------------------------------------------------------
+// References (the plain versions of what the code does)
+
+function refGramGraph(A: SparseMatrix, AH: SparseMatrix): Graph {
+  const n = A.cols;
+  const lists: number[][] = [];
+  for (let i = 0; i < n; i++) {
+    const seen = new Set<number>([i]);
+    const row: number[] = [];
+    for (let k = AH.rowPtr[i]; k < AH.rowPtr[i + 1]; k++) {
+      const r = AH.colIdx[k];
+      for (let t = A.rowPtr[r]; t < A.rowPtr[r + 1]; t++) {
+        const c = A.colIdx[t];
+        if (!seen.has(c)) {
+          seen.add(c);
+          row.push(c);
+        }
+      }
+    }
+    lists.push(row);
+  }
+  const ptr = new Int32Array(n + 1);
+  lists.forEach((l, i) => (ptr[i + 1] = ptr[i] + l.length));
+  return { n, ptr, adj: Int32Array.from(lists.flat()) };
+}
+
+/** Reverse Cuthill–McKee with array sorts and a fresh search per start (George & Liu's pseudo-peripheral node). */
+function refRcm(g: Graph): Int32Array {
+  const { n, ptr, adj } = g;
+  const deg = (v: number) => ptr[v + 1] - ptr[v];
+  const visited = new Uint8Array(n);
+  const order: number[] = [];
+  const levels = (start: number): { last: number[]; depth: number } => {
+    const level = new Map<number, number>([[start, 0]]);
+    const queue = [start];
+    for (let h = 0; h < queue.length; h++) {
+      const v = queue[h];
+      for (let k = ptr[v]; k < ptr[v + 1]; k++) {
+        const u = adj[k];
+        if (visited[u] || level.has(u)) continue;
+        level.set(u, level.get(v)! + 1);
+        queue.push(u);
+      }
+    }
+    const depth = Math.max(...level.values());
+    return { last: queue.filter((v) => level.get(v) === depth), depth };
+  };
+  for (let s = 0; s < n; s++) {
+    if (visited[s]) continue;
+    let start = s;
+    let { last, depth } = levels(start);
+    for (let it = 0; it < 8; it++) {
+      let cand = last[0];
+      for (const v of last) if (deg(v) < deg(cand)) cand = v;
+      const next = levels(cand);
+      if (next.depth <= depth) break;
+      start = cand;
+      last = next.last;
+      depth = next.depth;
+    }
+    const begin = order.length;
+    order.push(start);
+    visited[start] = 1;
+    for (let h = begin; h < order.length; h++) {
+      const v = order[h];
+      const nb: number[] = [];
+      for (let k = ptr[v]; k < ptr[v + 1]; k++) {
+        const u = adj[k];
+        if (!visited[u]) {
+          visited[u] = 1;
+          nb.push(u);
+        }
+      }
+      nb.sort((x, y) => deg(x) - deg(y) || x - y);
+      order.push(...nb);
+    }
+  }
+  return Int32Array.from(order.reverse());
+}
+
+function bandwidth(A: SparseMatrix, perm: Int32Array): number {
+  let bw = 0;
+  for (let r = 0; r < A.rows; r++) {
+    const p = Array.from(A.colIdx.subarray(A.rowPtr[r], A.rowPtr[r + 1]), (c) => perm[c]);
+    if (p.length) bw = Math.max(bw, Math.max(...p) - Math.min(...p));
+  }
+  return bw;
+}
+
+const inverse = (order: ArrayLike<number>) => {
+  const p = new Int32Array(order.length);
+  for (let i = 0; i < order.length; i++) p[order[i]] = i;
+  return p;
+};
+
+/** The sides' orderings as makeSides computed them eagerly before they became lazy. */
+function refOrderings(R: SparseMatrix, RH: SparseMatrix) {
+  const n = R.cols;
+  const m = R.rows;
+  const narrowest = (A: SparseMatrix, perms: Int32Array[]) => {
+    let best = { perm: perms[0], bw: bandwidth(A, perms[0]) };
+    for (const p of perms.slice(1)) if (bandwidth(A, p) < best.bw) best = { perm: p, bw: bandwidth(A, p) };
+    return best;
+  };
+  const cols = narrowest(R, [Int32Array.from({ length: n }, (_, i) => i), inverse(refRcm(refGramGraph(R, RH)))]);
+  const key = (r: number) => {
+    const p = Array.from(R.colIdx.subarray(R.rowPtr[r], R.rowPtr[r + 1]), (c) => cols.perm[c]);
+    return p.length ? Math.min(...p) * (n + 1) + Math.max(...p) : 0;
+  };
+  const byCell = Array.from({ length: m }, (_, i) => i).sort((a, b) => key(a) - key(b) || a - b);
+  const rows = narrowest(RH, [inverse(byCell), inverse(refRcm(refGramGraph(RH, R)))]);
+  return {
+    flex: { perm: cols.perm, bw: Math.min(cols.bw, Math.max(0, n - 1)) },
+    stress: { perm: rows.perm, bw: Math.min(rows.bw, Math.max(0, m - 1)) },
+    byCell,
+  };
+}
+
+function matrixOf(spec: string, cells: [number, number], bc: string) {
+  const fw = buildGallery(`gallery:${spec}`);
+  const sc = buildSupercell(fw, cells, parseBoundary(bc));
+  const R = rigidityMatrix(sc);
+  return { R, RH: conjugateTranspose(R), sc };
+}
+
+/** A random sparse matrix (some rows empty, some columns untouched), complex when asked. */
+function randomSparse(rows: number, cols: number, perRow: number, seed: number, complex: boolean): SparseMatrix {
+  const rand = rng(seed);
+  const rowPtr = new Int32Array(rows + 1);
+  const colIdx: number[] = [];
+  const re: number[] = [];
+  const im: number[] = [];
+  for (let r = 0; r < rows; r++) {
+    const k = rand() < 0.1 ? 0 : 1 + Math.floor(rand() * perRow);
+    const cs = new Set<number>();
+    while (cs.size < Math.min(k, cols)) cs.add(Math.floor(rand() * cols * 0.9));
+    for (const c of [...cs].sort((a, b) => a - b)) {
+      colIdx.push(c);
+      re.push(rand() - 0.5);
+      im.push(rand() - 0.5);
+    }
+    rowPtr[r + 1] = colIdx.length;
+  }
+  return { rows, cols, rowPtr, colIdx: Int32Array.from(colIdx), re: Float64Array.from(re), im: complex ? Float64Array.from(im) : null };
+}
+
+// ---------------------------------------------------------------------------------------------
+
+describe('the sides: band orderings on first read', () => {
+  const cases: [string, [number, number], string][] = [
+    ['kagome', [7, 6], 'free'],
+    ['twisted-kagome', [5, 6], 'free'],
+    ['kagome', [6, 5], 'pinned'],
+    ['honeycomb', [6, 6], 'x=twist:0.3,y=free'],
+    ['square-diagonal', [5, 7], 'left=pinned'],
+  ];
+  for (const [spec, cells, bc] of cases) {
+    it(`${spec} ${cells.join('×')} ${bc}: perm and bw equal the eager reference, whichever side is read first`, () => {
+      const { R, RH } = matrixOf(spec, cells, bc);
+      const ref = refOrderings(R, RH);
+      const a = makeSides(R, RH);
+      // the stress side first: it reads the flex side's ordering (rows by cell)
+      expect(Array.from(a.stress.perm)).toEqual(Array.from(ref.stress.perm));
+      expect(a.stress.bw).toBe(ref.stress.bw);
+      expect(Array.from(a.flex.perm)).toEqual(Array.from(ref.flex.perm));
+      expect(a.flex.bw).toBe(ref.flex.bw);
+      const b = makeSides(R, RH);
+      expect(b.flex.bw).toBe(ref.flex.bw);
+      expect(Array.from(b.stress.perm)).toEqual(Array.from(ref.stress.perm));
+      // kept: the same array on every read, and a spread copies the values
+      expect(a.flex.perm).toBe(a.flex.perm);
+      const copy: Side = { ...a.stress };
+      expect(copy.bw).toBe(ref.stress.bw);
+      expect(copy.perm).toBe(a.stress.perm);
+      expect(ref.flex.bw).toBeGreaterThan(0);
+    });
+  }
+
+  it('rows by cell (two counting sorts) equal the comparison sort on (first, last, index), empty rows as (0, 0)', () => {
+    for (const seed of [1, 2, 3]) {
+      const A = randomSparse(300, 80, 5, seed, false);
+      const perm = inverse(refRcm(refGramGraph(A, conjugateTranspose(A))));
+      const n = A.cols;
+      const key = (r: number) => {
+        const p = Array.from(A.colIdx.subarray(A.rowPtr[r], A.rowPtr[r + 1]), (c) => perm[c]);
+        return p.length ? Math.min(...p) * (n + 1) + Math.max(...p) : 0;
+      };
+      const expected = Array.from({ length: A.rows }, (_, i) => i).sort((a, b) => key(a) - key(b) || a - b);
+      expect(Array.from(rowsByCell(A, perm))).toEqual(expected);
+    }
+    // no columns at all: every row is empty and keeps its place
+    const empty: SparseMatrix = { rows: 3, cols: 0, rowPtr: new Int32Array(4), colIdx: new Int32Array(0), re: new Float64Array(0), im: null };
+    expect(Array.from(rowsByCell(empty, new Int32Array(0)))).toEqual([0, 1, 2]);
+  });
+});
+
+describe('the Gram pattern and matrix', () => {
+  it('gramGraph (one pass into a bound-sized buffer) lists the same neighbours in the same order as the reference', () => {
+    for (const [seed, complex] of [[4, false], [5, true]] as const) {
+      const A = randomSparse(200, 120, 6, seed, complex);
+      const AH = conjugateTranspose(A);
+      for (const [X, XH] of [[A, AH], [AH, A]]) {
+        const g = gramGraph(X, XH);
+        const r = refGramGraph(X, XH);
+        expect(Array.from(g.ptr)).toEqual(Array.from(r.ptr));
+        expect(Array.from(g.adj)).toEqual(Array.from(r.adj));
+      }
+    }
+  });
+
+  it('gramCsr equals AᴴA summed densely, rows sorted, a zero diagonal for an empty column, real and complex', () => {
+    for (const complex of [false, true]) {
+      const A = randomSparse(90, 40, 7, complex ? 7 : 6, complex);
+      const AH = conjugateTranspose(A);
+      const side = { kind: 'flexes', A, AH, dim: A.cols, perm: new Int32Array(0), bw: 0, gramName: 'K', opName: 'A', positions: null } as Side;
+      const K = gramCsr(side);
+      const n = A.cols;
+      // dense K_ij = Σ_r conj(A_ri) A_rj
+      const kr = Array.from({ length: n }, () => new Float64Array(n));
+      const ki = Array.from({ length: n }, () => new Float64Array(n));
+      const touched = Array.from({ length: n }, () => new Uint8Array(n));
+      for (let r = 0; r < A.rows; r++) {
+        for (let a = A.rowPtr[r]; a < A.rowPtr[r + 1]; a++) {
+          for (let b = A.rowPtr[r]; b < A.rowPtr[r + 1]; b++) {
+            const i = A.colIdx[a];
+            const j = A.colIdx[b];
+            const [xr, xi] = [A.re[a], A.im ? A.im[a] : 0];
+            const [yr, yi] = [A.re[b], A.im ? A.im[b] : 0];
+            kr[i][j] += xr * yr + xi * yi;
+            ki[i][j] += xr * yi - xi * yr;
+            touched[i][j] = 1;
+          }
+        }
+      }
+      let emptyColumns = 0;
+      for (let i = 0; i < n; i++) {
+        const cols = Array.from(K.idx.subarray(K.ptr[i], K.ptr[i + 1]));
+        const expected = [...Array(n).keys()].filter((j) => touched[i][j] || j === i);
+        expect(cols).toEqual(expected);
+        if (!touched[i][i]) emptyColumns++;
+        for (let t = K.ptr[i]; t < K.ptr[i + 1]; t++) {
+          const j = K.idx[t];
+          expect(K.re[t]).toBeCloseTo(kr[i][j], 12);
+          if (complex) expect(K.im![t]).toBeCloseTo(i === j ? 0 : ki[i][j], 12);
+        }
+      }
+      expect(K.im === null).toBe(!complex);
+      expect(emptyColumns).toBeGreaterThan(0); // the random matrix leaves the last tenth of columns empty
+    }
+  });
+});
+
+describe('reverse Cuthill–McKee', () => {
+  it('equals the reference with comparison sorts, on several components and with a node of 60 neighbours', () => {
+    for (const seed of [11, 12, 13]) {
+      const rand = rng(seed);
+      const n = 400;
+      const sets = Array.from({ length: n }, () => new Set<number>());
+      const join = (a: number, b: number) => {
+        if (a === b) return;
+        sets[a].add(b);
+        sets[b].add(a);
+      };
+      // three components: nodes ≡ 0, 1, 2 mod 3, joined to nearby nodes of their class
+      for (let v = 0; v < n; v++) {
+        for (let e = 0; e < 3; e++) {
+          const u = v + 3 * (1 + Math.floor(rand() * 6));
+          if (u < n) join(v, u);
+        }
+      }
+      for (let k = 0; k < 60; k++) join(3 * 20, 3 * (30 + k)); // a hub (more than 32 new neighbours at once)
+      const lists = sets.map((s) => [...s].sort(() => rand() - 0.5));
+      const ptr = new Int32Array(n + 1);
+      lists.forEach((l, i) => (ptr[i + 1] = ptr[i] + l.length));
+      const g: Graph = { n, ptr, adj: Int32Array.from(lists.flat()) };
+      expect(Array.from(reverseCuthillMcKee(g))).toEqual(Array.from(refRcm(g)));
+    }
+  });
+});
+
+// ---------------------------------------------------------------------------------------------
+// Nested dissection by coordinate bisection: the reference scans every node of every cut
+
+function refDissection(g: Graph, p: Float64Array, leafSize = 48): Int32Array {
+  const n = g.n;
+  const label = new Int32Array(n);
+  let next = 1;
+  const order: number[] = [];
+  const leaf = (nodes: number[]) => {
+    if (nodes.length <= 2) return order.push(...nodes);
+    const local = new Map(nodes.map((v, i) => [v, i]));
+    const ptr = new Int32Array(nodes.length + 1);
+    const adj: number[] = [];
+    nodes.forEach((v, i) => {
+      for (let t = g.ptr[v]; t < g.ptr[v + 1]; t++) {
+        const j = local.get(g.adj[t]);
+        if (j !== undefined && j !== i) adj.push(j);
+      }
+      ptr[i + 1] = adj.length;
+    });
+    for (const i of reverseCuthillMcKee({ n: nodes.length, ptr, adj: Int32Array.from(adj) })) order.push(nodes[i]);
+  };
+  const dissect = (nodes: number[]): void => {
+    if (nodes.length <= leafSize) return void leaf(nodes);
+    const id = next++;
+    for (const v of nodes) label[v] = id;
+    const xs = nodes.map((v) => p[2 * v]);
+    const ys = nodes.map((v) => p[2 * v + 1]);
+    const axis = Math.max(...xs) - Math.min(...xs) >= Math.max(...ys) - Math.min(...ys) ? 0 : 1;
+    const c = (v: number) => p[2 * v + axis];
+    const half = nodes.length >> 1;
+    const median = nodes.map(c).sort((a, b) => a - b)[half];
+    const low = new Map(nodes.map((v) => [v, c(v) < median]));
+    let count = nodes.filter((v) => low.get(v)).length;
+    for (const v of nodes) {
+      if (count >= half) break;
+      if (!low.get(v) && c(v) === median) {
+        low.set(v, true);
+        count++;
+      }
+    }
+    const boundary = new Set<number>();
+    let lowB = 0;
+    let highB = 0;
+    for (const v of nodes) {
+      for (let t = g.ptr[v]; t < g.ptr[v + 1]; t++) {
+        const u = g.adj[t];
+        if (label[u] === id && low.get(u) !== low.get(v)) {
+          boundary.add(v);
+          if (low.get(v)) lowB++;
+          else highB++;
+          break;
+        }
+      }
+    }
+    const sepLow = lowB <= highB;
+    if (Math.min(lowB, highB) >= nodes.length / 2) return void leaf(nodes);
+    const S = nodes.filter((v) => boundary.has(v) && low.get(v) === sepLow);
+    const A = nodes.filter((v) => !S.includes(v) && low.get(v));
+    const B = nodes.filter((v) => !S.includes(v) && !low.get(v));
+    if (A.length === 0 && B.length === 0) return void leaf(nodes);
+    for (const v of S) label[v] = 0;
+    if (A.length) dissect(A);
+    if (B.length) dissect(B);
+    order.push(...S);
+  };
+  dissect([...Array(n).keys()]);
+  return Int32Array.from(order);
+}
+
+/** Points on a jittered grid with many equal coordinates, joined to near neighbours and a few long links. */
+function geometricGraph(side: number, seed: number): { g: Graph; p: Float64Array } {
+  const rand = rng(seed);
+  const n = side * side;
+  const p = new Float64Array(2 * n);
+  for (let v = 0; v < n; v++) {
+    // a third of the points keep exact grid coordinates (ties at the median), the rest move a little
+    const jitter = v % 3 === 0 ? 0 : 0.3;
+    p[2 * v] = (v % side) + jitter * (rand() - 0.5);
+    p[2 * v + 1] = Math.floor(v / side) * 0.7 + jitter * (rand() - 0.5);
+  }
+  const sets = Array.from({ length: n }, (_, v) => new Set<number>([v]));
+  for (let v = 0; v < n; v++) {
+    for (let u = 0; u < n; u++) {
+      if (u !== v && Math.hypot(p[2 * u] - p[2 * v], p[2 * u + 1] - p[2 * v + 1]) < 1.25) {
+        sets[v].add(u);
+        sets[u].add(v);
+      }
+    }
+  }
+  for (let k = 0; k < side; k++) {
+    const a = Math.floor(rand() * n);
+    const b = Math.floor(rand() * n);
+    sets[a].add(b);
+    sets[b].add(a);
+  }
+  const lists = sets.map((s) => [...s]);
+  const ptr = new Int32Array(n + 1);
+  lists.forEach((l, i) => (ptr[i + 1] = ptr[i] + l.length));
+  return { g: { n, ptr, adj: Int32Array.from(lists.flat()) }, p };
+}
+
+describe('nested dissection by coordinate bisection', () => {
+  it('equals the reference that scans every node of every cut (grids with ties and long links, far from the origin too)', () => {
+    for (const [side, seed, shift] of [[20, 21, 0], [27, 22, 0], [24, 23, 1e6]]) {
+      const { g, p } = geometricGraph(side, seed);
+      for (let i = 0; i < p.length; i++) p[i] += shift;
+      for (const leafSize of [8, 48]) {
+        const order = nestedDissection(g, { positions: p, leafSize });
+        expect(Array.from(order)).toEqual(Array.from(refDissection(g, p, leafSize)));
+      }
+    }
+  });
+
+  it('a NaN coordinate turns the skipping off and still gives the reference ordering', () => {
+    const { g, p } = geometricGraph(16, 24);
+    p[2 * 37] = NaN;
+    const order = nestedDissection(g, { positions: p, leafSize: 8 });
+    expect(Array.from(order)).toEqual(Array.from(refDissection(g, p, 8)));
+    expect(new Set(order).size).toBe(g.n);
+  });
+});
+
+describe('symbolic analysis', () => {
+  it('column and row counts, nnz(L) and flops equal a dense boolean elimination under a nested-dissection order', () => {
+    const { g, p } = geometricGraph(14, 31);
+    const order = nestedDissection(g, { positions: p, leafSize: 8 });
+    const sym = analyse(g, order);
+    const n = g.n;
+    const perm = inverse(order);
+    // pattern of the permuted matrix, eliminated densely
+    const M = Array.from({ length: n }, () => new Uint8Array(n));
+    for (let v = 0; v < n; v++) for (let t = g.ptr[v]; t < g.ptr[v + 1]; t++) M[perm[v]][perm[g.adj[t]]] = 1;
+    const col = new Int32Array(n);
+    const row = new Int32Array(n);
+    for (let k = 0; k < n; k++) {
+      const below = [];
+      for (let i = k; i < n; i++) if (i === k || M[i][k]) below.push(i);
+      col[k] = below.length;
+      for (const i of below) row[i]++;
+      for (const i of below) for (const j of below) if (i !== k && j !== k) M[i][j] = 1;
+    }
+    expect(Array.from(sym.colCount)).toEqual(Array.from(col));
+    expect(Array.from(sym.rowCount)).toEqual(Array.from(row));
+    expect(sym.dotLength).toBe(Math.max(...row));
+    expect(sym.rowWidth).toBe(Math.max(...Array.from(row, (r, j) => r + col[j] - 1)));
+    // every column of a supernode lies in it, and the stored fronts cover L's pattern
+    let stored = 0;
+    for (let s = 0; s + 1 < sym.superStart.length; s++) {
+      const w = sym.superStart[s + 1] - sym.superStart[s];
+      const nf = sym.rowPtr[s + 1] - sym.rowPtr[s];
+      for (let k = 0; k < w; k++) stored += nf - k;
+      const rows = Array.from(sym.superRows.subarray(sym.rowPtr[s], sym.rowPtr[s + 1]));
+      expect(rows).toEqual([...rows].sort((a, b) => a - b));
+    }
+    expect(sym.nnzL).toBe(stored);
+    expect(sym.nnzL).toBeGreaterThanOrEqual(col.reduce((a, b) => a + b, 0));
+  });
+});
