@@ -189,7 +189,54 @@ export function factorBytes(sym: SymbolicFactor, complex: boolean): number {
   const f = complex ? 2 : 1;
   let maxCols = 0;
   for (let s = 0; s + 1 < sym.superStart.length; s++) maxCols = Math.max(maxCols, sym.superStart[s + 1] - sym.superStart[s]);
-  return 8 * f * (panelWords(sym) + sym.maxFront * sym.maxFront + sym.maxFront * maxCols + sym.peakUpdateWords) + 8 * sym.n;
+  // update matrices: the live ones (peakUpdateWords) and the pool's free buffers (a quarter of it)
+  return 8 * f * (panelWords(sym) + sym.maxFront * sym.maxFront + sym.maxFront * maxCols + Math.ceil(1.25 * sym.peakUpdateWords)) + 8 * sym.n;
+}
+
+/**
+ * Buffers for the update matrices, reused once their parent has consumed them: on machines where
+ * the first write to fresh memory costs a page fault per 4 kB (measured here: 32 MB took ~0.1 s),
+ * allocating every update matrix anew cost a large share of the factorisation. Best fit among the
+ * free buffers (a view of the needed length; every entry is written before it is read); a free
+ * list beyond `cap` words lets the extra buffers go to the garbage collector, so the memory held
+ * stays within the live update matrices plus `cap` (factorBytes counts it).
+ */
+class UpdatePool {
+  private free: Float64Array[] = [];
+  private freeWords = 0;
+  constructor(private readonly cap: number) {}
+
+  take(words: number): Float64Array {
+    // the free list is sorted by length: the first long enough is the best fit
+    let lo = 0;
+    let hi = this.free.length;
+    while (lo < hi) {
+      const mid = (lo + hi) >> 1;
+      if (this.free[mid].length < words) lo = mid + 1;
+      else hi = mid;
+    }
+    if (lo < this.free.length) {
+      const buf = this.free[lo];
+      this.free.splice(lo, 1);
+      this.freeWords -= buf.length;
+      return buf.length === words ? buf : buf.subarray(0, words);
+    }
+    return new Float64Array(words);
+  }
+
+  give(view: Float64Array): void {
+    const buf = view.byteOffset === 0 && view.buffer.byteLength === view.byteLength ? view : new Float64Array(view.buffer as ArrayBuffer);
+    if (this.freeWords + buf.length > this.cap) return;
+    let lo = 0;
+    let hi = this.free.length;
+    while (lo < hi) {
+      const mid = (lo + hi) >> 1;
+      if (this.free[mid].length < buf.length) lo = mid + 1;
+      else hi = mid;
+    }
+    this.free.splice(lo, 0, buf);
+    this.freeWords += buf.length;
+  }
 }
 
 /** A − shift·I = P ᵀ L D Lᴴ P by the multifrontal method, no pivoting. */
@@ -225,6 +272,7 @@ export function sparseLdl(A: HermitianCsr, sym: SymbolicFactor, options: SparseL
   const pos = new Int32Array(n);
   const rel = new Int32Array(maxFront);
   const gOut = new Float64Array(1);
+  const pool = new UpdatePool(Math.floor(sym.peakUpdateWords / 4));
   const updR: (Float64Array | null)[] = new Array(nsup).fill(null);
   const updI: (Float64Array | null)[] = new Array(nsup).fill(null);
   const firstChild = new Int32Array(nsup).fill(-1);
@@ -263,6 +311,8 @@ export function sparseLdl(A: HermitianCsr, sym: SymbolicFactor, options: SparseL
       for (let a = 0; a < nuc; a++) rel[a] = pos[superRows[cr0 + a]];
       if (UI) extendAddComplex(FR, FI!, U, UI, rel, nuc, nf);
       else extendAddReal(FR, U, rel, nuc, nf);
+      pool.give(U);
+      if (UI) pool.give(UI);
       updR[c] = null;
       updI[c] = null;
     }
@@ -301,8 +351,8 @@ export function sparseLdl(A: HermitianCsr, sym: SymbolicFactor, options: SparseL
     if (LI) copyPanel(FI!, LI, panelPtr[s], nf, w);
     // the Schur complement of the rows below, for the parent
     if (nu > 0 && superParent[s] >= 0) {
-      const U = new Float64Array(nu * nu);
-      const UI = FI ? new Float64Array(nu * nu) : null;
+      const U = pool.take(nu * nu);
+      const UI = FI ? pool.take(nu * nu) : null;
       if (!FI) schurReal(FR, WR, U, nf, w, nu);
       else schurComplex(FR, FI, WR, WI!, U, UI!, nf, w, nu);
       updR[s] = U;
