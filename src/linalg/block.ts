@@ -381,6 +381,92 @@ function timesUpper(X: Block, Tr: Float64Array, Ti: Float64Array | null): void {
   }
 }
 
+// The k×k steps of cholQr2, each in a function of its own (inside cholQr2 the nested loops were
+// compiled mid-loop and left at their ends, and took half a second for k = 255).
+
+/**
+ * Cholesky G = Uᴴ U with U upper triangular (U = Lᴴ), in place in the upper triangle of the
+ * row-major k×k G (imaginary parts Gi, or null); false when a pivot is not above 1e-14·max G_aa.
+ */
+function choleskyUpper(Gr: Float64Array, Gi: Float64Array | null, k: number): boolean {
+  let maxDiag = 0;
+  for (let a = 0; a < k; a++) maxDiag = Math.max(maxDiag, Gr[a * k + a]);
+  for (let a = 0; a < k; a++) {
+    let d = Gr[a * k + a];
+    for (let l = 0; l < a; l++) d -= Gr[l * k + a] ** 2 + (Gi ? Gi[l * k + a] ** 2 : 0);
+    if (!(d > 1e-14 * maxDiag)) return false;
+    const u = Math.sqrt(d);
+    Gr[a * k + a] = u;
+    if (Gi) Gi[a * k + a] = 0;
+    if (Gi) choleskyRowComplex(Gr, Gi, k, a, u);
+    else choleskyRowReal(Gr, k, a, u);
+  }
+  return true;
+}
+
+/** U_ab = (G_ab − Σ_l U_la U_lb) / U_aa for b > a (real). */
+function choleskyRowReal(Gr: Float64Array, k: number, a: number, u: number): void {
+  for (let b = a + 1; b < k; b++) {
+    let sr = Gr[a * k + b];
+    for (let l = 0; l < a; l++) sr -= Gr[l * k + a] * Gr[l * k + b];
+    Gr[a * k + b] = sr / u;
+  }
+}
+
+/** U_ab = (G_ab − Σ_l conj(U_la) U_lb) / U_aa for b > a (complex). */
+function choleskyRowComplex(Gr: Float64Array, Gi: Float64Array, k: number, a: number, u: number): void {
+  for (let b = a + 1; b < k; b++) {
+    let sr = Gr[a * k + b];
+    let si = Gi[a * k + b];
+    for (let l = 0; l < a; l++) {
+      const ur = Gr[l * k + a];
+      const vr = Gr[l * k + b];
+      const ui = Gi[l * k + a];
+      const vi = Gi[l * k + b];
+      sr -= ur * vr + ui * vi;
+      si -= ur * vi - ui * vr;
+    }
+    Gr[a * k + b] = sr / u;
+    Gi[a * k + b] = si / u;
+  }
+}
+
+/** T = U⁻¹ (upper triangular) by columns, U T = I; U in the upper triangle of (Gr, Gi). */
+function invertUpper(Gr: Float64Array, Gi: Float64Array | null, k: number, Tr: Float64Array, Ti: Float64Array | null): void {
+  for (let b = 0; b < k; b++) {
+    Tr[b * k + b] = 1 / Gr[b * k + b];
+    if (Ti && Gi) invertColumnComplex(Gr, Gi, k, Tr, Ti, b);
+    else invertColumnReal(Gr, k, Tr, b);
+  }
+}
+
+function invertColumnReal(Gr: Float64Array, k: number, Tr: Float64Array, b: number): void {
+  for (let a = b - 1; a >= 0; a--) {
+    let sr = 0;
+    for (let l = a + 1; l <= b; l++) sr += Gr[a * k + l] * Tr[l * k + b];
+    const inv = 1 / Gr[a * k + a];
+    Tr[a * k + b] = -sr * inv;
+  }
+}
+
+function invertColumnComplex(Gr: Float64Array, Gi: Float64Array, k: number, Tr: Float64Array, Ti: Float64Array, b: number): void {
+  for (let a = b - 1; a >= 0; a--) {
+    let sr = 0;
+    let si = 0;
+    for (let l = a + 1; l <= b; l++) {
+      const ur = Gr[a * k + l];
+      const tr = Tr[l * k + b];
+      const ui = Gi[a * k + l];
+      const ti = Ti[l * k + b];
+      sr += ur * tr - ui * ti;
+      si += ur * ti + ui * tr;
+    }
+    const inv = 1 / Gr[a * k + a];
+    Tr[a * k + b] = -sr * inv;
+    Ti[a * k + b] = -si * inv;
+  }
+}
+
 /**
  * Orthonormalise the columns in place by Cholesky QR, twice (CholQR2; common practice for tall
  * blocks): G = XᴴX, G = UᴴU, X ← X·U⁻¹. Returns false (X unchanged or partly done, to be redone
@@ -394,59 +480,10 @@ export function cholQr2(X: Block): boolean {
     const Gr = new Float64Array(k * k);
     const Gi = complex ? new Float64Array(k * k) : null;
     gramUpper(X, Gr, Gi);
-    // Cholesky G = Uᴴ U with U upper triangular (U = Lᴴ), in place in the upper triangle
-    let maxDiag = 0;
-    for (let a = 0; a < k; a++) maxDiag = Math.max(maxDiag, Gr[a * k + a]);
-    for (let a = 0; a < k; a++) {
-      let d = Gr[a * k + a];
-      for (let l = 0; l < a; l++) d -= Gr[l * k + a] ** 2 + (Gi ? Gi[l * k + a] ** 2 : 0);
-      if (!(d > 1e-14 * maxDiag)) return false;
-      const u = Math.sqrt(d);
-      Gr[a * k + a] = u;
-      if (Gi) Gi[a * k + a] = 0;
-      for (let b = a + 1; b < k; b++) {
-        // U_ab = (G_ab − Σ_l conj(U_la) U_lb) / U_aa
-        let sr = Gr[a * k + b];
-        let si = Gi ? Gi[a * k + b] : 0;
-        for (let l = 0; l < a; l++) {
-          const ur = Gr[l * k + a];
-          const vr = Gr[l * k + b];
-          if (!Gi) sr -= ur * vr;
-          else {
-            const ui = Gi[l * k + a];
-            const vi = Gi[l * k + b];
-            sr -= ur * vr + ui * vi;
-            si -= ur * vi - ui * vr;
-          }
-        }
-        Gr[a * k + b] = sr / u;
-        if (Gi) Gi[a * k + b] = si / u;
-      }
-    }
-    // T = U⁻¹ (upper triangular), by columns: U T = I
+    if (!choleskyUpper(Gr, Gi, k)) return false;
     const Tr = new Float64Array(k * k);
     const Ti = complex ? new Float64Array(k * k) : null;
-    for (let b = 0; b < k; b++) {
-      Tr[b * k + b] = 1 / Gr[b * k + b];
-      for (let a = b - 1; a >= 0; a--) {
-        let sr = 0;
-        let si = 0;
-        for (let l = a + 1; l <= b; l++) {
-          const ur = Gr[a * k + l];
-          const tr = Tr[l * k + b];
-          if (!Ti) sr += ur * tr;
-          else {
-            const ui = Gi![a * k + l];
-            const ti = Ti[l * k + b];
-            sr += ur * tr - ui * ti;
-            si += ur * ti + ui * tr;
-          }
-        }
-        const inv = 1 / Gr[a * k + a];
-        Tr[a * k + b] = -sr * inv;
-        if (Ti) Ti[a * k + b] = -si * inv;
-      }
-    }
+    invertUpper(Gr, Gi, k, Tr, Ti);
     timesUpper(X, Tr, Ti);
   }
   return true;
