@@ -2,7 +2,7 @@
  * The near/far split of the rest by the nearest-side distance operator.
  */
 import { cnorm as norm } from '../../linalg/complex.js';
-import { combineColumns, hermitianEigen, scaleInPlace, type Cx, type SpanPart } from './cvec-ops.js';
+import { allReal, combineColumns, hermitianEigen, scaleInPlace, type Cx, type SpanPart } from './cvec-ops.js';
 import type { Geometry } from './metrics.js';
 import type { Axes } from './regions.js';
 import { FAR_MARGIN } from './thresholds.js';
@@ -41,7 +41,7 @@ export function boundaryDistanceParts(geo: Geometry, psi: Cx[], within: SpanPart
   let rings = 0;
   for (const x of dist) rings = Math.max(rings, x + 1);
   const head = Math.max(1, Math.floor(rings / 4));
-  const real = psi.every((v) => v.im.every((x) => x === 0));
+  const real = allReal(psi);
   const gram = weightedGram(dJ, psi, real);
   const { re: Are, im: Aim, anyIm } = within ? compress(gram, within, r) : gram;
   const k = within ? within.m : r;
@@ -85,7 +85,7 @@ export function boundaryDistanceParts(geo: Geometry, psi: Cx[], within: SpanPart
 export function splitByBoundaryDistance(geo: Geometry, psi: { re: Float64Array; im: Float64Array }[]): { near: typeof psi; far: typeof psi } {
   const parts = boundaryDistanceParts(geo, psi);
   if (!parts) return { near: psi, far: [] };
-  const real = psi.every((v) => v.im.every((x) => x === 0)) && !parts.near.E.im && !parts.far.E.im;
+  const real = allReal(psi) && !parts.near.E.im && !parts.far.E.im;
   const form = ({ E, m }: SpanPart) => {
     const vectors = combineColumns(psi, E.re, E.im, m, real);
     for (const v of vectors) scaleInPlace(v, 1 / norm(v));
@@ -141,49 +141,33 @@ function compress(A: { re: Float64Array; im: Float64Array; anyIm: boolean }, wit
   return { re, im, anyIm };
 }
 
-/** Joints per chunk of `weightedGram`: a chunk of every vector stays in the core's cache. */
-const GRAM_CHUNK = 256;
+/** Joints per chunk of `weightedGram`: the chunk of every vector, packed, stays in the core's cache. */
+const GRAM_CHUNK = 128;
 
 /**
  * The Hermitian r×r matrix A[a][b] = Σ_k d_k Σ_{i ∈ {2k, 2k+1}} conj(ψ_a[i]) ψ_b[i] (joints
  * with d_k = 0 skipped), row-major, and whether any imaginary part is nonzero. Summed chunk by
- * chunk of joints so that every pair reads the vectors from cache; `real`: every ψ is real
- * (only the real products are formed).
+ * chunk of joints so that every pair reads the vectors from cache; the upper triangle is formed
+ * and the lower filled from it. `real`: every ψ is real (only the real products are formed).
+ * Exported for the tests (tests/classify-kernels.test.ts).
  */
-function weightedGram(d: Float64Array, psi: Cx[], real: boolean): { re: Float64Array; im: Float64Array; anyIm: boolean } {
+export function weightedGram(d: Float64Array, psi: Cx[], real: boolean): { re: Float64Array; im: Float64Array; anyIm: boolean } {
   const r = psi.length;
   const J = d.length;
   const Are = new Float64Array(r * r);
   const Aim = new Float64Array(r * r);
   const out: [number, number] = [0, 0];
-  for (let k0 = 0; k0 < J; k0 += GRAM_CHUNK) {
-    const k1 = Math.min(J, k0 + GRAM_CHUNK);
-    let a0 = 0;
-    if (real)
-      // pairs of rows a, a + 1 against four columns b ≥ a + 2 at a time; the rest below
-      for (; a0 + 1 < r; a0 += 2) {
-        const a = a0;
-        Are[a * r + a] += realWeightedDot(d, k0, k1, psi[a].re, psi[a].re);
-        Are[a * r + a + 1] += realWeightedDot(d, k0, k1, psi[a].re, psi[a + 1].re);
-        Are[(a + 1) * r + a + 1] += realWeightedDot(d, k0, k1, psi[a + 1].re, psi[a + 1].re);
-        let b = a + 2;
-        for (; b + 3 < r; b += 4) realWeightedDot2x4(d, k0, k1, psi[a].re, psi[a + 1].re, psi[b].re, psi[b + 1].re, psi[b + 2].re, psi[b + 3].re, Are, a * r + b, r);
-        for (; b < r; b++) {
-          Are[a * r + b] += realWeightedDot(d, k0, k1, psi[a].re, psi[b].re);
-          Are[(a + 1) * r + b] += realWeightedDot(d, k0, k1, psi[a + 1].re, psi[b].re);
-        }
-      }
-    // the last row when r is odd (real), or every row (complex)
-    for (let a = a0; a < r; a++)
-      for (let b = a; b < r; b++) {
-        if (real) Are[a * r + b] += realWeightedDot(d, k0, k1, psi[a].re, psi[b].re);
-        else {
+  if (real) realWeightedGram(d, psi, Are);
+  else
+    for (let k0 = 0; k0 < J; k0 += GRAM_CHUNK) {
+      const k1 = Math.min(J, k0 + GRAM_CHUNK);
+      for (let a = 0; a < r; a++)
+        for (let b = a; b < r; b++) {
           weightedDot(d, k0, k1, psi[a], psi[b], out);
           Are[a * r + b] += out[0];
           Aim[a * r + b] += out[1];
         }
-      }
-  }
+    }
   let anyIm = false;
   for (let a = 0; a < r; a++) {
     if (Aim[a * r + a] !== 0) anyIm = true;
@@ -196,61 +180,100 @@ function weightedGram(d: Float64Array, psi: Cx[], real: boolean): { re: Float64A
   return { re: Are, im: Aim, anyIm };
 }
 
-/** Σ_{k0 ≤ k < k1} d_k (a_2k b_2k + a_2k+1 b_2k+1) for real vectors (joints with d_k = 0 skipped). */
-function realWeightedDot(d: Float64Array, k0: number, k1: number, ar: Float64Array, br: Float64Array): number {
-  let s = 0;
-  for (let k = k0; k < k1; k++) {
-    const dk = d[k];
-    if (dk === 0) continue;
-    const i = 2 * k;
-    s += dk * (ar[i] * br[i] + ar[i + 1] * br[i + 1]);
+/**
+ * The upper triangle of the real `weightedGram` into A: A[a][b] = Σ_i (d_i·ψ_a[i])·ψ_b[i] over
+ * the dofs i of joints with d ≠ 0 (d_i the weight of i's joint), in increasing i. By chunks of
+ * joints: the chunk's dofs with d ≠ 0 are packed (P[a·L + ·] = ψ_a, Q = d·P), then blocks of
+ * 4 rows × 4 columns (16 independent sums, 8 loads per 16 multiply-adds); the last r mod 4
+ * columns one entry at a time. Folding d into one side takes one multiply of the three per term
+ * (the sums differ from Σ_k d_k(x·u + y·v) by rounding only).
+ */
+function realWeightedGram(d: Float64Array, psi: Cx[], A: Float64Array): void {
+  const r = psi.length;
+  const J = d.length;
+  const P = new Float64Array(r * 2 * GRAM_CHUNK);
+  const Q = new Float64Array(r * 2 * GRAM_CHUNK);
+  const dofs = new Int32Array(2 * GRAM_CHUNK);
+  const r4 = r - (r % 4);
+  for (let k0 = 0; k0 < J; k0 += GRAM_CHUNK) {
+    const k1 = Math.min(J, k0 + GRAM_CHUNK);
+    let L = 0;
+    for (let k = k0; k < k1; k++)
+      if (d[k] !== 0) {
+        dofs[L++] = 2 * k;
+        dofs[L++] = 2 * k + 1;
+      }
+    if (L === 0) continue;
+    for (let a = 0; a < r; a++) {
+      const v = psi[a].re;
+      const o = a * L;
+      for (let i = 0; i < L; i++) {
+        const x = v[dofs[i]];
+        P[o + i] = x;
+        Q[o + i] = d[dofs[i] >> 1] * x;
+      }
+    }
+    for (let a = 0; a < r4; a += 4)
+      for (let b = a; b < r4; b += 4) {
+        const qa = a * L;
+        const pb = b * L;
+        let s00 = 0, s01 = 0, s02 = 0, s03 = 0, s10 = 0, s11 = 0, s12 = 0, s13 = 0;
+        let s20 = 0, s21 = 0, s22 = 0, s23 = 0, s30 = 0, s31 = 0, s32 = 0, s33 = 0;
+        for (let i = 0; i < L; i++) {
+          const w0 = Q[qa + i];
+          const w1 = Q[qa + L + i];
+          const w2 = Q[qa + 2 * L + i];
+          const w3 = Q[qa + 3 * L + i];
+          let u = P[pb + i];
+          s00 += w0 * u;
+          s10 += w1 * u;
+          s20 += w2 * u;
+          s30 += w3 * u;
+          u = P[pb + L + i];
+          s01 += w0 * u;
+          s11 += w1 * u;
+          s21 += w2 * u;
+          s31 += w3 * u;
+          u = P[pb + 2 * L + i];
+          s02 += w0 * u;
+          s12 += w1 * u;
+          s22 += w2 * u;
+          s32 += w3 * u;
+          u = P[pb + 3 * L + i];
+          s03 += w0 * u;
+          s13 += w1 * u;
+          s23 += w2 * u;
+          s33 += w3 * u;
+        }
+        // the block's entries on or above the diagonal (b = a: the lower half is not stored)
+        const o = a * r + b;
+        A[o] += s00;
+        A[o + 1] += s01;
+        A[o + 2] += s02;
+        A[o + 3] += s03;
+        A[o + r + 1] += s11;
+        A[o + r + 2] += s12;
+        A[o + r + 3] += s13;
+        A[o + 2 * r + 2] += s22;
+        A[o + 2 * r + 3] += s23;
+        A[o + 3 * r + 3] += s33;
+        if (b !== a) {
+          A[o + r] += s10;
+          A[o + 2 * r] += s20;
+          A[o + 2 * r + 1] += s21;
+          A[o + 3 * r] += s30;
+          A[o + 3 * r + 1] += s31;
+          A[o + 3 * r + 2] += s32;
+        }
+      }
+    // the last r mod 4 columns, every row above them
+    for (let b = r4; b < r; b++)
+      for (let a = 0; a <= b; a++) {
+        let s = 0;
+        for (let i = 0, qa = a * L, pb = b * L; i < L; i++) s += Q[qa + i] * P[pb + i];
+        A[a * r + b] += s;
+      }
   }
-  return s;
-}
-
-/** `realWeightedDot` of a0 and a1 with b0…b3 at once (eight independent sums), added to out[o…o+3] and out[o+r…o+r+3]. */
-function realWeightedDot2x4(d: Float64Array, k0: number, k1: number, a0: Float64Array, a1: Float64Array, b0: Float64Array, b1: Float64Array, b2: Float64Array, b3: Float64Array, out: Float64Array, o: number, r: number): void {
-  let s00 = 0;
-  let s01 = 0;
-  let s02 = 0;
-  let s03 = 0;
-  let s10 = 0;
-  let s11 = 0;
-  let s12 = 0;
-  let s13 = 0;
-  for (let k = k0; k < k1; k++) {
-    const dk = d[k];
-    if (dk === 0) continue;
-    const i = 2 * k;
-    const x0 = a0[i];
-    const y0 = a0[i + 1];
-    const x1 = a1[i];
-    const y1 = a1[i + 1];
-    const u0 = b0[i];
-    const v0 = b0[i + 1];
-    const u1 = b1[i];
-    const v1 = b1[i + 1];
-    const u2 = b2[i];
-    const v2 = b2[i + 1];
-    const u3 = b3[i];
-    const v3 = b3[i + 1];
-    s00 += dk * (x0 * u0 + y0 * v0);
-    s01 += dk * (x0 * u1 + y0 * v1);
-    s02 += dk * (x0 * u2 + y0 * v2);
-    s03 += dk * (x0 * u3 + y0 * v3);
-    s10 += dk * (x1 * u0 + y1 * v0);
-    s11 += dk * (x1 * u1 + y1 * v1);
-    s12 += dk * (x1 * u2 + y1 * v2);
-    s13 += dk * (x1 * u3 + y1 * v3);
-  }
-  out[o] += s00;
-  out[o + 1] += s01;
-  out[o + 2] += s02;
-  out[o + 3] += s03;
-  out[o + r] += s10;
-  out[o + r + 1] += s11;
-  out[o + r + 2] += s12;
-  out[o + r + 3] += s13;
 }
 
 /**

@@ -8,7 +8,7 @@
  */
 import { cnorm as norm } from '../../linalg/complex.js';
 import type { Supercell } from '../../supercell/supercell.js';
-import { combineColumns, polarFactor, scaleInPlace } from './cvec-ops.js';
+import { allReal, allZero, combineColumns, polarFactor, scaleInPlace } from './cvec-ops.js';
 
 /**
  * One SCDM elimination step on row j of the row-major n×r matrix X: the row minus its
@@ -173,9 +173,11 @@ interface Source {
 
 /**
  * Entries 2k and 2k+1 of the m source vectors: out re/im [t] at 2k, [m + t] at 2k+1. With E:
- * Σ_b ψ_b[·]·E[b][t], b in increasing order (the sums of `combineColumns`, so the same numbers).
+ * Σ_b ψ_b[·]·E[b][t], b in increasing order from zero, each term formed as in `combineColumns`
+ * (so the same numbers). `gather` (length 4·r_in) holds ψ_b's entries at joint k; the sums run
+ * four columns of E at a time (real) or two (complex), in registers.
  */
-function sourceEntries(src: Source, k: number, outRe: Float64Array, outIm: Float64Array, real: boolean): void {
+function sourceEntries(src: Source, k: number, outRe: Float64Array, outIm: Float64Array, real: boolean, gather: Float64Array): void {
   const { psi, E, m } = src;
   if (!E) {
     for (let t = 0; t < m; t++) {
@@ -186,31 +188,91 @@ function sourceEntries(src: Source, k: number, outRe: Float64Array, outIm: Float
     }
     return;
   }
-  outRe.fill(0);
-  outIm.fill(0);
+  const rin = psi.length;
   const Ere = E.re;
-  const Eim = E.im;
-  for (let b = 0; b < psi.length; b++) {
-    const xr = psi[b].re[2 * k];
-    const yr = psi[b].re[2 * k + 1];
-    const o = b * m;
-    if (real) {
-      for (let t = 0; t < m; t++) {
-        outRe[t] += xr * Ere[o + t];
-        outRe[m + t] += yr * Ere[o + t];
+  // gather: x_b re at [b], y_b re at [rin + b], x_b im at [2·rin + b], y_b im at [3·rin + b]
+  for (let b = 0; b < rin; b++) {
+    gather[b] = psi[b].re[2 * k];
+    gather[rin + b] = psi[b].re[2 * k + 1];
+  }
+  if (real) {
+    outIm.fill(0);
+    let t = 0;
+    for (; t + 3 < m; t += 4) {
+      let x0 = 0, x1 = 0, x2 = 0, x3 = 0, y0 = 0, y1 = 0, y2 = 0, y3 = 0;
+      for (let b = 0, o = t; b < rin; b++, o += m) {
+        const xr = gather[b];
+        const yr = gather[rin + b];
+        const e0 = Ere[o];
+        const e1 = Ere[o + 1];
+        const e2 = Ere[o + 2];
+        const e3 = Ere[o + 3];
+        x0 += xr * e0;
+        x1 += xr * e1;
+        x2 += xr * e2;
+        x3 += xr * e3;
+        y0 += yr * e0;
+        y1 += yr * e1;
+        y2 += yr * e2;
+        y3 += yr * e3;
       }
-      continue;
+      outRe[t] = x0;
+      outRe[t + 1] = x1;
+      outRe[t + 2] = x2;
+      outRe[t + 3] = x3;
+      outRe[m + t] = y0;
+      outRe[m + t + 1] = y1;
+      outRe[m + t + 2] = y2;
+      outRe[m + t + 3] = y3;
     }
-    const xi = psi[b].im[2 * k];
-    const yi = psi[b].im[2 * k + 1];
-    for (let t = 0; t < m; t++) {
-      const wr = Ere[o + t];
-      const wi = Eim ? Eim[o + t] : 0;
-      outRe[t] += xr * wr - xi * wi;
-      outIm[t] += xr * wi + xi * wr;
-      outRe[m + t] += yr * wr - yi * wi;
-      outIm[m + t] += yr * wi + yi * wr;
+    for (; t < m; t++) {
+      let x = 0;
+      let y = 0;
+      for (let b = 0, o = t; b < rin; b++, o += m) {
+        x += gather[b] * Ere[o];
+        y += gather[rin + b] * Ere[o];
+      }
+      outRe[t] = x;
+      outRe[m + t] = y;
     }
+    return;
+  }
+  for (let b = 0; b < rin; b++) {
+    gather[2 * rin + b] = psi[b].im[2 * k];
+    gather[3 * rin + b] = psi[b].im[2 * k + 1];
+  }
+  const Eim = E.im;
+  for (let t = 0; t < m; t += 2) {
+    const two = t + 1 < m;
+    let xr0 = 0, xi0 = 0, yr0 = 0, yi0 = 0, xr1 = 0, xi1 = 0, yr1 = 0, yi1 = 0;
+    for (let b = 0, o = t; b < rin; b++, o += m) {
+      const xr = gather[b];
+      const yr = gather[rin + b];
+      const xi = gather[2 * rin + b];
+      const yi = gather[3 * rin + b];
+      let wr = Ere[o];
+      let wi = Eim ? Eim[o] : 0;
+      xr0 += xr * wr - xi * wi;
+      xi0 += xr * wi + xi * wr;
+      yr0 += yr * wr - yi * wi;
+      yi0 += yr * wi + yi * wr;
+      if (!two) continue;
+      wr = Ere[o + 1];
+      wi = Eim ? Eim[o + 1] : 0;
+      xr1 += xr * wr - xi * wi;
+      xi1 += xr * wi + xi * wr;
+      yr1 += yr * wr - yi * wi;
+      yi1 += yr * wi + yi * wr;
+    }
+    outRe[t] = xr0;
+    outIm[t] = xi0;
+    outRe[m + t] = yr0;
+    outIm[m + t] = yi0;
+    if (!two) continue;
+    outRe[t + 1] = xr1;
+    outIm[t + 1] = xi1;
+    outRe[m + t + 1] = yr1;
+    outIm[m + t + 1] = yi1;
   }
 }
 
@@ -327,7 +389,7 @@ function scdmCore(src: Source, complex: boolean, order: Int32Array): { re: Float
   // imaginary parts all zero (the usual real case): Xim is never formed, and the blocks'
   // off-diagonal entries are real dot products (the same numbers without the zero products);
   // zero imaginary parts also give the real elimination's numbers in the complex one
-  const imZero = psi.every((v) => v.im.every((x) => x === 0)) && (!src.E || !src.E.im || src.E.im.every((x) => x === 0));
+  const imZero = allReal(psi) && (!src.E || !src.E.im || allZero(src.E.im));
   const realRows = !complex || imZero;
   // rows of Ψᴴ (of (Ψ·E)ᴴ), row-major n×r: all at once without E, joint by joint with it
   const { Xre, Xim } = src.E ? { Xre: new Float64Array(n * r), Xim: new Float64Array(imZero ? 0 : n * r) } : rowsOf(psi, imZero);
@@ -348,8 +410,9 @@ function scdmCore(src: Source, complex: boolean, order: Int32Array): { re: Float
   };
   const entryRe = new Float64Array(2 * r);
   const entryIm = new Float64Array(2 * r);
+  const gather = new Float64Array(4 * psi.length);
   const formRows = (k: number) => {
-    sourceEntries(src, k, entryRe, entryIm, imZero);
+    sourceEntries(src, k, entryRe, entryIm, imZero, gather);
     for (let t = 0; t < r; t++) {
       Xre[2 * k * r + t] = entryRe[t];
       Xre[(2 * k + 1) * r + t] = entryRe[r + t];
@@ -436,7 +499,7 @@ function scdmCore(src: Source, complex: boolean, order: Int32Array): { re: Float
     const { sel: c, nq } = pivotDirection(Xre, Xim, imZero, r, k, res[2 * k], res[2 * k + 1], br, bi, top[k], qre, qim);
     sel.push(c);
     const e = { re: new Float64Array(2 * r), im: new Float64Array(2 * r) };
-    sourceEntries(src, k, e.re, e.im, imZero);
+    sourceEntries(src, k, e.re, e.im, imZero, gather);
     entries.push(e);
     if (nq === 0) taken[k] = 1;
     else {
@@ -547,7 +610,7 @@ export function scdmReference(psi: { re: Float64Array; im: Float64Array }[], com
   const r = psi.length;
   const n = psi[0].re.length;
   const J = n >> 1;
-  const imZero = psi.every((v) => v.im.every((x) => x === 0));
+  const imZero = allReal(psi);
   const realRows = !complex || imZero;
   const { Xre, Xim } = rowsOf(psi, imZero);
   const res = new Float64Array(n);
@@ -584,13 +647,14 @@ export function scdmReference(psi: { re: Float64Array; im: Float64Array }[], com
     if (sel.filter((x) => x.k === k).length === 2) taken[k] = 1;
   }
   const src: Source = { psi, E: null, m: r };
+  const gather = new Float64Array(4 * r);
   return localisedBasis(
     src,
     complex,
     sel,
     sel.map((c) => {
       const e = { re: new Float64Array(2 * r), im: new Float64Array(2 * r) };
-      sourceEntries(src, c.k, e.re, e.im, imZero);
+      sourceEntries(src, c.k, e.re, e.im, imZero, gather);
       return e;
     }),
   );
