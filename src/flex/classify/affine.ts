@@ -15,7 +15,7 @@ import { realDots } from '../../linalg/block.js';
 import { cdot as dot, cnorm as norm } from '../../linalg/complex.js';
 import { resolveBars } from '../../framework/types.js';
 import type { Supercell } from '../../supercell/supercell.js';
-import { addScaled, scaleInPlace, subtractProjection, type Cx, type SpanPart } from './cvec-ops.js';
+import { addScaled, allReal, allZero, scaleInPlace, subtractProjection, type Cx, type SpanPart } from './cvec-ops.js';
 
 /** An affine field lies in the flex space when its distance to it is at most this (unit field). */
 export const AFFINE_IN_KERNEL = 1e-6;
@@ -108,7 +108,7 @@ export function splitAffine(sc: Supercell, flexBasis: Cx[], rest: Cx[]): AffineR
   const t = F.length;
   // C[a][b] = ⟨φ_b, F_a⟩; the fields are real, so a real φ_b needs only the real products (the
   // same real part; the imaginary part is then zero)
-  const realPhi = flexBasis.map((p) => p.im.every((x) => x === 0));
+  const realPhi = flexBasis.map((p) => allZero(p.im));
   const C: [number, number][][] = F.map(() => []);
   const fieldsRe = F.map((x) => x.re);
   const dotsOfPhi = new Float64Array(F.length);
@@ -139,7 +139,7 @@ export function splitAffine(sc: Supercell, flexBasis: Cx[], rest: Cx[]): AffineR
   const r = rest.length;
   // a real rest (imaginary parts all zero) gives zero imaginary coefficients against the real
   // fields, so the real path forms the same numbers
-  const realRest = rest.every((x) => x.im.every((y) => y === 0));
+  const realRest = allReal(rest);
   const M = new Matrix(r, inK.length);
   const Mi = new Matrix(r, inK.length);
   const inKRe = inK.map((x) => x.re);
@@ -264,7 +264,7 @@ export function canonicalAffineBasis(sc: Supercell, affine: Cx[], F: Cx[]): Cx[]
   }
   // the fields F span every affine field, so their projections span the affine flexes in the rest
   if (taken.length < a) throw new Error(`classify: the reference fields reach only ${taken.length} of the ${a} affine directions (internal error)`);
-  const real = affine.every((u) => u.im.every((x) => x === 0)) && taken.every((q) => q.im.every((x) => x === 0));
+  const real = allReal(affine) && taken.every((q) => allZero(q.im));
   return taken.map((q) => {
     const v = { re: new Float64Array(n), im: new Float64Array(n) };
     affine.forEach((u, k) => addScaled(v, u, q.re[k], q.im[k], real));
@@ -287,7 +287,7 @@ export function complementCoefficients(rest: Cx[], affine: Cx[]): SpanPart | nul
   const r = rest.length;
   const a = affine.length;
   if (a > r) return null;
-  const real = rest.every((x) => x.im.every((y) => y === 0)) && affine.every((x) => x.im.every((y) => y === 0));
+  const real = allReal(rest) && allReal(affine);
   // Y[i][k] = ⟨rest_i, affine_k⟩, row-major r×a
   const Yre = new Float64Array(r * a);
   const Yim = new Float64Array(r * a);

@@ -9,7 +9,7 @@ import type { SparseMatrix } from '../../linalg/sparse.js';
 import type { Supercell } from '../../supercell/supercell.js';
 import type { ClassifiedMode } from '../classes.js';
 import type { FlexAnalysis } from '../spaces.js';
-import { scaleInPlace, subtractProjection } from './cvec-ops.js';
+import { allReal, scaleInPlace, subtractProjection } from './cvec-ops.js';
 import type { Geometry } from './metrics.js';
 import { KernelCache } from './restricted-kernel.js';
 import type { Span } from './span.js';
@@ -98,7 +98,7 @@ export function makeContext(sc: Supercell, analysis: FlexAnalysis, method: Ctx['
  * real and imaginary parts span that kernel, and an orthonormal real basis of it is used.
  */
 function realIfPossible(vectors: CVec[], realMatrix: boolean, dim: number): CVec[] {
-  if (!realMatrix || vectors.every((v) => v.im.every((x) => x === 0))) return vectors;
+  if (!realMatrix || allReal(vectors)) return vectors;
   const parts: { re: Float64Array; im: Float64Array }[] = [];
   for (const v of vectors) {
     parts.push({ re: v.re.slice(), im: new Float64Array(v.re.length) });

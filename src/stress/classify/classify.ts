@@ -36,7 +36,7 @@
 import { Matrix, SingularValueDecomposition } from 'ml-matrix';
 import { FLEX_CLASSES, type ClassifiedMode, type FlexClass } from '../../flex/classes.js';
 import type { FlexAnalysis } from '../../flex/spaces.js';
-import { expand, type Cx } from '../../flex/classify/cvec-ops.js';
+import { allReal, expand, type Cx } from '../../flex/classify/cvec-ops.js';
 import { usableDirections } from '../../flex/classify/lines.js';
 import { confineCorners, cornerOfWindow, type CornerFind } from '../../flex/classify/local.js';
 import { basicMetrics, decayOf } from '../../flex/classify/metrics.js';
@@ -145,7 +145,7 @@ function barsAlong(sc: Supercell, w: Float64Array, d: [number, number]): boolean
 
 /** An orthonormal real basis of the span of a real matrix's kernel vectors returned complex. */
 function realBasis(vectors: CVec[], dim: number): CVec[] {
-  if (vectors.every((v) => v.im.every((x) => x === 0))) return vectors;
+  if (allReal(vectors)) return vectors;
   const parts = vectors.flatMap((v) => [
     { re: Float64Array.from(v.re), im: new Float64Array(v.re.length) },
     { re: Float64Array.from(v.im), im: new Float64Array(v.re.length) },
