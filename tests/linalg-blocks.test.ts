@@ -219,3 +219,21 @@ describe('cholQr2', () => {
     expect(cholQr2(X)).toBe(false);
   });
 });
+
+// The seeded generator's bulk fill draws exactly the numbers single draws give, and continues
+// the same sequence (start vectors, and so every iteration, stay as they were).
+describe('seededUniform fill', () => {
+  it('fill(a) equals a.length single draws, interleaved with calls', () => {
+    const one = seededUniform(42, -0.5, 0.5);
+    const bulk = seededUniform(42, -0.5, 0.5);
+    const want = Array.from({ length: 1000 }, () => one());
+    const a = new Float64Array(400);
+    bulk.fill(a);
+    const b = bulk();
+    const c = new Float64Array(599);
+    bulk.fill(c);
+    expect([...a, b, ...c]).toEqual(want);
+    expect(Math.min(...want)).toBeGreaterThanOrEqual(-0.5);
+    expect(Math.max(...want)).toBeLessThan(0.5);
+  });
+});

@@ -4,6 +4,7 @@
  * orthonormalisation (two passes of modified Gram–Schmidt, or Cholesky QR twice), and the small
  * hot-loop kernels (axpy, dot, divide) kept as separate functions so V8 compiles them early.
  */
+import type { Uniform } from './random.js';
 import { sparseMatVecInto } from './sparse.js';
 
 /** y = A x (y overwritten): the one sparse mat-vec, re-exported under the name the solvers use. */
@@ -19,12 +20,16 @@ export interface Block {
 
 export function randomColumn(b: Block, rand: () => number): { re: Float64Array; im: Float64Array | null } {
   const re = new Float64Array(b.len);
-  for (let i = 0; i < b.len; i++) re[i] = rand();
-  let im: Float64Array | null = null;
-  if (b.im) {
-    im = new Float64Array(b.len);
-    for (let i = 0; i < b.len; i++) im[i] = rand();
+  const im = b.im ? new Float64Array(b.len) : null;
+  // a seeded generator fills in bulk (the same numbers, without a call per entry)
+  const bulk = (rand as Partial<Uniform>).fill;
+  if (bulk) {
+    bulk(re);
+    if (im) bulk(im);
+    return { re, im };
   }
+  for (let i = 0; i < b.len; i++) re[i] = rand();
+  if (im) for (let i = 0; i < b.len; i++) im[i] = rand();
   return { re, im };
 }
 
