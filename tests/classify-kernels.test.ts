@@ -5,7 +5,8 @@
  * remainder branch), and the packed weighted Gram matrix against its definition.
  */
 import { describe, expect, it } from 'vitest';
-import { combineColumns, polarFactor, polarFactorNewton, polarFactorSvd, type Cx } from '../src/flex/classify/cvec-ops.js';
+import { combineColumns, type Cx } from '../src/flex/classify/cvec-ops.js';
+import { polarFactor, polarFactorNewton, polarFactorSvd } from '../src/flex/classify/polar.js';
 import { weightedGram } from '../src/flex/classify/rest-split.js';
 import { hermitianEigen } from '../src/linalg/hermitian-eig.js';
 import { rng } from './helpers.js';

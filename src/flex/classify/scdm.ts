@@ -8,7 +8,8 @@
  */
 import { cnorm as norm } from '../../linalg/complex.js';
 import type { Supercell } from '../../supercell/supercell.js';
-import { allReal, allZero, combineColumns, polarFactor, scaleInPlace } from './cvec-ops.js';
+import { allReal, allZero, combineColumns, scaleInPlace } from './cvec-ops.js';
+import { polarFactor } from './polar.js';
 
 /**
  * One SCDM elimination step on row j of the row-major n×r matrix X: the row minus its
