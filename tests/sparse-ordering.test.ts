@@ -5,10 +5,12 @@
  * elimination), so the faster code gives the same orderings and figures, not just valid ones.
  */
 import { describe, expect, it } from 'vitest';
+import { bandwidthLowerBound } from '../src/flex/sparse/factors.js';
 import { gramCsr, gramGraph, makeSides, rowsByCell, type Side } from '../src/flex/sparse/sides.js';
+import { sparseSolver, sparseSpaces } from '../src/flex/solve-sparse.js';
 import { buildGallery } from '../src/framework/gallery.js';
 import { reverseCuthillMcKee, type Graph } from '../src/linalg/banded.js';
-import { analyse, nestedDissection } from '../src/linalg/sparse-ldl/index.js';
+import { analyse, nestedDissection, type HermitianCsr } from '../src/linalg/sparse-ldl/index.js';
 import { conjugateTranspose, type SparseMatrix } from '../src/linalg/sparse.js';
 import { parseBoundary } from '../src/supercell/boundary.js';
 import { rigidityMatrix } from '../src/supercell/rigidity.js';
@@ -452,5 +454,70 @@ describe('symbolic analysis', () => {
     }
     expect(sym.nnzL).toBe(stored);
     expect(sym.nnzL).toBeGreaterThanOrEqual(col.reduce((a, b) => a + b, 0));
+  });
+});
+
+// The band's bandwidth from below (factors.ts bandwidthLowerBound): never above the bandwidth of
+// the orderings the band would use, also with several connected parts; and a large open count
+// that skips the band orderings still reports the same count as the band factorisation.
+describe('the band bandwidth lower bound', () => {
+  it('is at most the ordered bandwidth on open, pinned and periodic supercells and a graph in parts', () => {
+    const cases: [string, [number, number], string][] = [
+      ['gallery:kagome', [12, 9], 'free'],
+      ['gallery:twisted-kagome?twist=15', [10, 10], 'pinned'],
+      ['gallery:honeycomb', [14, 6], 'x=periodic'],
+      ['gallery:square', [8, 8], 'free'],
+    ];
+    for (const [spec, cells, bc] of cases) {
+      const sc = buildSupercell(buildGallery(spec), cells, parseBoundary(bc));
+      const R = rigidityMatrix(sc);
+      const { flex, stress } = makeSides(R, conjugateTranspose(R));
+      for (const side of [flex, stress]) {
+        const low = bandwidthLowerBound(gramCsr(side));
+        expect(low, `${spec} ${bc} ${side.gramName}`).toBeLessThanOrEqual(side.bw);
+        // and not a trivial bound: within a factor 6 of the ordered one on these lattices
+        expect(low * 6, `${spec} ${bc} ${side.gramName}`).toBeGreaterThanOrEqual(side.bw);
+      }
+    }
+    // two paths (10 and 30 vertices): the longer decides, (30 − 1)/diameter 29 → 1; a 5×5 grid
+    // (25 vertices, diameter 8) beside an isolated vertex → ⌈24/8⌉ = 3
+    const csr = (n: number, edges: [number, number][]): HermitianCsr => {
+      const rows: number[][] = Array.from({ length: n }, (_, i) => [i]);
+      for (const [a, b] of edges) rows[a].push(b), rows[b].push(a);
+      const ptr = new Int32Array(n + 1);
+      rows.forEach((r, i) => (ptr[i + 1] = ptr[i] + r.length));
+      const idx = Int32Array.from(rows.flatMap((r) => r.sort((x, y) => x - y)));
+      return { n, ptr, idx, re: new Float64Array(idx.length), im: null };
+    };
+    const paths = csr(40, [...Array.from({ length: 9 }, (_, i) => [i, i + 1] as [number, number]), ...Array.from({ length: 29 }, (_, i) => [10 + i, 11 + i] as [number, number])]);
+    expect(bandwidthLowerBound(paths)).toBe(1);
+    const grid: [number, number][] = [];
+    for (let i = 0; i < 5; i++) for (let j = 0; j < 5; j++) {
+      if (i < 4) grid.push([5 * i + j, 5 * i + j + 5]);
+      if (j < 4) grid.push([5 * i + j, 5 * i + j + 1]);
+    }
+    // from the middle of the drawing: the centre's eccentricity is 4; without positions the
+    // middle of a long path may be another corner (eccentricity 8): a weaker bound, still valid
+    const at = Float64Array.from({ length: 52 }, (_, t) => (t >= 50 ? 2 + 0.1 * (t - 50) : t % 2 === 0 ? Math.floor(t / 2 / 5) : (t / 2 - 0.5) % 5));
+    expect(bandwidthLowerBound(csr(26, grid), at)).toBe(3);
+    expect(bandwidthLowerBound(csr(26, grid))).toBeGreaterThanOrEqual(2);
+    expect(bandwidthLowerBound(csr(26, grid))).toBeLessThanOrEqual(3);
+  });
+
+  it('an open kagome 48×48 count takes the sparse factor on the bound alone and counts as the band does', () => {
+    const sc = buildSupercell(buildGallery('gallery:kagome'), [48, 48], parseBoundary('free'));
+    const R = rigidityMatrix(sc);
+    // the solver passes the drawing's positions (for the dissection and the bound)
+    const auto = sparseSolver(sc, R, { relative: 1e-9, memoryLimit: 1.5 * 1024 ** 3 });
+    const band = sparseSpaces(R, { relative: 1e-9, memoryLimit: 1.5 * 1024 ** 3, factor: 'band' });
+    const f = auto.status.factorisation!;
+    expect(f.method).toBe('sparse-ldl');
+    expect(f.bandFigures).toBe('lower-bound');
+    expect(f.flops).toBeLessThan(0.5 * f.bandFlops);
+    // the band's true figures are at least the bounds
+    expect(band.status.factorisation!.bandFigures).toBe('ordered');
+    expect(band.status.factorisation!.flops).toBeGreaterThanOrEqual(f.bandFlops);
+    expect(auto.decision.rank).toBe(band.decision.rank);
+    expect(auto.status.certified && band.status.certified).toBe(true);
   });
 });

@@ -68,6 +68,12 @@ export interface FactorReport {
   /** The band's figures, for comparison. */
   bandNnzL: number;
   bandFlops: number;
+  /**
+   * 'ordered': the band's figures under its ordering; 'lower-bound': lower bounds from a
+   * breadth-first search, when the sparse factor needs under half of even those flops and the
+   * band orderings were not computed.
+   */
+  bandFigures: 'ordered' | 'lower-bound';
 }
 
 export interface SolvedSpaces {

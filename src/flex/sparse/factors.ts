@@ -43,6 +43,8 @@ export interface FactorPlan {
   reason: string;
   /** Nonzeros of L (diagonal included) and flops of one factorisation (Σ column count², ×4 complex), per method. */
   band: { nnzL: number; flops: number; bytes: number };
+  /** 'ordered': the band's figures under its ordering; 'lower-bound': bounds from below (the band was not ordered). */
+  bandFigures: 'ordered' | 'lower-bound';
   sparse: { nnzL: number; flops: number; bytes: number; supernodes: number; largestFront: number } | null;
   symbolic: SymbolicFactor | null;
   K: HermitianCsr | null;
@@ -56,13 +58,12 @@ export function factorPlan(side: Side, ctx: Pick<Ctx, 'complex' | 'memoryLimit' 
   if (hit) return hit;
   const c = ctx.complex ? 4 : 1;
   const n = side.dim;
-  const w = side.bw + 1;
-  const band = { nnzL: n * w, flops: c * n * w * w, bytes: bandBytes(n, side.bw, ctx.complex) };
+  const bandOf = (bw: number) => ({ nnzL: n * (bw + 1), flops: c * n * (bw + 1) * (bw + 1), bytes: bandBytes(n, bw, ctx.complex) });
   const mode = ctx.factor ?? 'auto';
   let plan: FactorPlan;
   if (mode === 'band' || (mode === 'auto' && n < SPARSE_MIN_DIM)) {
     const why = mode === 'band' ? 'the band factorisation was asked for' : `band: ${n} unknowns are too few for a fill-reducing analysis to pay`;
-    plan = { kind: 'band', reason: why, band, sparse: null, symbolic: null, K: null };
+    plan = { kind: 'band', reason: why, band: bandOf(side.bw), bandFigures: 'ordered', sparse: null, symbolic: null, K: null };
   } else {
     const K = gramCsr(side);
     const symbolic = analyseHermitian(K, { positions: side.positions });
@@ -74,17 +75,101 @@ export function factorPlan(side: Side, ctx: Pick<Ctx, 'complex' | 'memoryLimit' 
       largestFront: symbolic.maxFront,
     };
     const order = side.positions ? 'nested dissection by coordinate bisection' : 'nested dissection by level structures';
-    const ratio = `${(sparse.flops / Math.max(1, band.flops)).toPrecision(2)} of the band's flops`;
+    // the band's bandwidth from below first (one breadth-first search on K's pattern): when the
+    // sparse factor needs under half of even that band's flops, the band orderings (two reverse
+    // Cuthill–McKee runs, a tenth of a large count) are not computed, and the band's figures
+    // are reported as the lower bounds they are
+    const low = mode === 'auto' ? bandOf(bandwidthLowerBound(K, side.positions)) : null;
+    const bounded = low !== null && sparse.flops < 0.5 * low.flops;
+    const band = bounded ? low : bandOf(side.bw);
+    const ratio = `${bounded ? 'at most ' : ''}${(sparse.flops / Math.max(1, band.flops)).toPrecision(2)} of the band's flops${bounded ? ' (its bandwidth bounded below by a breadth-first search; the band was not ordered)' : ''}`;
     let kind: FactorPlan['kind'];
     let reason: string;
     if (mode === 'sparse') [kind, reason] = ['sparse', `sparse LDLᴴ (${order}) as asked for; ${ratio}`];
     else if (sparse.flops < 0.5 * band.flops) [kind, reason] = ['sparse', `sparse LDLᴴ (${order}): ${ratio}`];
     else if (band.bytes > ctx.memoryLimit && sparse.bytes < band.bytes) [kind, reason] = ['sparse', `sparse LDLᴴ (${order}): the band would not fit in memory; ${ratio}`];
     else [kind, reason] = ['band', `band: the sparse LDLᴴ (${order}) would take ${ratio}, not under ½`];
-    plan = kind === 'sparse' ? { kind, reason, band, sparse, symbolic, K } : { kind, reason, band, sparse, symbolic: null, K: null };
+    const bandFigures = bounded ? 'lower-bound' : 'ordered';
+    plan = kind === 'sparse' ? { kind, reason, band, bandFigures, sparse, symbolic, K } : { kind, reason, band, bandFigures, sparse, symbolic: null, K: null };
   }
   plans.set(side, plan);
   return plan;
+}
+
+/**
+ * A lower bound of the half-bandwidth of K under every ordering: along a shortest path between
+ * the first and the last unknown of a connected component (c unknowns) each step spans at most
+ * b positions, so c − 1 ≤ b·diameter, and diameter ≤ 2·eccentricity(v) for any v of the
+ * component (common practice). The smaller v's eccentricity, the better the bound: v is the
+ * unknown nearest the middle of the drawing's bounding box when positions are given (2 per
+ * unknown), and the middle of a long path (two searches find its ends) in each case; the
+ * smallest eccentricity found is used, and the largest component reached decides.
+ */
+export function bandwidthLowerBound(K: HermitianCsr, positions: Float64Array | null = null): number {
+  const n = K.n;
+  if (n <= 1) return 0;
+  const level = new Int32Array(n);
+  const parent = new Int32Array(n);
+  const queue = new Int32Array(n);
+  // breadth-first search from s: returns [last vertex reached, its level, vertices reached]
+  const search = (s: number): [number, number, number] => {
+    level.fill(-1);
+    level[s] = 0;
+    parent[s] = -1;
+    queue[0] = s;
+    let head = 0;
+    let tail = 1;
+    while (head < tail) {
+      const v = queue[head++];
+      for (let t = K.ptr[v]; t < K.ptr[v + 1]; t++) {
+        const u = K.idx[t];
+        if (level[u] < 0) {
+          level[u] = level[v] + 1;
+          parent[u] = v;
+          queue[tail++] = u;
+        }
+      }
+    }
+    const last = queue[tail - 1];
+    return [last, level[last], tail];
+  };
+  let best = 0;
+  let start = 0;
+  const seen = new Uint8Array(n);
+  let covered = 0;
+  // a start near the middle of the drawing (it lies in the largest component, as a rule)
+  let centre = -1;
+  if (positions && positions.length >= 2 * n) {
+    let [x0, x1, y0, y1] = [Infinity, -Infinity, Infinity, -Infinity];
+    for (let i = 0; i < n; i++) {
+      x0 = Math.min(x0, positions[2 * i]);
+      x1 = Math.max(x1, positions[2 * i]);
+      y0 = Math.min(y0, positions[2 * i + 1]);
+      y1 = Math.max(y1, positions[2 * i + 1]);
+    }
+    const [cx, cy] = [(x0 + x1) / 2, (y0 + y1) / 2];
+    let near = Infinity;
+    for (let i = 0; i < n; i++) {
+      const d = (positions[2 * i] - cx) ** 2 + (positions[2 * i + 1] - cy) ** 2;
+      if (d < near) [near, centre] = [d, i];
+    }
+  }
+  // components until the rest could not beat the bound found
+  while (covered < n && n - covered - 1 > 2 * best) {
+    while (seen[start]) start++;
+    const first = centre >= 0 && !seen[centre] ? centre : start;
+    const [a, eccFirst, reached] = search(first);
+    for (let i = 0; i < reached; i++) seen[queue[i]] = 1;
+    covered += reached;
+    let ecc = eccFirst;
+    const [b, length] = search(a);
+    // the middle of the path a … b
+    let m = b;
+    for (let k = 0; k < length >> 1; k++) m = parent[m];
+    ecc = Math.min(ecc, search(m)[1]);
+    if (ecc > 0) best = Math.max(best, Math.ceil((reached - 1) / (2 * ecc)));
+  }
+  return best;
 }
 
 /** What `count --json` reports about a side's factorisation (status.factorisation). */
@@ -94,7 +179,7 @@ import type { FactorReport } from '../solver.js';
 export function factorReport(side: Side, ctx: Pick<Ctx, 'complex' | 'memoryLimit' | 'factor'>): FactorReport {
   const p = factorPlan(side, ctx);
   const used = p.kind === 'sparse' ? p.sparse! : p.band;
-  return { method: p.kind === 'sparse' ? 'sparse-ldl' : 'band', reason: p.reason, nnzL: used.nnzL, flops: used.flops, bandNnzL: p.band.nnzL, bandFlops: p.band.flops };
+  return { method: p.kind === 'sparse' ? 'sparse-ldl' : 'band', reason: p.reason, nnzL: used.nnzL, flops: used.flops, bandNnzL: p.band.nnzL, bandFlops: p.band.flops, bandFigures: p.bandFigures };
 }
 
 /** A sparse LDLᴴ factor of one side's Gram matrix, with the figures the iterations read. */
