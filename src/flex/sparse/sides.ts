@@ -4,6 +4,7 @@
  */
 import { createBand, reverseCuthillMcKee, type BandMatrix, type Graph } from '../../linalg/banded.js';
 import type { HermitianCsr } from '../../linalg/sparse-ldl/index.js';
+import { sortRows } from '../../linalg/sparse-ldl/symbolic.js';
 import type { SparseMatrix } from '../../linalg/sparse.js';
 
 // ---------------------------------------------------------------------------------------------
@@ -238,23 +239,6 @@ export function gramBand(side: Side): BandMatrix {
   return G;
 }
 
-/** Sorts a[from … to − 1] ascending (insertion sort for short runs, the typed-array sort beyond). */
-function sortRun(a: Int32Array, from: number, to: number): void {
-  if (to - from > 32) {
-    a.subarray(from, to).sort();
-    return;
-  }
-  for (let t = from + 1; t < to; t++) {
-    const v = a[t];
-    let u = t - 1;
-    while (u >= from && a[u] > v) {
-      a[u + 1] = a[u];
-      u--;
-    }
-    a[u + 1] = v;
-  }
-}
-
 /**
  * K = AᴴA with both triangles stored, in the side's own (unpermuted) numbering. Row by row: the
  * products accumulate per column (in the order of Aᴴ's row, then A's rows), the row's columns are
@@ -298,7 +282,7 @@ export function gramCsr(side: Side): HermitianCsr {
     }
     const diagonal = mark[i] === i;
     if (!diagonal) idx[w++] = i; // an empty column still gets its (zero) diagonal
-    sortRun(idx, begin, w);
+    sortRows(idx, begin, w);
     for (let t = begin; t < w; t++) {
       const j = idx[t];
       const here = j !== i || diagonal;

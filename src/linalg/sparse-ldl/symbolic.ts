@@ -187,7 +187,7 @@ function supernodeRows(g: Graph, order: Int32Array, perm: Int32Array, superStart
 }
 
 /** Sorts a[from … to − 1] ascending: insertion sort for a short run, the typed-array sort beyond. */
-function sortRows(a: Int32Array, from: number, to: number): void {
+export function sortRows(a: Int32Array, from: number, to: number): void {
   if (to - from > 24) {
     a.subarray(from, to).sort();
     return;
