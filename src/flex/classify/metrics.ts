@@ -144,22 +144,45 @@ function ringsOfCells(geo: Geometry, dist: (cell: number) => number, cacheAs: st
   return cellRing;
 }
 
-function fitAnchor(geo: Geometry, w: Float64Array, anchor: Anchor, dist: (cell: number) => number): AnchorFit {
-  const J = w.length;
-  // the distance of every cell once, then the sums over joints in their order
+/** Joints per cell (cell-major), once per geometry. */
+const jointsPerCell = new WeakMap<Geometry, Int32Array>();
+
+function cellJointCounts(geo: Geometry): Int32Array {
+  let n = jointsPerCell.get(geo);
+  if (!n) {
+    n = new Int32Array(geo.ax.N1 * geo.ax.N2);
+    for (let k = 0; k < geo.jointCell.length; k++) n[geo.jointCell[k]]++;
+    jointsPerCell.set(geo, n);
+  }
+  return n;
+}
+
+/** A vector's weight summed per cell (joint weights w). */
+function cellWeights(geo: Geometry, w: Float64Array): Float64Array {
+  const cellW = new Float64Array(geo.ax.N1 * geo.ax.N2);
+  for (let k = 0; k < w.length; k++) cellW[geo.jointCell[k]] += w[k];
+  return cellW;
+}
+
+function fitAnchor(geo: Geometry, cellW: Float64Array, anchor: Anchor, dist: (cell: number) => number): AnchorFit {
+  // the distance of every cell once, then the sums over cells (the weights already summed per
+  // cell: a third of the work of summing joint by joint, for each of up to nine anchors)
   const cellRing = ringsOfCells(geo, dist, anchor.kind === 'point' ? null : `${anchor.kind}:${anchor.name}`);
+  const cellN = cellJointCounts(geo);
+  const C = cellW.length;
   let maxRing = 0;
-  for (let k = 0; k < J; k++) maxRing = Math.max(maxRing, cellRing[geo.jointCell[k]]);
+  for (let c = 0; c < C; c++) if (cellN[c] > 0) maxRing = Math.max(maxRing, cellRing[c]);
   const ringW = new Float64Array(maxRing + 1);
   const ringN = new Int32Array(maxRing + 1);
   let total = 0;
   let first = 0;
-  for (let k = 0; k < J; k++) {
-    const r = cellRing[geo.jointCell[k]];
-    ringW[r] += w[k];
-    ringN[r]++;
-    total += w[k];
-    first += r * w[k];
+  for (let c = 0; c < C; c++) {
+    if (cellN[c] === 0) continue;
+    const r = cellRing[c];
+    ringW[r] += cellW[c];
+    ringN[r] += cellN[c];
+    total += cellW[c];
+    first += r * cellW[c];
   }
   const rings = ringW.length;
   const head = Math.max(1, Math.floor(rings / 4));
@@ -211,7 +234,8 @@ function anchorCandidates(geo: Geometry, w: Float64Array): { corners: AnchorFit[
     sideDefs.push({ name: 'bottom', dist: (c) => cj(c), at: cartesian(sc, f1, 0) });
     sideDefs.push({ name: 'top', dist: (c) => N2 - 1 - cj(c), at: cartesian(sc, f1, N2) });
   }
-  for (const s of sideDefs) sides.push(fitAnchor(geo, w, { kind: 'side', name: s.name, at: s.at }, s.dist));
+  const cellW = cellWeights(geo, w);
+  for (const s of sideDefs) sides.push(fitAnchor(geo, cellW, { kind: 'side', name: s.name, at: s.at }, s.dist));
   if (!ax.px && !ax.py) {
     for (const [v, h] of [
       ['bottom', 'left'],
@@ -222,12 +246,10 @@ function anchorCandidates(geo: Geometry, w: Float64Array): { corners: AnchorFit[
       const di = (c: number) => (h === 'left' ? ci(c) : N1 - 1 - ci(c));
       const dj = (c: number) => (v === 'bottom' ? cj(c) : N2 - 1 - cj(c));
       const at = cartesian(sc, h === 'left' ? 0 : N1, v === 'bottom' ? 0 : N2);
-      corners.push(fitAnchor(geo, w, { kind: 'corner', name: `${v}-${h}`, at }, (c) => Math.max(di(c), dj(c))));
+      corners.push(fitAnchor(geo, cellW, { kind: 'corner', name: `${v}-${h}`, at }, (c) => Math.max(di(c), dj(c))));
     }
   }
   // point: the cell of largest total weight
-  const cellW = new Float64Array(N1 * N2);
-  for (let k = 0; k < w.length; k++) cellW[geo.jointCell[k]] += w[k];
   let cmax = 0;
   for (let c = 1; c < cellW.length; c++) if (cellW[c] > cellW[cmax]) cmax = c;
   const i0 = ci(cmax);
@@ -247,7 +269,7 @@ function anchorCandidates(geo: Geometry, w: Float64Array): { corners: AnchorFit[
     }
   const point = fitAnchor(
     geo,
-    w,
+    cellW,
     { kind: 'point', name: 'interior', at: [px / (pw || 1), py / (pw || 1)] },
     (c) => Math.max(wrapDist(ci(c), i0, N1, ax.px), wrapDist(cj(c), j0, N2, ax.py)),
   );
