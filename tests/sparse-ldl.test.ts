@@ -276,6 +276,7 @@ describe('the blocked kernels of the sparse LDLᴴ', () => {
       expect(F.negatives).toBe(below);
       const g = rng(seed + 1);
       const bound = 20 * n * EPS * (m.norm / gap); // rounding of two backward-stable solves, amplified by the conditioning
+      const residualBound = 4 * n * EPS * Math.max(1, F.growth);
       for (const q of [1, 3, 4, 5, 16, 17, 37]) {
         const rhs = Array.from({ length: q }, () => [Float64Array.from({ length: n }, () => g() - 0.5), complex ? Float64Array.from({ length: n }, () => g() - 0.5) : null] as [Float64Array, Float64Array | null]);
         const block = rhs.map(([a, b]) => [a.slice(), b ? b.slice() : null] as [Float64Array, Float64Array | null]);
@@ -289,10 +290,12 @@ describe('the blocked kernels of the sparse LDLᴴ', () => {
           F.solve(single[0], single[1]);
           expect(relDiff(block[r], single), `q = ${q}, column ${r} against its single solve`).toBeLessThan(bound);
           expect(relDiff(block[r], dense[r]), `q = ${q}, column ${r} against the dense solve`).toBeLessThan(bound);
-          expect(relativeResidual(m, shift, block[r], rhs[r])).toBeLessThan(1e-13);
+          // a backward-stable solve: residual of order n·ε times the factor's growth (no pivoting)
+          expect(relativeResidual(m, shift, block[r], rhs[r])).toBeLessThan(residualBound);
         }
       }
       expect(bound).toBeLessThan(1e-9); // the comparison means something
+      expect(residualBound).toBeLessThan(1e-9); // growth of these random indefinite factors: ~100–1300
     });
 
     it(`${label}: the factor's L D Lᴴ reproduces A − shift·I entry by entry, and the inertia equals the dense eigenvalue count at shifted indefinite points`, () => {
