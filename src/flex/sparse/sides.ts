@@ -291,5 +291,6 @@ export function gramCsr(side: Side): HermitianCsr {
     }
     ptr[i + 1] = w;
   }
-  return { n, ptr, idx: idx.slice(0, w), re: re.slice(0, w), im: im ? im.slice(0, w) : null };
+  // views, not copies: a copy would write (and page in) another few megabytes on a large side
+  return { n, ptr, idx: idx.subarray(0, w), re: re.subarray(0, w), im: im ? im.subarray(0, w) : null };
 }
