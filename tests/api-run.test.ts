@@ -1,9 +1,10 @@
 /** src/api/run.ts: the one build → solve → classify run agrees with the CLI and names bad input. */
 import { describe, expect, it } from 'vitest';
+import { inputProblems } from './helpers.js';
 import { analyse } from '../src/api/run.js';
 import { count } from '../src/analysis.js';
 import { main, readTextFile } from '../src/cli/main.js';
-import { InputError, TooLargeError } from '../src/errors.js';
+import { TooLargeError } from '../src/errors.js';
 import { buildGallery } from '../src/framework/gallery.js';
 import type { Framework } from '../src/framework/types.js';
 
@@ -14,16 +15,6 @@ async function cliClassify(spec: string, cells: string, bc: string, extra: strin
   expect(err).toBe('');
   expect(code).toBe(0);
   return JSON.parse(out);
-}
-
-function inputProblems(f: () => unknown): { where: string; what: string; fix: string }[] {
-  try {
-    f();
-  } catch (e) {
-    expect(e).toBeInstanceOf(InputError);
-    return (e as InputError).problems;
-  }
-  throw new Error('expected an InputError');
 }
 
 const cases: { spec: string; cells: [number, number]; bc: string; window?: number; strip?: number }[] = [

@@ -1,4 +1,6 @@
 /** Small shared helpers for the tests. */
+import { expect } from 'vitest';
+import { InputError, type Problem } from '../src/errors.js';
 import { count } from '../src/analysis.js';
 import { countsOf, type FlexCounts } from '../src/flex/spaces.js';
 import { buildGallery } from '../src/framework/gallery.js';
@@ -42,4 +44,17 @@ export function randomFramework(seed: number, S: number, B: number): Framework {
     bars.push({ from: `J${a}`, to: `J${b}`, shift: s });
   }
   return { name: `random-${seed}`, lattice: [[1, 0], [0.3, 1.1]], joints, bars };
+}
+
+/** The problems an InputError lists, each with a fix (fails the test when anything else is thrown, or nothing). */
+export function inputProblems(f: () => unknown): Problem[] {
+  try {
+    f();
+  } catch (e) {
+    expect(e).toBeInstanceOf(InputError);
+    const ps = (e as InputError).problems;
+    for (const p of ps) expect(p.fix.length).toBeGreaterThan(0);
+    return ps;
+  }
+  throw new Error('expected an InputError');
 }

@@ -4,13 +4,13 @@
  */
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
+import { inputProblems } from './helpers.js';
 import { modeDataOfResult } from '../src/app/export/data.js';
 import { defaultState, type AppState } from '../src/app/state.js';
 import { parseArgs } from '../src/cli/args.js';
 import type { CliIO } from '../src/cli/command.js';
 import { exportModesCommand } from '../src/cli/export-modes.js';
 import { classifyStresses } from '../src/stress/classify/classify.js';
-import { InputError } from '../src/errors.js';
 import { classifyFlexes } from '../src/flex/classify.js';
 import { analyseSupercell, countsOf } from '../src/flex/spaces.js';
 import { buildGallery } from '../src/framework/gallery.js';
@@ -53,19 +53,6 @@ function differences(a: unknown, b: unknown, path = '', out: string[] = []): str
     for (const k of keys) differences((a as Record<string, unknown>)[k], (b as Record<string, unknown>)[k], `${path}.${k}`, out);
   } else if (a !== b) out.push(`${path}: ${JSON.stringify(a)} vs ${JSON.stringify(b)}`);
   return out;
-}
-
-/** The problems an InputError lists (fails the test when something else is thrown). */
-function problemsOf(f: () => unknown) {
-  try {
-    f();
-  } catch (e) {
-    expect(e).toBeInstanceOf(InputError);
-    const ps = (e as InputError).problems;
-    for (const p of ps) expect(p.fix.length).toBeGreaterThan(0);
-    return ps;
-  }
-  throw new Error('expected an InputError');
 }
 
 /** Minimal CSV reading for these files (RFC 4180 quoting; rows end with \n). */
@@ -214,14 +201,14 @@ describe('mode-data CSV', () => {
 
 describe('parseModesJson errors name the field', () => {
   const base = () => JSON.parse(modesToJson(real.data)) as Record<string, any>;
-  const wheres = (v: unknown) => problemsOf(() => parseModesJson(typeof v === 'string' ? v : JSON.stringify(v))).map((p) => p.where);
+  const wheres = (v: unknown) => inputProblems(() => parseModesJson(typeof v === 'string' ? v : JSON.stringify(v))).map((p) => p.where);
 
   it('not JSON, another format, an old version', () => {
-    const syntax = problemsOf(() => parseModesJson('{"format": "shimmy mode data", '));
+    const syntax = inputProblems(() => parseModesJson('{"format": "shimmy mode data", '));
     expect(syntax[0].where).toBe('(top level)');
     expect(syntax[0].what).toMatch(/not valid JSON/);
     expect(wheres({ ...base(), format: 'shimmy app state' })).toEqual(['format']);
-    const old = problemsOf(() => parseModesJson(JSON.stringify({ ...base(), version: 1 })));
+    const old = inputProblems(() => parseModesJson(JSON.stringify({ ...base(), version: 1 })));
     expect(old.map((p) => p.where)).toEqual(['version']);
     expect(old[0].fix).toMatch(/export the run again/);
     expect(wheres([1, 2])).toEqual(['(top level)']);
@@ -265,7 +252,7 @@ describe('parseModesJson errors name the field', () => {
   it('lists at most 20 problems and says how many more there are', () => {
     const v = base();
     v.flexes[0].velocity.re = v.flexes[0].velocity.re.map(() => 'x');
-    const ps = problemsOf(() => parseModesJson(JSON.stringify(v)));
+    const ps = inputProblems(() => parseModesJson(JSON.stringify(v)));
     expect(ps).toHaveLength(21);
     expect(ps[20].where).toBe('(more)');
     expect(ps[20].what).toBe(`${v.flexes[0].velocity.re.length - 20} further problems are not listed`);

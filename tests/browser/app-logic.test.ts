@@ -4,6 +4,7 @@
  * data exports, and the worker's compute functions against the core called directly.
  */
 import { describe, expect, it } from 'vitest';
+import { inputProblems } from '../helpers.js';
 import { count } from '../../src/analysis.js';
 import { InputError } from '../../src/errors.js';
 import { classifyFlexes } from '../../src/flex/classify.js';
@@ -25,16 +26,6 @@ function withChanges(f: (s: AppState) => void): AppState {
 
 /** Every figure setting away from its default (a size in mm with a decimal). */
 const OTHER_FIGURE: FigureState = { width: 80.5, height: 50, unit: 'mm', dpi: 300, transparent: true, caption: false, caution: true, arrowScale: 1.5, lineScale: 0.75 };
-
-function problemsOf(f: () => unknown): { where: string; what: string; fix: string }[] {
-  try {
-    f();
-  } catch (e) {
-    expect(e).toBeInstanceOf(InputError);
-    return (e as InputError).problems;
-  }
-  throw new Error('expected an InputError');
-}
 
 describe('URL hash', () => {
   it('reads the documented example link', () => {
@@ -97,14 +88,14 @@ describe('URL hash', () => {
       ['figarrows', '0'],
       ['figlines', '11'],
     ];
-    for (const [key, value] of bad) expect(problemsOf(() => stateFromHash(`#${key}=${value}`)).map((p) => p.where)).toEqual([`URL #${key}`]);
+    for (const [key, value] of bad) expect(inputProblems(() => stateFromHash(`#${key}=${value}`)).map((p) => p.where)).toEqual([`URL #${key}`]);
     // 1200 is a width in pixels, not in mm; the fix names the unit
-    const mm = problemsOf(() => stateFromHash('#figwidth=1200&figheight=50&figunit=mm'));
+    const mm = inputProblems(() => stateFromHash('#figwidth=1200&figheight=50&figunit=mm'));
     expect(mm.map((p) => p.where)).toEqual(['URL #figwidth']);
     expect(mm[0].fix).toBe('give a number from 10 to 1000 millimetres (the unit given)');
     // a unit without a size whose default (in pixels) is no size in mm: the missing key is named
     // (900 mm is a height in mm too, and a 900 mm height is written without the key)
-    const missing = problemsOf(() => stateFromHash('#figunit=mm'));
+    const missing = inputProblems(() => stateFromHash('#figunit=mm'));
     expect(missing.map((p) => p.where)).toEqual(['URL #figwidth']);
     expect(missing[0].what).toBe('not given, and the default 1200 is outside the sizes in mm');
     expect(stateFromHash(stateToHash(withChanges((s) => (s.figure = { ...OTHER_FIGURE, height: 900 })))).figure).toEqual({ ...OTHER_FIGURE, height: 900 });
@@ -181,27 +172,27 @@ describe('state file', () => {
     for (const [key, value] of bad) {
       const v = JSON.parse(stateToFile(defaultState()));
       v.figure[key] = value;
-      const problems = problemsOf(() => stateFromFile(JSON.stringify(v)));
+      const problems = inputProblems(() => stateFromFile(JSON.stringify(v)));
       expect(problems.map((p) => p.where)).toEqual([`figure.${key}`]);
       expect(problems[0].fix).not.toBe('');
     }
     // a missing setting is named too
     const missing = JSON.parse(stateToFile(defaultState()));
     delete missing.figure.caution;
-    expect(problemsOf(() => stateFromFile(JSON.stringify(missing))).map((p) => [p.where, p.what])).toEqual([['figure.caution', 'expected true or false, got nothing']]);
+    expect(inputProblems(() => stateFromFile(JSON.stringify(missing))).map((p) => [p.where, p.what])).toEqual([['figure.caution', 'expected true or false, got nothing']]);
     // sizes are checked in the unit given: 1200 is pixels, not mm
     const mm = JSON.parse(stateToFile(defaultState()));
     mm.figure = { ...mm.figure, unit: 'mm', height: 50 };
-    const p = problemsOf(() => stateFromFile(JSON.stringify(mm)));
+    const p = inputProblems(() => stateFromFile(JSON.stringify(mm)));
     expect(p.map((x) => x.where)).toEqual(['figure.width']);
     expect(p[0].fix).toBe('give a number from 10 to 1000 millimetres (the unit given)');
     // an unknown setting, and a figure part that is not an object
     const extra = JSON.parse(stateToFile(defaultState()));
     extra.figure.background = 'white';
-    expect(problemsOf(() => stateFromFile(JSON.stringify(extra))).map((x) => x.where)).toEqual(['figure.background']);
+    expect(inputProblems(() => stateFromFile(JSON.stringify(extra))).map((x) => x.where)).toEqual(['figure.background']);
     const notObject = JSON.parse(stateToFile(defaultState()));
     notObject.figure = [1200, 900];
-    expect(problemsOf(() => stateFromFile(JSON.stringify(notObject))).map((x) => [x.where, x.what])).toEqual([['figure', 'expected an object, got a list']]);
+    expect(inputProblems(() => stateFromFile(JSON.stringify(notObject))).map((x) => [x.where, x.what])).toEqual([['figure', 'expected an object, got a list']]);
   });
 
   it('reports bad fields with their JSON path', () => {
