@@ -18,22 +18,15 @@ export interface Block {
   im: Float64Array[] | null;
 }
 
-export function randomColumn(b: Block, rand: () => number): { re: Float64Array; im: Float64Array | null } {
+export function randomColumn(b: Block, rand: Uniform): { re: Float64Array; im: Float64Array | null } {
   const re = new Float64Array(b.len);
   const im = b.im ? new Float64Array(b.len) : null;
-  // a seeded generator fills in bulk (the same numbers, without a call per entry)
-  const bulk = (rand as Partial<Uniform>).fill;
-  if (bulk) {
-    bulk(re);
-    if (im) bulk(im);
-    return { re, im };
-  }
-  for (let i = 0; i < b.len; i++) re[i] = rand();
-  if (im) for (let i = 0; i < b.len; i++) im[i] = rand();
+  rand.fill(re);
+  if (im) rand.fill(im);
   return { re, im };
 }
 
-export function addRandomColumns(b: Block, count: number, rand: () => number): void {
+export function addRandomColumns(b: Block, count: number, rand: Uniform): void {
   for (let c = 0; c < count; c++) {
     const v = randomColumn(b, rand);
     b.re.push(v.re);
@@ -77,7 +70,7 @@ export function projectOut(xr: Float64Array, xi: Float64Array | null, qRe: Float
 }
 
 /** Orthonormalise the columns in place (modified Gram–Schmidt, two passes); dependent columns are replaced by random ones. */
-export function orthonormalise(b: Block, rand: () => number): void {
+export function orthonormalise(b: Block, rand: Uniform): void {
   const q = b.re.length;
   const n = b.len;
   for (let j = 0; j < q; j++) {

@@ -7,6 +7,7 @@ import { TooLargeError } from '../../errors.js';
 import { bandBytes, bandLdl, ldlSolveBlock, perturbedShift, type LdlFactor } from '../../linalg/banded.js';
 import type { Block } from '../../linalg/block.js';
 import { formatBytes } from '../../linalg/dense.js';
+import type { Uniform } from '../../linalg/random.js';
 import { EPS } from '../../linalg/rank.js';
 import { analyseHermitian, factorBytes, sparseLdl, type HermitianCsr, type SparseLdlFactor, type SymbolicFactor } from '../../linalg/sparse-ldl/index.js';
 import { gramBand, gramCsr, type Side } from './sides.js';
@@ -20,7 +21,7 @@ export interface Ctx {
   check: () => void;
   progress: (fraction: number, stage: string) => void;
   advice: (need: number, allowed: number) => string;
-  rand: () => number;
+  rand: Uniform;
   /** Which factorisation of K: the band, the sparse nested-dissection one, or auto (the default). */
   factor?: FactorChoice;
 }
