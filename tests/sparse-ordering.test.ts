@@ -5,8 +5,7 @@
  * elimination), so the faster code gives the same orderings and figures, not just valid ones.
  */
 import { describe, expect, it } from 'vitest';
-import { bandwidthLowerBound } from '../src/flex/sparse/factors.js';
-import { gramCsr, gramGraph, makeSides, rowsByCell, type Side } from '../src/flex/sparse/sides.js';
+import { bandwidthLowerBound, gramCsr, gramGraph, makeSides, rowsByCell, type Side } from '../src/flex/sparse/sides.js';
 import { sparseSolver, sparseSpaces } from '../src/flex/solve-sparse.js';
 import { buildGallery } from '../src/framework/gallery.js';
 import { reverseCuthillMcKee, type Graph } from '../src/linalg/banded.js';
@@ -518,7 +517,7 @@ describe('symbolic analysis', () => {
   });
 });
 
-// The band's bandwidth from below (factors.ts bandwidthLowerBound): never above the bandwidth of
+// The band's bandwidth from below (sides.ts bandwidthLowerBound): never above the bandwidth of
 // the orderings the band would use, also with several connected parts; and a large open count
 // that skips the band orderings still reports the same count as the band factorisation.
 describe('the band bandwidth lower bound', () => {

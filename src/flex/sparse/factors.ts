@@ -10,7 +10,7 @@ import { formatBytes } from '../../linalg/dense.js';
 import type { Uniform } from '../../linalg/random.js';
 import { EPS } from '../../linalg/rank.js';
 import { analyseHermitian, factorBytes, sparseLdl, type HermitianCsr, type SparseLdlFactor, type SymbolicFactor } from '../../linalg/sparse-ldl/index.js';
-import { gramBand, gramCsr, type Side } from './sides.js';
+import { bandwidthLowerBound, gramBand, gramCsr, type Side } from './sides.js';
 
 // ---------------------------------------------------------------------------------------------
 // Factorisations with retries
@@ -95,82 +95,6 @@ export function factorPlan(side: Side, ctx: Pick<Ctx, 'complex' | 'memoryLimit' 
   }
   plans.set(side, plan);
   return plan;
-}
-
-/**
- * A lower bound of the half-bandwidth of K under every ordering: along a shortest path between
- * the first and the last unknown of a connected component (c unknowns) each step spans at most
- * b positions, so c − 1 ≤ b·diameter, and diameter ≤ 2·eccentricity(v) for any v of the
- * component (common practice). The smaller v's eccentricity, the better the bound: v is the
- * unknown nearest the middle of the drawing's bounding box when positions are given (2 per
- * unknown), and the middle of a long path (two searches find its ends) in each case; the
- * smallest eccentricity found is used, and the largest component reached decides.
- */
-export function bandwidthLowerBound(K: HermitianCsr, positions: Float64Array | null = null): number {
-  const n = K.n;
-  if (n <= 1) return 0;
-  const level = new Int32Array(n);
-  const parent = new Int32Array(n);
-  const queue = new Int32Array(n);
-  // breadth-first search from s: returns [last vertex reached, its level, vertices reached]
-  const search = (s: number): [number, number, number] => {
-    level.fill(-1);
-    level[s] = 0;
-    parent[s] = -1;
-    queue[0] = s;
-    let head = 0;
-    let tail = 1;
-    while (head < tail) {
-      const v = queue[head++];
-      for (let t = K.ptr[v]; t < K.ptr[v + 1]; t++) {
-        const u = K.idx[t];
-        if (level[u] < 0) {
-          level[u] = level[v] + 1;
-          parent[u] = v;
-          queue[tail++] = u;
-        }
-      }
-    }
-    const last = queue[tail - 1];
-    return [last, level[last], tail];
-  };
-  let best = 0;
-  let start = 0;
-  const seen = new Uint8Array(n);
-  let covered = 0;
-  // a start near the middle of the drawing (it lies in the largest component, as a rule)
-  let centre = -1;
-  if (positions && positions.length >= 2 * n) {
-    let [x0, x1, y0, y1] = [Infinity, -Infinity, Infinity, -Infinity];
-    for (let i = 0; i < n; i++) {
-      x0 = Math.min(x0, positions[2 * i]);
-      x1 = Math.max(x1, positions[2 * i]);
-      y0 = Math.min(y0, positions[2 * i + 1]);
-      y1 = Math.max(y1, positions[2 * i + 1]);
-    }
-    const [cx, cy] = [(x0 + x1) / 2, (y0 + y1) / 2];
-    let near = Infinity;
-    for (let i = 0; i < n; i++) {
-      const d = (positions[2 * i] - cx) ** 2 + (positions[2 * i + 1] - cy) ** 2;
-      if (d < near) [near, centre] = [d, i];
-    }
-  }
-  // components until the rest could not beat the bound found
-  while (covered < n && n - covered - 1 > 2 * best) {
-    while (seen[start]) start++;
-    const first = centre >= 0 && !seen[centre] ? centre : start;
-    const [a, eccFirst, reached] = search(first);
-    for (let i = 0; i < reached; i++) seen[queue[i]] = 1;
-    covered += reached;
-    let ecc = eccFirst;
-    const [b, length] = search(a);
-    // the middle of the path a … b
-    let m = b;
-    for (let k = 0; k < length >> 1; k++) m = parent[m];
-    ecc = Math.min(ecc, search(m)[1]);
-    if (ecc > 0) best = Math.max(best, Math.ceil((reached - 1) / (2 * ecc)));
-  }
-  return best;
 }
 
 /** What `count --json` reports about a side's factorisation (status.factorisation). */

@@ -168,6 +168,91 @@ function rowOrdering(R: SparseMatrix, RH: SparseMatrix, colPerm: Int32Array): { 
 }
 
 /**
+ * A lower bound of the half-bandwidth of K under every ordering: along a shortest path between
+ * the first and the last unknown of a connected component (c unknowns) each step spans at most
+ * b positions, so c − 1 ≤ b·diameter, and diameter ≤ 2·eccentricity(v) for any v of the
+ * component (common practice). The smaller v's eccentricity, the better the bound: v is the
+ * unknown nearest the middle of the drawing's bounding box when positions are given (2 per
+ * unknown), and the middle of a long path (two searches find its ends) in each case; the
+ * smallest eccentricity found is used, and the largest component reached decides.
+ */
+export function bandwidthLowerBound(K: HermitianCsr, positions: Float64Array | null = null): number {
+  const n = K.n;
+  if (n <= 1) return 0;
+  const bfs: Search = { ptr: K.ptr, idx: K.idx, level: new Int32Array(n), parent: new Int32Array(n), queue: new Int32Array(n) };
+  const search = (s: number) => breadthFirst(bfs, s);
+  let best = 0;
+  let start = 0;
+  const seen = new Uint8Array(n);
+  let covered = 0;
+  // a start near the middle of the drawing (it lies in the largest component, as a rule)
+  let centre = -1;
+  if (positions && positions.length >= 2 * n) {
+    let [x0, x1, y0, y1] = [Infinity, -Infinity, Infinity, -Infinity];
+    for (let i = 0; i < n; i++) {
+      x0 = Math.min(x0, positions[2 * i]);
+      x1 = Math.max(x1, positions[2 * i]);
+      y0 = Math.min(y0, positions[2 * i + 1]);
+      y1 = Math.max(y1, positions[2 * i + 1]);
+    }
+    const [cx, cy] = [(x0 + x1) / 2, (y0 + y1) / 2];
+    let near = Infinity;
+    for (let i = 0; i < n; i++) {
+      const d = (positions[2 * i] - cx) ** 2 + (positions[2 * i + 1] - cy) ** 2;
+      if (d < near) [near, centre] = [d, i];
+    }
+  }
+  // components until the rest could not beat the bound found
+  while (covered < n && n - covered - 1 > 2 * best) {
+    while (seen[start]) start++;
+    const first = centre >= 0 && !seen[centre] ? centre : start;
+    const [a, eccFirst, reached] = search(first);
+    for (let i = 0; i < reached; i++) seen[bfs.queue[i]] = 1;
+    covered += reached;
+    let ecc = eccFirst;
+    const [b, length] = search(a);
+    // the middle of the path a … b
+    let m = b;
+    for (let k = 0; k < length >> 1; k++) m = bfs.parent[m];
+    ecc = Math.min(ecc, search(m)[1]);
+    if (ecc > 0) best = Math.max(best, Math.ceil((reached - 1) / (2 * ecc)));
+  }
+  return best;
+}
+
+interface Search {
+  ptr: Int32Array;
+  idx: Int32Array;
+  level: Int32Array;
+  parent: Int32Array;
+  queue: Int32Array;
+}
+
+/** Breadth-first search from s over the pattern (ptr, idx): [last vertex reached, its level, vertices reached]; the queue holds them in order. */
+function breadthFirst(b: Search, s: number): [number, number, number] {
+  const { ptr, idx, level, parent, queue } = b;
+  level.fill(-1);
+  level[s] = 0;
+  parent[s] = -1;
+  queue[0] = s;
+  let head = 0;
+  let tail = 1;
+  while (head < tail) {
+    const v = queue[head++];
+    for (let t = ptr[v]; t < ptr[v + 1]; t++) {
+      const u = idx[t];
+      if (level[u] < 0) {
+        level[u] = level[v] + 1;
+        parent[u] = v;
+        queue[tail++] = u;
+      }
+    }
+  }
+  const last = queue[tail - 1];
+  return [last, level[last], tail];
+}
+
+/**
  * The two sides. Each side's band ordering (perm, bw) is computed on first read and kept (getters
  * on the side): a count factors one side, and a sparse-planned side reads only bw (for the
  * band's figures). The stress side's ordering reads the flex side's (rows by cell).
