@@ -100,17 +100,10 @@ export function jointIndex(i: number, j: number, s: number, N1: number, S: numbe
   return (j * N1 + i) * S + s;
 }
 
-type EndState = { idx: number; wraps: number; out: 'low' | 'high' | null };
-
-/** Where a cell index lands along one axis. */
-function place(c: number, N: number, rule: AxisRule): EndState {
-  if (rule.kind === 'twist') {
-    const w = Math.floor(c / N);
-    return { idx: c - w * N, wraps: w, out: null };
-  }
-  if (c < 0) return { idx: c, wraps: 0, out: 'low' };
-  if (c >= N) return { idx: c, wraps: 0, out: 'high' };
-  return { idx: c, wraps: 0, out: null };
+/** The side cell c lies beyond along one axis (null: inside, or the axis is twisted). */
+function sideOut(c: number, N: number, rule: AxisRule): 'low' | 'high' | null {
+  if (rule.kind === 'twist') return null;
+  return c < 0 ? 'low' : c >= N ? 'high' : null;
 }
 
 function pinned(rule: AxisRule, side: 'low' | 'high'): boolean {
@@ -149,8 +142,8 @@ function barRuns(fw: Framework, cells: [number, number], boundary: Boundary): { 
     const cuts = [...new Set([0, N, -shift, N - shift])].sort((p, q) => p - q);
     const out: Run[] = [];
     for (let k = 0; k + 1 < cuts.length; k++) {
-      const from = place(cuts[k], N, rule).out;
-      const to = place(cuts[k] + shift, N, rule).out;
+      const from = sideOut(cuts[k], N, rule);
+      const to = sideOut(cuts[k] + shift, N, rule);
       if (from === null || to === null) out.push({ lo: cuts[k], hi: cuts[k + 1], from, to });
     }
     return out;
@@ -209,13 +202,13 @@ export interface BarRows {
   cells: Int32Array;
 }
 
-/** Joint-cell index and wrap count of cell c along one axis (place() without its object). */
+/** How many times cell c wraps round a twisted axis (its joints lie in cell c − wraps·N); 0 otherwise. */
 function wrapCount(c: number, N: number, rule: AxisRule): number {
   return rule.kind === 'twist' ? Math.floor(c / N) : 0;
 }
 
 function isOut(c: number, N: number, rule: AxisRule): boolean {
-  return rule.kind !== 'twist' && (c < 0 || c >= N);
+  return sideOut(c, N, rule) !== null;
 }
 
 /** The rows of the blocks as typed columns (see BarRows); `count` rows in all. */
