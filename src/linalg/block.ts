@@ -205,20 +205,23 @@ function gramUpper(X: Block, Gr: Float64Array, Gi: Float64Array | null): void {
   const n = X.len;
   const R = X.re;
   const I = X.im;
+  if (!I || !Gi) {
+    // rows a and a + 1 together from column a + 1 on, and G_aa apart
+    for (let a = 0; a < k; a += 2) {
+      const g = a * k;
+      if (a + 1 === k) {
+        realDots(R[a], R, a, Gr, g);
+        break;
+      }
+      Gr[g + a] = dotInto(0, R[a], R[a], n);
+      realDots2(R[a], R[a + 1], R, a + 1, Gr, g, Gr, g + k);
+    }
+    return;
+  }
   for (let a = 0; a < k; a++) {
     const ar = R[a];
     const g = a * k;
     let b = a;
-    if (!I || !Gi) {
-      if (a + 1 < k) {
-        // rows a and a + 1 together; (a + 1, a) is below the diagonal and keeps its value
-        const below = Gr[g + k + a];
-        realDots2(ar, R[a + 1], R, a, Gr, g, Gr, g + k);
-        Gr[g + k + a] = below;
-        a++;
-      } else realDots(ar, R, a, Gr, g);
-      continue;
-    }
     const ai = I[a];
     for (; b < k; b += 2) {
       const pair = b + 1 < k;
