@@ -24,12 +24,11 @@ import {
   looksLikeState,
   slug,
   stateFromFile,
-  stateFromHash,
   stateToFile,
-  stateToHash,
   type AppState,
   type FrameworkSource,
 } from './state.js';
+import { stateFromHash, stateToHash } from './state-link.js';
 
 /** Problems bigger than this (columns of R) are not run automatically on every change: the size guard asks first. */
 export const AUTO_RUN_MAX_DOF = 1200;

@@ -14,7 +14,8 @@ import { CSV_COLUMNS, countsCsv, csvField, modesJson } from '../../src/app/expor
 import { locate } from '../../src/app/jsonpath.js';
 import { amplitudeColour, lightness, stressColour } from '../../src/app/stage/colours.js';
 import { buildScene, computeFrame, fieldOf, newFrame, stressValues } from '../../src/app/stage/scene.js';
-import { defaultFigure, defaultState, stateFromFile, stateFromHash, stateToFile, stateToHash, type AppState, type FigureState } from '../../src/app/state.js';
+import { stateFromHash, stateToHash } from '../../src/app/state-link.js';
+import { defaultFigure, defaultState, stateFromFile, stateToFile, type AppState, type FigureState } from '../../src/app/state.js';
 import { analyse, participation } from '../../src/worker/compute.js';
 import { geometryOf } from '../../src/worker/geometry.js';
 

@@ -11,7 +11,8 @@ import { count } from '../../src/analysis.js';
 import { CAUTION, CAUTION_SHORT } from '../../src/caution.js';
 import { classifyFlexes } from '../../src/flex/classify.js';
 import { buildGallery } from '../../src/framework/gallery.js';
-import { stateFromFile, stateToHash } from '../../src/app/state.js';
+import { stateToHash } from '../../src/app/state-link.js';
+import { stateFromFile } from '../../src/app/state.js';
 import { artifact, browserAvailable, launchBrowser, parseGif, startServer, type Browser, type Served } from './harness.js';
 
 const available = browserAvailable();

@@ -8,7 +8,7 @@
 import fs from 'node:fs';
 import type { Download, Page } from 'playwright-core';
 import { describe, expect, it } from 'vitest';
-import { stateFromHash } from '../../src/app/state.js';
+import { stateFromHash } from '../../src/app/state-link.js';
 import { rigidMotions } from '../../src/flex/rigid.js';
 import { buildGallery } from '../../src/framework/gallery.js';
 import { parseBoundary } from '../../src/supercell/boundary.js';

@@ -13,7 +13,8 @@
  */
 import os from 'node:os';
 import type { Page } from 'playwright-core';
-import { defaultState, stateToHash } from '../../src/app/state.js';
+import { stateToHash } from '../../src/app/state-link.js';
+import { defaultState } from '../../src/app/state.js';
 import { launchBrowser, startServer } from './harness.js';
 
 const args = process.argv.slice(2);
