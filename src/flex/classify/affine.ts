@@ -161,7 +161,8 @@ export function splitAffine(sc: Supercell, flexBasis: Cx[], rest: Cx[]): AffineR
       H.set(a, b, s);
     }
   const eh = smallEigen(H);
-  const affine: Cx[] = [];
+  // an orthonormal basis of the affine flexes' components in the rest
+  const span: Cx[] = [];
   let kept: number | null = null;
   let dropped: number | null = null;
   eh.values.forEach((lam, k) => {
@@ -184,15 +185,14 @@ export function splitAffine(sc: Supercell, flexBasis: Cx[], rest: Cx[]): AffineR
       }
       addScaled(v, rest[i], cr, ci, realRest);
     }
-    for (let pass = 0; pass < 2; pass++) for (const u of affine) subtractProjection(v, u);
+    for (let pass = 0; pass < 2; pass++) for (const u of span) subtractProjection(v, u);
     scaleInPlace(v, 1 / norm(v));
-    affine.push(v);
+    span.push(v);
   });
-  if (affine.length === 0) return { ...none, inKernel: inK.length, dropped };
+  if (span.length === 0) return { ...none, inKernel: inK.length, dropped };
   // the eigenvectors of H are arbitrary wherever its eigenvalues coincide (all near 1 when every
-  // affine flex lies in the rest): choose the vectors of the span by fixed references instead
-  const canonical = canonicalAffineBasis(sc, affine, F);
-  affine.splice(0, affine.length, ...canonical);
+  // affine flex lies in the rest): the vectors of the span are chosen by fixed references instead
+  const affine = canonicalAffineBasis(sc, span, F);
   // 3. rest ⊖ affine, as coefficients of the rest
   const part = complementCoefficients(rest, affine);
   // the affine vectors are combinations of the rest vectors, orthonormalised: Y has orthonormal columns
