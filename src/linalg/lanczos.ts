@@ -2,6 +2,7 @@
  * The one Lanczos iteration for σ_max: on AᴴA, resumable, used by the sparse solver and by the
  * Bloch solver's strip blocks.
  */
+import { dotInto } from './block.js';
 import { seededUniform } from './random.js';
 import { sparseMatVecInto, type SparseMatrix } from './sparse.js';
 import { tridiagonalMax } from './tridiagonal.js';
@@ -75,7 +76,7 @@ export function topLanczos(A: SparseMatrix, AH: SparseMatrix, check: () => void)
         const wi = bufIm ? bufIm[nx] : null;
         sparseMatVecInto(A, vr, vi, yr, yi);
         sparseMatVecInto(AH, yr, yi, wr, wi);
-        const a = dotPart(vr, wr, n) + (vi && wi ? dotPart(vi, wi, n) : 0);
+        const a = dotInto(0, vr, wr, n) + (vi && wi ? dotInto(0, vi, wi, n) : 0);
         alpha.push(a);
         const s = threeTerm(wr, vr, pr, a, prevBeta, n) + (vi && wi && pi ? threeTerm(wi, vi, pi, a, prevBeta, n) : 0);
         const b = Math.sqrt(s);
@@ -102,16 +103,10 @@ export function topLanczos(A: SparseMatrix, AH: SparseMatrix, check: () => void)
   };
 }
 
-// The loops of a Lanczos step, each a small function of its own: V8 then optimises each loop
-// whole (inside the iteration's closure a long loop was compiled mid-run and left at its end
-// on every step, a cost comparable to the mat-vecs themselves on a fresh process).
-
-/** Σ_i x_i y_i over the first n entries (one part of a complex dot product). */
-function dotPart(x: Float64Array, y: Float64Array, n: number): number {
-  let s = 0;
-  for (let i = 0; i < n; i++) s += x[i] * y[i];
-  return s;
-}
+// The loops of a Lanczos step, each a small function of its own (the dot product is block.ts's
+// dotInto): V8 then optimises each loop whole (inside the iteration's closure a long loop was
+// compiled mid-run and left at its end on every step, a cost comparable to the mat-vecs
+// themselves on a fresh process).
 
 /** w ← w − a·v − b·p (one part), returning Σ w_i² of the result. */
 function threeTerm(w: Float64Array, v: Float64Array, p: Float64Array, a: number, b: number, n: number): number {
