@@ -42,3 +42,5 @@ export { CAUTION, CAUTION_SHORT } from './caution.js';
 export { flexibleLattice, flexibleLatticeMatrix, principalStrains, STRAIN_INNER_PRODUCT, type FlexibleLatticeOptions, type FlexibleLatticeResult, type StrainFlex, type StrainSpace, type ZeroStrainFlex, type PrincipalStrains, type Sym2 } from './strain/flexible-lattice.js';
 export { prestress, stressForm, nonTrivialFlexBasis, MAX_SELF_STRESSES, MAX_FLEXES, type PrestressResult, type PrestressVerdict } from './stress/prestress.js';
 export { classifyStresses, macroscopicStress, axialForces, STRESS_CLASSES, type StressClassification, type StressMode, type StressClass, type StressClassifyOptions, type MacroStress } from './stress/classify/classify.js';
+// Node only: a second thread for the large kernels (results bit for bit the same; the CLI starts one)
+export { startHelperThread, type RunningHelper } from './linalg/parallel/node-thread.js';

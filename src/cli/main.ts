@@ -35,6 +35,9 @@ function mainHelp(): string {
     'Run `shimmy COMMAND --help` for a command\'s flags.',
     'Example: shimmy count gallery:kagome --cells 6x6 --bc periodic',
     '',
+    'With two or more cores the largest kernels are split between two threads (results are the',
+    'same bit for bit); SHIMMY_THREADS=1 keeps everything on one thread.',
+    '',
   ].join('\n');
 }
 

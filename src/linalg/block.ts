@@ -6,6 +6,7 @@
  */
 import type { Uniform } from './random.js';
 import { sparseMatVecInto } from './sparse.js';
+import { CHUNKS, chunkStart, inChunks, sharedFloats, SPLIT_WORK, triangleChunkStart } from './parallel/helper.js';
 
 /** y = A x (y overwritten): the one sparse mat-vec, re-exported under the name the solvers use. */
 export const matvec = sparseMatVecInto;
@@ -19,8 +20,8 @@ export interface Block {
 }
 
 export function randomColumn(b: Block, rand: Uniform): { re: Float64Array; im: Float64Array | null } {
-  const re = new Float64Array(b.len);
-  const im = b.im ? new Float64Array(b.len) : null;
+  const re = sharedFloats(b.len);
+  const im = b.im ? sharedFloats(b.len) : null;
   rand.fill(re);
   if (im) rand.fill(im);
   return { re, im };
@@ -203,13 +204,21 @@ export function realDots2(x0: Float64Array, x1: Float64Array, ys: Float64Array[]
 function gramUpper(X: Block, Gr: Float64Array, Gi: Float64Array | null): void {
   const k = X.re.length;
   const n = X.len;
-  const R = X.re;
-  const I = X.im;
+  // chunks of rows of about equal numbers of entries, starting at even rows (the real kernel's pairs)
+  inChunks('gramRows', gramRows, [X.re, X.im, Gr, Gi], k * k * n < SPLIT_WORK ? 1 : CHUNKS);
+}
+
+/** Chunk `chunk` of `chunks` of gramUpper's rows of G (about equal numbers of entries). */
+export function gramRows(R: Float64Array[], I: Float64Array[] | null, Gr: Float64Array, Gi: Float64Array | null, chunk: number, chunks: number): void {
+  const k = R.length;
+  const n = R.length ? R[0].length : 0;
+  const a0 = triangleChunkStart(k, chunk, chunks, 2);
+  const a1 = triangleChunkStart(k, chunk + 1, chunks, 2);
   if (!I || !Gi) {
     // rows a and a + 1 together from column a + 1 on, and G_aa apart
-    for (let a = 0; a < k; a += 2) {
+    for (let a = a0; a < a1; a += 2) {
       const g = a * k;
-      if (a + 1 === k) {
+      if (a + 1 === a1) {
         realDots(R[a], R, a, Gr, g);
         break;
       }
@@ -218,7 +227,7 @@ function gramUpper(X: Block, Gr: Float64Array, Gi: Float64Array | null): void {
     }
     return;
   }
-  for (let a = 0; a < k; a++) {
+  for (let a = a0; a < a1; a++) {
     const ar = R[a];
     const g = a * k;
     let b = a;
@@ -260,8 +269,19 @@ function gramUpper(X: Block, Gr: Float64Array, Gi: Float64Array | null): void {
 function timesUpper(X: Block, Tr: Float64Array, Ti: Float64Array | null): void {
   const k = X.re.length;
   const n = X.len;
-  const R = X.re;
-  const I = X.im;
+  // each row of X is formed from that row alone: chunks of rows are independent
+  inChunks('timesUpperRows', timesUpperRows, [X.re, X.im, Tr, Ti], k * k * n < SPLIT_WORK ? 1 : CHUNKS);
+}
+
+/** Chunk `chunk` of `chunks` of timesUpper's rows of X ← X·T. */
+export function timesUpperRows(X: Float64Array[], XI: Float64Array[] | null, Tr: Float64Array, Ti: Float64Array | null, chunk: number, chunks: number): void {
+  const k = X.length;
+  const len = k ? X[0].length : 0;
+  const i0 = chunkStart(len, chunk, chunks, 4);
+  const i1 = chunkStart(len, chunk + 1, chunks, 4);
+  const n = i1 - i0;
+  const R = X.map((x) => x.subarray(i0, i1));
+  const I = XI ? XI.map((x) => x.subarray(i0, i1)) : null;
   const complex = I !== null && Ti !== null;
   const width = complex ? 2 : 4;
   const bufR = Array.from({ length: Math.min(width, k) }, () => new Float64Array(n));
@@ -478,12 +498,12 @@ export function cholQr2(X: Block): boolean {
   if (k === 0) return true;
   const complex = X.im !== null;
   for (let pass = 0; pass < 2; pass++) {
-    const Gr = new Float64Array(k * k);
-    const Gi = complex ? new Float64Array(k * k) : null;
+    const Gr = sharedFloats(k * k, 0);
+    const Gi = complex ? sharedFloats(k * k, 0) : null;
     gramUpper(X, Gr, Gi);
     if (!choleskyUpper(Gr, Gi, k)) return false;
-    const Tr = new Float64Array(k * k);
-    const Ti = complex ? new Float64Array(k * k) : null;
+    const Tr = sharedFloats(k * k, 0);
+    const Ti = complex ? sharedFloats(k * k, 0) : null;
     invertUpper(Gr, Gi, k, Tr, Ti);
     timesUpper(X, Tr, Ti);
   }

@@ -4,6 +4,7 @@
 import { cdot as dot, type CVec } from '../../linalg/complex.js';
 import { hermitianEigen as denseHermitianEigen } from '../../linalg/hermitian-eig.js';
 import type { SparseMatrix } from '../../linalg/sparse.js';
+import { CHUNKS, chunkStart, inChunks, shareable, sharedFloats, SPLIT_WORK } from '../../linalg/parallel/helper.js';
 
 /** A complex vector as two real arrays. */
 export type Cx = { re: Float64Array; im: Float64Array };
@@ -126,17 +127,43 @@ const COMBINE_CHUNK = 128;
 export function combineColumns(vectors: Cx[], Wre: Float64Array, Wim: Float64Array | null, cols: number, real = false): Cx[] {
   const r = vectors.length;
   const n = r ? vectors[0].re.length : 0;
-  const out: Cx[] = Array.from({ length: cols }, () => ({ re: new Float64Array(n), im: new Float64Array(n) }));
+  // imaginary parts of real outputs are never written: plain zeros
+  const out: Cx[] = Array.from({ length: cols }, () => ({ re: sharedFloats(n), im: real ? new Float64Array(n) : sharedFloats(n) }));
   if (r === 0 || n === 0 || cols === 0) return out;
-  if (real)
-    combineReal(
-      vectors.map((v) => v.re),
-      Wre,
-      cols,
-      out.map((v) => v.re),
-    );
-  else combineComplex(vectors, Wre, Wim, cols, out);
+  const Pr = vectors.map((v) => v.re);
+  const Pi = real ? null : vectors.map((v) => v.im);
+  const oR = out.map((v) => v.re);
+  const oI = real ? null : out.map((v) => v.im);
+  const Wr = shareable(Wre);
+  const Wi = real || !Wim ? null : shareable(Wim);
+  // every dof of the outputs is formed from that dof of the inputs alone: chunks are independent
+  inChunks('combineRows', combineRows, [Pr, Pi, Wr, Wi, cols, oR, oI], r * cols * n < SPLIT_WORK ? 1 : CHUNKS);
   return out;
+}
+
+/** Chunk `chunk` of `chunks` of the dofs of combineColumns' outputs (real data when Pi and oI are null). */
+export function combineRows(
+  Pr: Float64Array[],
+  Pi: Float64Array[] | null,
+  Wre: Float64Array,
+  Wim: Float64Array | null,
+  cols: number,
+  oR: Float64Array[],
+  oI: Float64Array[] | null,
+  chunk: number,
+  chunks: number,
+): void {
+  const n = Pr[0].length;
+  const j0 = chunkStart(n, chunk, chunks, 4);
+  const j1 = chunkStart(n, chunk + 1, chunks, 4);
+  const part = (v: Float64Array) => v.subarray(j0, j1);
+  if (!Pi || !oI) {
+    combineReal(Pr.map(part), Wre, cols, oR.map(part));
+    return;
+  }
+  const P = Pr.map((re, a) => ({ re: part(re), im: part(Pi[a]) }));
+  const out = oR.map((re, b) => ({ re: part(re), im: part(oI[b]) }));
+  combineComplex(P, Wre, Wim, cols, out);
 }
 
 /**

@@ -6,6 +6,7 @@ import { allReal, combineColumns, hermitianEigen, scaleInPlace, type Cx, type Sp
 import type { Geometry } from './metrics.js';
 import type { Axes } from './regions.js';
 import { FAR_MARGIN } from './thresholds.js';
+import { CHUNKS, inChunks, shareable, sharedFloats, SPLIT_WORK, triangleChunkStart } from '../../linalg/parallel/helper.js';
 
 /** Distance in whole cells from each cell to the nearest side, or null when every axis wraps. */
 function sideDistance(ax: Axes): Int32Array | null {
@@ -154,11 +155,15 @@ const GRAM_CHUNK = 128;
 export function weightedGram(d: Float64Array, psi: Cx[], real: boolean): { re: Float64Array; im: Float64Array; anyIm: boolean } {
   const r = psi.length;
   const J = d.length;
-  const Are = new Float64Array(r * r);
+  const Are = sharedFloats(r * r, 0);
   const Aim = new Float64Array(r * r);
   const out: [number, number] = [0, 0];
-  if (real) realWeightedGram(d, psi, Are);
-  else
+  if (real) {
+    const P = psi.map((v) => v.re);
+    const w = shareable(d);
+    // chunks of rows of about equal numbers of entries, in whole blocks of four rows
+    inChunks('realWeightedGram', realWeightedGram, [w, P, Are], r * r * d.length < SPLIT_WORK ? 1 : CHUNKS);
+  } else
     for (let k0 = 0; k0 < J; k0 += GRAM_CHUNK) {
       const k1 = Math.min(J, k0 + GRAM_CHUNK);
       for (let a = 0; a < r; a++)
@@ -186,15 +191,20 @@ export function weightedGram(d: Float64Array, psi: Cx[], real: boolean): { re: F
  * joints: the chunk's dofs with d ≠ 0 are packed (P[a·L + ·] = ψ_a, Q = d·P), then blocks of
  * 4 rows × 4 columns (16 independent sums, 8 loads per 16 multiply-adds); the last r mod 4
  * columns one entry at a time. Folding d into one side takes one multiply of the three per term
- * (the sums differ from Σ_k d_k(x·u + y·v) by rounding only).
+ * (the sums differ from Σ_k d_k(x·u + y·v) by rounding only). Chunk `chunk` of `chunks` of the
+ * rows (starting at multiples of 4), so that two threads can share the work; each entry is the
+ * same sum either way.
  */
-function realWeightedGram(d: Float64Array, psi: Cx[], A: Float64Array): void {
+export function realWeightedGram(d: Float64Array, psi: Float64Array[], A: Float64Array, chunk: number, chunks: number): void {
   const r = psi.length;
+  const a0 = triangleChunkStart(r, chunk, chunks, 4);
+  const a1 = triangleChunkStart(r, chunk + 1, chunks, 4);
   const J = d.length;
   const P = new Float64Array(r * 2 * GRAM_CHUNK);
   const Q = new Float64Array(r * 2 * GRAM_CHUNK);
   const dofs = new Int32Array(2 * GRAM_CHUNK);
   const r4 = r - (r % 4);
+  const aEnd = Math.min(a1, r4);
   for (let k0 = 0; k0 < J; k0 += GRAM_CHUNK) {
     const k1 = Math.min(J, k0 + GRAM_CHUNK);
     let L = 0;
@@ -204,8 +214,9 @@ function realWeightedGram(d: Float64Array, psi: Cx[], A: Float64Array): void {
         dofs[L++] = 2 * k + 1;
       }
     if (L === 0) continue;
-    for (let a = 0; a < r; a++) {
-      const v = psi[a].re;
+    // the rows of this part (Q) and every column right of its first row (P)
+    for (let a = a0; a < r; a++) {
+      const v = psi[a];
       const o = a * L;
       for (let i = 0; i < L; i++) {
         const x = v[dofs[i]];
@@ -213,7 +224,7 @@ function realWeightedGram(d: Float64Array, psi: Cx[], A: Float64Array): void {
         Q[o + i] = d[dofs[i] >> 1] * x;
       }
     }
-    for (let a = 0; a < r4; a += 4)
+    for (let a = a0; a < aEnd; a += 4)
       for (let b = a; b < r4; b += 4) {
         const qa = a * L;
         const pb = b * L;
@@ -268,7 +279,7 @@ function realWeightedGram(d: Float64Array, psi: Cx[], A: Float64Array): void {
       }
     // the last r mod 4 columns, every row above them
     for (let b = r4; b < r; b++)
-      for (let a = 0; a <= b; a++) {
+      for (let a = a0; a <= b && a < a1; a++) {
         let s = 0;
         for (let i = 0, qa = a * L, pb = b * L; i < L; i++) s += Q[qa + i] * P[pb + i];
         A[a * r + b] += s;

@@ -15,6 +15,7 @@
 import { croutRowComplex, croutRowReal, croutRowsComplex, croutRowsReal } from './factor-kernels.js';
 import { backwardComplex, backwardReal, forwardComplex, forwardReal } from './solve-kernels.js';
 import type { SymbolicFactor } from './symbolic.js';
+import { chunkStart, helperThreadInstalled, inChunks, shareable, sharedFloats, SPLIT_WORK } from '../parallel/helper.js';
 
 /** A Hermitian matrix in CSR form with both triangles stored (row i lists A_ij). */
 export interface HermitianCsr {
@@ -52,9 +53,8 @@ export class SparseLdlFactor {
     readonly breakdown: { index: number; pivot: number } | null,
   ) {}
 
-  /** solveBlock's chunk buffers (real and imaginary parts), grown on demand and reused. */
-  private bufR = new Float64Array(0);
-  private bufI = new Float64Array(0);
+  /** The arrays a solve reads, on shared memory when the helper thread may take half the columns. */
+  private solveData: SolveData | null = null;
 
   /** Solve (A − shift·I) x = b in place (xIm null for real data and a real factor). */
   solve(xRe: Float64Array, xIm: Float64Array | null): void {
@@ -64,93 +64,147 @@ export class SparseLdlFactor {
   /**
    * Solve for several right-hand sides in place, in chunks of up to 32 laid out row-major (one
    * chunk buffer per part, reused across chunks). A real factor with complex right-hand sides
-   * solves the real and imaginary parts apart.
+   * solves the real and imaginary parts apart. Many columns are split in two halves, the second
+   * solved on the helper thread when one is installed (each column's arithmetic is the same).
    */
   solveBlock(cols: Float64Array[], colsIm: Float64Array[] | null): void {
     if (this.breakdown) throw new Error('sparse LDLᴴ: cannot solve with a factor that broke down');
     const complex = this.im !== null || colsIm !== null;
     if (complex && !colsIm) throw new Error('a complex factor needs complex right-hand sides');
     if (colsIm && colsIm.length !== cols.length) throw new RangeError(`solveBlock: ${cols.length} real parts but ${colsIm.length} imaginary parts; pass one imaginary part per column`);
-    const { n, perm } = this.symbolic;
+    const { n } = this.symbolic;
     for (let q = 0; q < cols.length; q++) {
       if (cols[q].length !== n || (colsIm && colsIm[q].length !== n)) throw new RangeError(`solveBlock: column ${q} has length ${colsIm && colsIm[q].length !== n ? colsIm[q].length : cols[q].length}, the factor ${n}`);
     }
     const q = cols.length;
     if (q === 0) return;
-    // chunks of equal width (multiples of 4 where possible: the kernels block four columns)
-    const chunks = Math.ceil(q / CHUNK);
-    const width = Math.min(CHUNK, 4 * Math.ceil(q / chunks / 4));
-    // the chunk buffers are kept for the next call (fresh memory costs a page fault per 4 KB)
-    const words = n * Math.min(width, q);
-    if (this.bufR.length < words) this.bufR = new Float64Array(words);
-    if (complex && this.bufI.length < words) this.bufI = new Float64Array(words);
-    const XR = this.bufR;
-    const XI = complex ? this.bufI : null;
-    for (let c0 = 0; c0 < q; c0 += width) {
-      const c = Math.min(width, q - c0);
-      gather(cols, c0, c, perm, XR);
-      if (XI) gather(colsIm!, c0, c, perm, XI);
-      if (XI && this.im) this.solveComplex(XR, XI, c);
-      else {
-        this.solveReal(XR, c);
-        if (XI) this.solveReal(XI, c);
-      }
-      scatter(cols, c0, c, perm, XR);
-      if (XI) scatter(colsIm!, c0, c, perm, XI);
-    }
+    // chunks of about CHUNK columns (each column's arithmetic is the same in any chunk)
+    const chunks = q * this.re.length < SPLIT_WORK ? 1 : Math.ceil(q / CHUNK);
+    inChunks('solveColumns', solveColumns, [this.sharedSolveData(), cols, colsIm], chunks);
   }
 
-  /** Row offsets (new index × c) of supernode s's front rows into `off`. */
-  private offsets(s: number, c: number, off: Int32Array): void {
-    const { superStart, rowPtr, superRows } = this.symbolic;
-    const r0 = rowPtr[s];
-    const nf = rowPtr[s + 1] - r0;
-    for (let t = 0; t < nf; t++) off[t] = superRows[r0 + t] * c;
+  private sharedSolveData(): SolveData {
+    if (this.solveData) return this.solveData;
+    const sym = this.symbolic;
+    const ints = (a: Int32Array): Int32Array => {
+      if (!helperThreadInstalled() || a.buffer instanceof SharedArrayBuffer) return a;
+      const c = new Int32Array(new SharedArrayBuffer(4 * a.length));
+      c.set(a);
+      return c;
+    };
+    this.solveData = {
+      perm: ints(sym.perm),
+      superStart: ints(sym.superStart),
+      rowPtr: ints(sym.rowPtr),
+      superRows: ints(sym.superRows),
+      maxFront: sym.maxFront,
+      panelPtr: shareable(this.panelPtr),
+      re: shareable(this.re),
+      im: this.im ? shareable(this.im) : null,
+      d: shareable(this.d),
+    };
+    return this.solveData;
   }
+}
 
-  private solveReal(X: Float64Array, c: number): void {
-    const { superStart, rowPtr, maxFront } = this.symbolic;
-    const P = this.re;
-    const ns = superStart.length - 1;
-    const off = new Int32Array(maxFront);
-    for (let s = 0; s < ns; s++) {
-      this.offsets(s, c, off);
-      forwardReal(P, this.panelPtr[s], superStart[s + 1] - superStart[s], rowPtr[s + 1] - rowPtr[s], off, X, c);
+/** What a solve reads of a factor (typed arrays only, so that the helper thread can share them). */
+export interface SolveData {
+  perm: Int32Array;
+  superStart: Int32Array;
+  rowPtr: Int32Array;
+  superRows: Int32Array;
+  maxFront: number;
+  panelPtr: Float64Array;
+  re: Float64Array;
+  im: Float64Array | null;
+  d: Float64Array;
+}
+
+/** This thread's chunk buffers (real and imaginary parts), grown on demand and reused: fresh memory costs a page fault per 4 KB. */
+let bufR = new Float64Array(0);
+let bufI = new Float64Array(0);
+
+/** Solve in place for chunk `chunk` of `chunks` of the columns (see SparseLdlFactor.solveBlock), on this thread. */
+export function solveColumns(f: SolveData, all: Float64Array[], allIm: Float64Array[] | null, chunk: number, chunks: number): void {
+  const first = chunkStart(all.length, chunk, chunks, 4);
+  const end = chunkStart(all.length, chunk + 1, chunks, 4);
+  const cols = all.slice(first, end);
+  const colsIm = allIm ? allIm.slice(first, end) : null;
+  const q = cols.length;
+  if (q === 0) return;
+  const complex = f.im !== null || colsIm !== null;
+  const n = f.perm.length;
+  // buffers of equal width (multiples of 4 where possible: the kernels block four columns)
+  const buffers = Math.ceil(q / CHUNK);
+  const width = Math.min(CHUNK, 4 * Math.ceil(q / buffers / 4));
+  const words = n * Math.min(width, q);
+  if (bufR.length < words) bufR = new Float64Array(words);
+  if (complex && bufI.length < words) bufI = new Float64Array(words);
+  const XR = bufR;
+  const XI = complex ? bufI : null;
+  for (let c0 = 0; c0 < q; c0 += width) {
+    const c = Math.min(width, q - c0);
+    gather(cols, c0, c, f.perm, XR);
+    if (XI) gather(colsIm!, c0, c, f.perm, XI);
+    if (XI && f.im) solveChunkComplex(f, XR, XI, c);
+    else {
+      solveChunkReal(f, XR, c);
+      if (XI) solveChunkReal(f, XI, c);
     }
-    const d = this.d;
-    for (let i = 0, o = 0; i < d.length; i++) {
-      const inv = 1 / d[i];
-      for (let r = 0; r < c; r++, o++) X[o] *= inv;
-    }
-    for (let s = ns - 1; s >= 0; s--) {
-      this.offsets(s, c, off);
-      backwardReal(P, this.panelPtr[s], superStart[s + 1] - superStart[s], rowPtr[s + 1] - rowPtr[s], off, X, c);
+    scatter(cols, c0, c, f.perm, XR);
+    if (XI) scatter(colsIm!, c0, c, f.perm, XI);
+  }
+}
+
+/** Row offsets (new index × c) of supernode s's front rows into `off`. */
+function offsets(f: SolveData, s: number, c: number, off: Int32Array): void {
+  const r0 = f.rowPtr[s];
+  const nf = f.rowPtr[s + 1] - r0;
+  for (let t = 0; t < nf; t++) off[t] = f.superRows[r0 + t] * c;
+}
+
+function solveChunkReal(f: SolveData, X: Float64Array, c: number): void {
+  const { superStart, rowPtr, maxFront, panelPtr } = f;
+  const P = f.re;
+  const ns = superStart.length - 1;
+  const off = new Int32Array(maxFront);
+  for (let s = 0; s < ns; s++) {
+    offsets(f, s, c, off);
+    forwardReal(P, panelPtr[s], superStart[s + 1] - superStart[s], rowPtr[s + 1] - rowPtr[s], off, X, c);
+  }
+  const d = f.d;
+  for (let i = 0, o = 0; i < d.length; i++) {
+    const inv = 1 / d[i];
+    for (let r = 0; r < c; r++, o++) X[o] *= inv;
+  }
+  for (let s = ns - 1; s >= 0; s--) {
+    offsets(f, s, c, off);
+    backwardReal(P, panelPtr[s], superStart[s + 1] - superStart[s], rowPtr[s + 1] - rowPtr[s], off, X, c);
+  }
+}
+
+function solveChunkComplex(f: SolveData, XR: Float64Array, XI: Float64Array, c: number): void {
+  const { superStart, rowPtr, maxFront, panelPtr } = f;
+  const PR = f.re;
+  const PI = f.im!;
+  const ns = superStart.length - 1;
+  const off = new Int32Array(maxFront);
+  for (let s = 0; s < ns; s++) {
+    offsets(f, s, c, off);
+    forwardComplex(PR, PI, panelPtr[s], superStart[s + 1] - superStart[s], rowPtr[s + 1] - rowPtr[s], off, XR, XI, c);
+  }
+  const d = f.d;
+  for (let i = 0, o = 0; i < d.length; i++) {
+    const inv = 1 / d[i];
+    for (let r = 0; r < c; r++, o++) {
+      XR[o] *= inv;
+      XI[o] *= inv;
     }
   }
-
-  private solveComplex(XR: Float64Array, XI: Float64Array, c: number): void {
-    const { superStart, rowPtr, maxFront } = this.symbolic;
-    const PR = this.re;
-    const PI = this.im!;
-    const ns = superStart.length - 1;
-    const off = new Int32Array(maxFront);
-    for (let s = 0; s < ns; s++) {
-      this.offsets(s, c, off);
-      forwardComplex(PR, PI, this.panelPtr[s], superStart[s + 1] - superStart[s], rowPtr[s + 1] - rowPtr[s], off, XR, XI, c);
-    }
-    const d = this.d;
-    for (let i = 0, o = 0; i < d.length; i++) {
-      const inv = 1 / d[i];
-      for (let r = 0; r < c; r++, o++) {
-        XR[o] *= inv;
-        XI[o] *= inv;
-      }
-    }
-    // Lᴴ x = z: x_k −= Σ_i conj(L_ik) x_i
-    for (let s = ns - 1; s >= 0; s--) {
-      this.offsets(s, c, off);
-      backwardComplex(PR, PI, this.panelPtr[s], superStart[s + 1] - superStart[s], rowPtr[s + 1] - rowPtr[s], off, XR, XI, c);
-    }
+  // Lᴴ x = z: x_k −= Σ_i conj(L_ik) x_i
+  for (let s = ns - 1; s >= 0; s--) {
+    offsets(f, s, c, off);
+    backwardComplex(PR, PI, panelPtr[s], superStart[s + 1] - superStart[s], rowPtr[s + 1] - rowPtr[s], off, XR, XI, c);
   }
 }
 
@@ -260,8 +314,8 @@ export function sparseLdl(A: HermitianCsr, sym: SymbolicFactor, options: SparseL
     maxCols = Math.max(maxCols, w);
     panelPtr[s + 1] = panelPtr[s] + (rowPtr[s + 1] - rowPtr[s]) * w;
   }
-  const LR = new Float64Array(panelPtr[nsup]);
-  const LI = complex ? new Float64Array(panelPtr[nsup]) : null;
+  const LR = sharedFloats(panelPtr[nsup]);
+  const LI = complex ? sharedFloats(panelPtr[nsup]) : null;
   const d = new Float64Array(n);
   const rowSum = new Float64Array(n); // Σ_k |L_ik|²|D_k| per (new) row
   const maxFront = sym.maxFront;

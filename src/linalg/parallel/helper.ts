@@ -1,0 +1,129 @@
+/**
+ * A second thread for the large kernels (Gram matrices, block products, block solves, subtrees of
+ * the sparse factorisation), behind an interface the core can use from any environment.
+ *
+ * The core never starts a thread itself: a shell installs one (the CLI does, in Node, through
+ * node-thread.ts), and without one every kernel runs here, one part after the other. A kernel is
+ * split into parts by a fixed rule that does not depend on whether a thread is installed, and each
+ * output entry is computed by one part in the same order of operations as the single-thread code,
+ * so results are bit for bit the same with one thread or two.
+ *
+ * The other thread reads and writes the caller's arrays in place, so every typed array it is given
+ * must live on a SharedArrayBuffer: `sharedFloats` allocates one when a thread is installed. A part
+ * whose arrays are not all shared simply runs here.
+ */
+import type { KernelName } from './kernels.js';
+
+/** The other thread, as the shell provides it. */
+export interface HelperThread {
+  /**
+   * Start claiming chunks of kernel `name` on `args` on the other thread (claimChunks with this
+   * counter). False when it cannot take work now (not started yet, or stopped); then nothing
+   * was started.
+   */
+  start(name: KernelName, args: readonly unknown[], counter: Int32Array, chunks: number): boolean;
+  /** Block until the started kernel has finished; rethrows its error. */
+  finish(): void;
+}
+
+let installed: HelperThread | null = null;
+
+/** Install (or, with null, remove) the thread the kernels may use. */
+export function installHelperThread(h: HelperThread | null): void {
+  installed = h;
+}
+
+export function helperThreadInstalled(): boolean {
+  return installed !== null;
+}
+
+/** Vectors shorter than this are not worth sharing (their kernels are too small to split). */
+export const SHARE_MIN = 4096;
+
+/**
+ * A zeroed Float64Array of length n, on a SharedArrayBuffer when a thread is installed and the
+ * array is at least `min` long (small outputs of large kernels, such as k×k Gram matrices, pass 0).
+ */
+export function sharedFloats(n: number, min = SHARE_MIN): Float64Array {
+  return installed !== null && n >= min ? new Float64Array(new SharedArrayBuffer(8 * n)) : new Float64Array(n);
+}
+
+/** `a` itself when it is shared or no thread is installed; else a shared copy (for small inputs such as k×k weights). */
+export function shareable(a: Float64Array): Float64Array {
+  if (!installed || a.buffer instanceof SharedArrayBuffer) return a;
+  const c = new Float64Array(new SharedArrayBuffer(8 * a.length));
+  c.set(a);
+  return c;
+}
+
+/**
+ * Kernels of fewer multiply-adds than this run whole on the calling thread: below it, handing
+ * work to the helper thread (about 0.1 ms) gains little.
+ */
+export const SPLIT_WORK = 2e7;
+
+/** Chunks of a split kernel: enough that the faster thread can take more, each still long. */
+export const CHUNKS = 8;
+
+/**
+ * True when every typed array in the arguments (looking into plain arrays and plain objects, two
+ * levels deep) is on a SharedArrayBuffer: anything else would reach the other thread as a copy.
+ */
+function allShared(x: unknown, depth = 0): boolean {
+  if (ArrayBuffer.isView(x)) return x.buffer instanceof SharedArrayBuffer;
+  if (x === null || typeof x !== 'object') return true;
+  if (depth > 2) return false;
+  const values = Array.isArray(x) ? x : Object.values(x);
+  for (const v of values) if (!allShared(v, depth + 1)) return false;
+  return true;
+}
+
+/** A kernel that computes chunk `chunk` of `chunks` of its outputs (each output entry in one chunk). */
+export type ChunkKernel<A extends unknown[]> = (...args: [...A, number, number]) => void;
+
+/**
+ * kernel(...args, c, chunks) for every chunk c. With a thread installed and every array in args
+ * shared, both threads claim chunks in turn from a shared counter until none is left, so the
+ * faster one takes more; otherwise chunk after chunk here. The chunks must write disjoint outputs
+ * and read nothing another chunk writes. `name` is the kernel's key in kernels.ts.
+ */
+export function inChunks<A extends unknown[]>(name: KernelName, kernel: ChunkKernel<A>, args: A, chunks: number): void {
+  const h = installed;
+  if (chunks > 1 && h && allShared(args)) {
+    const counter = new Int32Array(new SharedArrayBuffer(4));
+    if (h.start(name, args, counter, chunks)) {
+      try {
+        claimChunks(kernel as ChunkKernel<unknown[]>, args, counter, chunks);
+      } finally {
+        // wait for the other thread even when this one failed: it writes into the same arrays
+        h.finish();
+      }
+      return;
+    }
+  }
+  for (let c = 0; c < chunks; c++) kernel(...args, c, chunks);
+}
+
+/** Run the chunks not yet claimed from `counter`, one at a time (both threads run this). */
+export function claimChunks(kernel: ChunkKernel<unknown[]>, args: readonly unknown[], counter: Int32Array, chunks: number): void {
+  for (let c = Atomics.add(counter, 0, 1); c < chunks; c = Atomics.add(counter, 0, 1)) kernel(...args, c, chunks);
+}
+
+/** The first index of chunk c of `chunks` over 0 … n−1 (a multiple of `align` except at n): equal lengths. */
+export function chunkStart(n: number, c: number, chunks: number, align: number): number {
+  if (c >= chunks) return n;
+  return Math.min(n, align * Math.round((n * c) / chunks / align));
+}
+
+/**
+ * The first row of chunk c of `chunks` over the rows of the upper triangle of a k×k matrix (a
+ * multiple of `align` except at k), so that each chunk holds about the same number of entries:
+ * rows a < t hold Σ (k − a) = t(2k + 1 − t)/2 of the k(k + 1)/2.
+ */
+export function triangleChunkStart(k: number, c: number, chunks: number, align: number): number {
+  if (c >= chunks) return k;
+  const f = c / chunks;
+  const b = 2 * k + 1;
+  const t = (b - Math.sqrt(b * b - 4 * f * k * (k + 1))) / 2;
+  return Math.min(k, align * Math.round(t / align));
+}

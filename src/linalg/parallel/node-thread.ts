@@ -1,0 +1,105 @@
+/**
+ * The helper thread in Node (worker_threads): started by a shell (the CLI) and installed for the
+ * core's split kernels (helper.ts). It takes work only once its script has loaded; until then,
+ * and after it stops, every kernel runs on the calling thread. The thread does not keep the
+ * process alive.
+ */
+import { existsSync } from 'node:fs';
+import { availableParallelism } from 'node:os';
+import { fileURLToPath } from 'node:url';
+import { MessageChannel, receiveMessageOnPort, Worker } from 'node:worker_threads';
+import { installHelperThread, type HelperThread } from './helper.js';
+import type { KernelName } from './kernels.js';
+import type { KernelMessage, ThreadData } from './kernel-thread.js';
+
+// Held in variables so that bundlers leave these URLs alone.
+const BUILT_SCRIPT = './kernel-thread.js';
+const SOURCE_SCRIPT = './source-thread.mjs';
+
+/** The thread's script: kernel-thread.ts through tsx from the sources, else the compiled file beside this one. */
+function threadScript(): URL {
+  const here = import.meta.url;
+  // tsx may add a query to the URL; the path tells sources from compiled code
+  if (new URL(here).pathname.endsWith('.ts')) return new URL(SOURCE_SCRIPT, here);
+  const built = new URL(BUILT_SCRIPT, here);
+  if (!existsSync(fileURLToPath(built))) {
+    throw new Error(`the helper thread's script ${fileURLToPath(built)} is missing; rebuild with npm run build:cli (or npm run build:lib)`);
+  }
+  return built;
+}
+
+/** The number of threads the environment variable SHIMMY_THREADS asks for (1 or 2; default: 2 when two cores are available). */
+export function threadsWanted(value: string | undefined): 1 | 2 {
+  if (value === undefined || value === '') return availableParallelism() >= 2 ? 2 : 1;
+  if (value === '1' || value === '2') return Number(value) as 1 | 2;
+  throw new RangeError(`SHIMMY_THREADS must be 1 (compute on one thread) or 2 (split the large kernels over two), got "${value}"`);
+}
+
+export interface RunningHelper {
+  thread: HelperThread;
+  /** Kernels the thread has taken a share of so far. */
+  readonly tasks: number;
+  /** Resolves once the thread takes work (rejects if it has not within timeoutMs, or stopped). */
+  ready(timeoutMs?: number): Promise<void>;
+  /** Uninstall the thread (if it is the installed one) and end it. */
+  stop(): Promise<void>;
+}
+
+/** Start the helper thread and install it. */
+export function startHelperThread(): RunningHelper {
+  const control = new Int32Array(new SharedArrayBuffer(8));
+  const { port1, port2 } = new MessageChannel();
+  const data: ThreadData = { control, replies: port2 };
+  const worker = new Worker(threadScript(), { workerData: data, transferList: [port2] });
+  worker.unref();
+  port1.unref();
+  let stopped = false;
+  let running = false;
+  let tasks = 0;
+  worker.on('error', () => {
+    stopped = true;
+  });
+  worker.on('exit', () => {
+    stopped = true;
+  });
+  const thread: HelperThread = {
+    start(name: KernelName, args: readonly unknown[], counter: Int32Array, chunks: number): boolean {
+      if (stopped || running || Atomics.load(control, 1) !== 1) return false;
+      Atomics.store(control, 0, 0);
+      worker.postMessage({ name, args: [...args], counter, chunks } satisfies KernelMessage);
+      running = true;
+      tasks++;
+      return true;
+    },
+    finish(): void {
+      if (!running) return;
+      while (Atomics.load(control, 0) === 0) Atomics.wait(control, 0, 0);
+      running = false;
+      if (Atomics.load(control, 0) === 2) {
+        const reply = receiveMessageOnPort(port1);
+        throw new Error(`the helper thread failed in a kernel: ${reply ? String(reply.message) : 'no message'}`);
+      }
+    },
+  };
+  installHelperThread(thread);
+  return {
+    thread,
+    get tasks() {
+      return tasks;
+    },
+    async ready(timeoutMs = 30_000): Promise<void> {
+      const t0 = Date.now();
+      while (Atomics.load(control, 1) !== 1) {
+        if (stopped) throw new Error('the helper thread stopped before it took work');
+        if (Date.now() - t0 > timeoutMs) throw new Error(`the helper thread did not start within ${timeoutMs} ms`);
+        await new Promise((r) => setTimeout(r, 10));
+      }
+    },
+    async stop(): Promise<void> {
+      stopped = true;
+      installHelperThread(null);
+      port1.close();
+      await worker.terminate();
+    },
+  };
+}
