@@ -10,8 +10,7 @@ try {
   process.stderr.write(`shimmy: ${(e as Error).message}\n`);
   process.exit(2);
 }
-// The helper thread starts now so that it has loaded by the first large kernel; `batch` keeps
-// every core busy with jobs of its own, and help needs no kernels.
-const quiet = argv.length === 0 || ['batch', 'help', '--help', '-h', '--version'].includes(argv[0]) || argv.includes('--help');
-if (threads === 2 && !quiet) startHelperThread();
+// The helper thread starts at the first kernel worth splitting; `batch` keeps every core busy with
+// jobs of its own.
+if (threads === 2 && argv[0] !== 'batch') startHelperThread({ lazy: true });
 process.exitCode = await main(argv);

@@ -45,28 +45,41 @@ export interface RunningHelper {
   stop(): Promise<void>;
 }
 
-/** Start the helper thread and install it. */
-export function startHelperThread(): RunningHelper {
+/**
+ * Install the helper thread. With `lazy` (the CLI's choice) the thread starts at the first kernel
+ * large enough to split, which itself runs on the calling thread: commands that never split a
+ * kernel (a sparse count) pay nothing for it.
+ */
+export function startHelperThread(options: { lazy?: boolean } = {}): RunningHelper {
   const control = new Int32Array(new SharedArrayBuffer(8));
   const { port1, port2 } = new MessageChannel();
-  const data: ThreadData = { control, replies: port2 };
-  const worker = new Worker(threadScript(), { workerData: data, transferList: [port2] });
-  worker.unref();
   port1.unref();
+  let worker: Worker | null = null;
   let stopped = false;
   let running = false;
   let tasks = 0;
-  worker.on('error', () => {
-    stopped = true;
-  });
-  worker.on('exit', () => {
-    stopped = true;
-  });
+  const launch = (): Worker => {
+    if (worker) return worker;
+    const data: ThreadData = { control, replies: port2 };
+    const w = new Worker(threadScript(), { workerData: data, transferList: [port2] });
+    w.unref();
+    w.on('error', () => {
+      stopped = true;
+    });
+    w.on('exit', () => {
+      stopped = true;
+    });
+    worker = w;
+    return w;
+  };
+  if (!options.lazy) launch();
   const thread: HelperThread = {
     start(name: KernelName, args: readonly unknown[], counter: Int32Array, chunks: number): boolean {
-      if (stopped || running || Atomics.load(control, 1) !== 1) return false;
+      if (stopped || running) return false;
+      const w = launch();
+      if (Atomics.load(control, 1) !== 1) return false;
       Atomics.store(control, 0, 0);
-      worker.postMessage({ name, args: [...args], counter, chunks } satisfies KernelMessage);
+      w.postMessage({ name, args: [...args], counter, chunks } satisfies KernelMessage);
       running = true;
       tasks++;
       return true;
@@ -88,6 +101,7 @@ export function startHelperThread(): RunningHelper {
       return tasks;
     },
     async ready(timeoutMs = 30_000): Promise<void> {
+      launch();
       const t0 = Date.now();
       while (Atomics.load(control, 1) !== 1) {
         if (stopped) throw new Error('the helper thread stopped before it took work');
@@ -99,7 +113,7 @@ export function startHelperThread(): RunningHelper {
       stopped = true;
       installHelperThread(null);
       port1.close();
-      await worker.terminate();
+      if (worker) await worker.terminate();
     },
   };
 }
