@@ -2,7 +2,7 @@
  * The near/far split of the rest by the nearest-side distance operator.
  */
 import { cnorm as norm } from '../../linalg/complex.js';
-import { allReal, combineColumns, hermitianEigen, scaleInPlace, type Cx, type SpanPart } from './cvec-ops.js';
+import { allReal, combineColumns, hermitianEigen, normaliseInPlace, type Cx, type SpanPart } from './cvec-ops.js';
 import type { Geometry } from './metrics.js';
 import type { Axes } from './regions.js';
 import { FAR_MARGIN } from './thresholds.js';
@@ -89,7 +89,7 @@ export function splitByBoundaryDistance(geo: Geometry, psi: { re: Float64Array; 
   const real = allReal(psi) && !parts.near.E.im && !parts.far.E.im;
   const form = ({ E, m }: SpanPart) => {
     const vectors = combineColumns(psi, E.re, E.im, m, real);
-    for (const v of vectors) scaleInPlace(v, 1 / norm(v));
+    for (const v of vectors) normaliseInPlace(v, real);
     return vectors;
   };
   return { near: form(parts.near), far: form(parts.far) };
@@ -100,6 +100,7 @@ function compress(A: { re: Float64Array; im: Float64Array; anyIm: boolean }, wit
   const m = within.m;
   const Cre = within.E.re;
   const Cim = within.E.im;
+  if (!A.anyIm && !Cim) return compressReal(A.re, Cre, r, m);
   // T = A·C (r×m)
   const Tre = new Float64Array(r * m);
   const Tim = new Float64Array(r * m);
@@ -140,6 +141,33 @@ function compress(A: { re: Float64Array; im: Float64Array; anyIm: boolean }, wit
     }
   }
   return { re, im, anyIm };
+}
+
+/**
+ * `compress` for real A and C: the same sums without the zero products of the complex form (each
+ * term ar·cr − ai·ci is ar·cr exactly when ai = ci = 0), in the same order; imaginary parts zero.
+ */
+function compressReal(A: Float64Array, C: Float64Array, r: number, m: number): { re: Float64Array; im: Float64Array; anyIm: boolean } {
+  const T = new Float64Array(r * m);
+  for (let a = 0; a < r; a++)
+    for (let b = 0; b < r; b++) {
+      const ar = A[a * r + b];
+      const t0 = a * m;
+      const c0 = b * m;
+      for (let t = 0; t < m; t++) T[t0 + t] += ar * C[c0 + t];
+    }
+  const re = new Float64Array(m * m);
+  for (let a = 0; a < r; a++)
+    for (let s = 0; s < m; s++) {
+      const cr = C[a * m + s];
+      if (cr === 0) continue;
+      const o = s * m;
+      const t0 = a * m;
+      for (let t = 0; t < m; t++) re[o + t] += cr * T[t0 + t];
+    }
+  for (let s = 0; s < m; s++)
+    for (let t = s + 1; t < m; t++) re[s * m + t] = re[t * m + s] = (re[s * m + t] + re[t * m + s]) / 2;
+  return { re, im: new Float64Array(m * m), anyIm: false };
 }
 
 /** Joints per chunk of `weightedGram`: the chunk of every vector, packed, stays in the core's cache. */

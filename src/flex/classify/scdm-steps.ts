@@ -4,7 +4,7 @@
  * elimination of a row, and the forming of the localised vectors Ψ·(E·polar(…)) at the end.
  */
 import { cnorm as norm } from '../../linalg/complex.js';
-import { combineColumns, scaleInPlace } from './cvec-ops.js';
+import { combineColumns, normaliseInPlace } from './cvec-ops.js';
 import { polarFactor } from './polar.js';
 
 
@@ -291,22 +291,39 @@ export function localisedBasis(src: Source, complex: boolean, sel: Selected[], e
     const Cim = complex ? new Float64Array(rin * r) : null;
     const Ere = src.E.re;
     const Eim = src.E.im;
-    for (let b = 0; b < rin; b++)
-      for (let t = 0; t < r; t++) {
-        const er = Ere[b * r + t];
-        const ei = Eim ? Eim[b * r + t] : 0;
-        if (er === 0 && ei === 0) continue;
-        for (let s2 = 0; s2 < r; s2++) {
-          const wr = W.re[t * r + s2];
-          const wi = W.im[t * r + s2];
-          Cre[b * r + s2] += er * wr - ei * wi;
-          if (Cim) Cim[b * r + s2] += er * wi + ei * wr;
+    if (!Cim && !Eim) realTimes(Ere, W.re, Cre, rin, r);
+    else
+      for (let b = 0; b < rin; b++)
+        for (let t = 0; t < r; t++) {
+          const er = Ere[b * r + t];
+          const ei = Eim ? Eim[b * r + t] : 0;
+          if (er === 0 && ei === 0) continue;
+          for (let s2 = 0; s2 < r; s2++) {
+            const wr = W.re[t * r + s2];
+            const wi = W.im[t * r + s2];
+            Cre[b * r + s2] += er * wr - ei * wi;
+            if (Cim) Cim[b * r + s2] += er * wi + ei * wr;
+          }
         }
-      }
     out = combineColumns(src.psi, Cre, Cim, r, !complex);
   }
-  for (const v of out) scaleInPlace(v, 1 / norm(v));
+  for (const v of out) normaliseInPlace(v, !complex);
   return out;
+}
+
+/**
+ * C += E·W for real row-major E (rows × r) and W (r × r): the complex loop's sums without its zero
+ * products (er·wr − 0·wi is er·wr exactly), in the same order.
+ */
+function realTimes(E: Float64Array, W: Float64Array, C: Float64Array, rows: number, r: number): void {
+  for (let b = 0; b < rows; b++)
+    for (let t = 0; t < r; t++) {
+      const er = E[b * r + t];
+      if (er === 0) continue;
+      const c = b * r;
+      const w = t * r;
+      for (let s2 = 0; s2 < r; s2++) C[c + s2] += er * W[w + s2];
+    }
 }
 
 /** Relative tie of the SCDM pivot rule (`pickPivot`). */
