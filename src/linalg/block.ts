@@ -104,18 +104,23 @@ export function orthonormalise(b: Block, rand: Uniform): void {
  * sums, x read once per four); each sum runs over i in increasing order, as a plain dot product's.
  */
 export function realDots(x: Float64Array, ys: Float64Array[], from: number, out: Float64Array, offset: number): void {
-  const n = x.length;
+  out.fill(0, offset + from, offset + ys.length);
+  realDotsAdd(x, ys, from, out, offset, 0, x.length);
+}
+
+/** realDots' sums continued over i0 ≤ i < i1: each out[offset + k] is the running sum so far. */
+export function realDotsAdd(x: Float64Array, ys: Float64Array[], from: number, out: Float64Array, offset: number, i0: number, i1: number): void {
   let k = from;
   for (; k + 3 < ys.length; k += 4) {
     const y0 = ys[k];
     const y1 = ys[k + 1];
     const y2 = ys[k + 2];
     const y3 = ys[k + 3];
-    let s0 = 0;
-    let s1 = 0;
-    let s2 = 0;
-    let s3 = 0;
-    for (let i = 0; i < n; i++) {
+    let s0 = out[offset + k];
+    let s1 = out[offset + k + 1];
+    let s2 = out[offset + k + 2];
+    let s3 = out[offset + k + 3];
+    for (let i = i0; i < i1; i++) {
       const v = x[i];
       s0 += v * y0[i];
       s1 += v * y1[i];
@@ -129,35 +134,34 @@ export function realDots(x: Float64Array, ys: Float64Array[], from: number, out:
   }
   for (; k < ys.length; k++) {
     const y = ys[k];
-    let s = 0;
-    for (let i = 0; i < n; i++) s += x[i] * y[i];
+    let s = out[offset + k];
+    for (let i = i0; i < i1; i++) s += x[i] * y[i];
     out[offset + k] = s;
   }
 }
 
 /**
- * realDots for two vectors at once: out0[offset0 + k] = x0·ys[k] and out1[offset1 + k] = x1·ys[k]
- * for every k ≥ from, as 2×4 blocks (eight independent sums; six loads per eight products instead
- * of five per four). Each sum runs over i in increasing order, so the results are those of
- * realDots bit for bit.
+ * The running sums of realDots for two vectors at once, over i0 ≤ i < i1: out0[offset0 + k] +=
+ * x0·ys[k] and out1[offset1 + k] += x1·ys[k] for every k ≥ from, as 2×4 blocks (eight independent
+ * sums; six loads per eight products instead of five per four). Each sum continues over i in
+ * increasing order, so the results are those of one realDots over all i, bit for bit.
  */
-export function realDots2(x0: Float64Array, x1: Float64Array, ys: Float64Array[], from: number, out0: Float64Array, offset0: number, out1: Float64Array, offset1: number): void {
-  const n = x0.length;
+export function realDots2Add(x0: Float64Array, x1: Float64Array, ys: Float64Array[], from: number, out0: Float64Array, offset0: number, out1: Float64Array, offset1: number, i0: number, i1: number): void {
   let k = from;
   for (; k + 3 < ys.length; k += 4) {
     const y0 = ys[k];
     const y1 = ys[k + 1];
     const y2 = ys[k + 2];
     const y3 = ys[k + 3];
-    let s0 = 0;
-    let s1 = 0;
-    let s2 = 0;
-    let s3 = 0;
-    let t0 = 0;
-    let t1 = 0;
-    let t2 = 0;
-    let t3 = 0;
-    for (let i = 0; i < n; i++) {
+    let s0 = out0[offset0 + k];
+    let s1 = out0[offset0 + k + 1];
+    let s2 = out0[offset0 + k + 2];
+    let s3 = out0[offset0 + k + 3];
+    let t0 = out1[offset1 + k];
+    let t1 = out1[offset1 + k + 1];
+    let t2 = out1[offset1 + k + 2];
+    let t3 = out1[offset1 + k + 3];
+    for (let i = i0; i < i1; i++) {
       const u = x0[i];
       const v = x1[i];
       const p0 = y0[i];
@@ -184,9 +188,9 @@ export function realDots2(x0: Float64Array, x1: Float64Array, ys: Float64Array[]
   }
   for (; k < ys.length; k++) {
     const y = ys[k];
-    let s = 0;
-    let t = 0;
-    for (let i = 0; i < n; i++) {
+    let s = out0[offset0 + k];
+    let t = out1[offset1 + k];
+    for (let i = i0; i < i1; i++) {
       s += x0[i] * y[i];
       t += x1[i] * y[i];
     }
@@ -215,15 +219,24 @@ export function gramRows(R: Float64Array[], I: Float64Array[] | null, Gr: Float6
   const a0 = triangleChunkStart(k, chunk, chunks, 2);
   const a1 = triangleChunkStart(k, chunk + 1, chunks, 2);
   if (!I || !Gi) {
-    // rows a and a + 1 together from column a + 1 on, and G_aa apart
-    for (let a = a0; a < a1; a += 2) {
-      const g = a * k;
-      if (a + 1 === a1) {
-        realDots(R[a], R, a, Gr, g);
-        break;
+    // rows a and a + 1 together from column a + 1 on, and G_aa apart; the sums run on block by
+    // block of rows of X that stays in cache (the same sums, in the same order)
+    for (let a = a0; a < a1; a++) Gr.fill(0, a * k + a, a * k + k);
+    const B = rowBlock(k, false);
+    for (let i0 = 0; i0 < n; i0 += B) {
+      const i1 = Math.min(n, i0 + B);
+      for (let a = a0; a < a1; a += 2) {
+        const g = a * k;
+        if (a + 1 === a1) {
+          realDotsAdd(R[a], R, a, Gr, g, i0, i1);
+          break;
+        }
+        let d = Gr[g + a];
+        const x = R[a];
+        for (let i = i0; i < i1; i++) d += x[i] * x[i];
+        Gr[g + a] = d;
+        realDots2Add(R[a], R[a + 1], R, a + 1, Gr, g, Gr, g + k, i0, i1);
       }
-      Gr[g + a] = dotInto(0, R[a], R[a], n);
-      realDots2(R[a], R[a + 1], R, a + 1, Gr, g, Gr, g + k);
     }
     return;
   }
@@ -273,15 +286,37 @@ function timesUpper(X: Block, Tr: Float64Array, Ti: Float64Array | null): void {
   inChunks('timesUpperRows', timesUpperRows, [X.re, X.im, Tr, Ti], k * k * n < SPLIT_WORK ? 1 : CHUNKS);
 }
 
-/** Chunk `chunk` of `chunks` of timesUpper's rows of X ← X·T. */
+/**
+ * Rows per block of the blocked kernels: every column's block (k·rows doubles) stays in a 512 kB
+ * second-level cache while it is reused, instead of streaming whole columns from memory for every
+ * group of outputs (which made the kernels memory-bound: the two threads slowed each other).
+ */
+function rowBlock(k: number, complex: boolean): number {
+  return Math.max(64, 4 * Math.floor(65536 / ((complex ? 2 : 1) * Math.max(1, k)) / 4));
+}
+
+/** Chunk `chunk` of `chunks` of timesUpper's rows of X ← X·T, in blocks of rows that stay in cache. */
 export function timesUpperRows(X: Float64Array[], XI: Float64Array[] | null, Tr: Float64Array, Ti: Float64Array | null, chunk: number, chunks: number): void {
   const k = X.length;
   const len = k ? X[0].length : 0;
   const i0 = chunkStart(len, chunk, chunks, 4);
   const i1 = chunkStart(len, chunk + 1, chunks, 4);
-  const n = i1 - i0;
-  const R = X.map((x) => x.subarray(i0, i1));
-  const I = XI ? XI.map((x) => x.subarray(i0, i1)) : null;
+  const B = rowBlock(k, XI !== null);
+  for (let b0 = i0; b0 < i1; b0 += B) {
+    const b1 = Math.min(i1, b0 + B);
+    timesUpperBlock(
+      X.map((x) => x.subarray(b0, b1)),
+      XI ? XI.map((x) => x.subarray(b0, b1)) : null,
+      Tr,
+      Ti,
+    );
+  }
+}
+
+/** X ← X·T on every row of the (sub)columns R (I). */
+function timesUpperBlock(R: Float64Array[], I: Float64Array[] | null, Tr: Float64Array, Ti: Float64Array | null): void {
+  const k = R.length;
+  const n = k ? R[0].length : 0;
   const complex = I !== null && Ti !== null;
   const width = complex ? 2 : 4;
   const bufR = Array.from({ length: Math.min(width, k) }, () => new Float64Array(n));

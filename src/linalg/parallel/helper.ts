@@ -1,16 +1,16 @@
 /**
- * A second thread for the large kernels (Gram matrices, block products, block solves, subtrees of
- * the sparse factorisation), behind an interface the core can use from any environment.
+ * A second thread for the large kernels (Gram matrices, block products, block solves), behind an
+ * interface the core can use from any environment.
  *
  * The core never starts a thread itself: a shell installs one (the CLI does, in Node, through
- * node-thread.ts), and without one every kernel runs here, one part after the other. A kernel is
- * split into parts by a fixed rule that does not depend on whether a thread is installed, and each
- * output entry is computed by one part in the same order of operations as the single-thread code,
- * so results are bit for bit the same with one thread or two.
+ * node-thread.ts), and without one every kernel runs here. A kernel is cut into chunks that write
+ * disjoint parts of its output; each output entry is computed within one chunk, in the order of
+ * operations of the single-thread code, so results are bit for bit the same whichever thread runs
+ * which chunk, and with one thread or two.
  *
  * The other thread reads and writes the caller's arrays in place, so every typed array it is given
- * must live on a SharedArrayBuffer: `sharedFloats` allocates one when a thread is installed. A part
- * whose arrays are not all shared simply runs here.
+ * must live on a SharedArrayBuffer: `sharedFloats` allocates one when a thread is installed. A
+ * kernel whose arrays are not all shared simply runs here.
  */
 import type { KernelName } from './kernels.js';
 
