@@ -5,9 +5,11 @@
  * remainder branch), and the packed weighted Gram matrix against its definition.
  */
 import { describe, expect, it } from 'vitest';
-import { combineColumns, type Cx } from '../src/flex/classify/cvec-ops.js';
+import { combineColumns, normaliseInPlace, scaleInPlace, type Cx } from '../src/flex/classify/cvec-ops.js';
+import { realTimes } from '../src/flex/classify/scdm-steps.js';
+import { cnorm } from '../src/linalg/complex.js';
 import { polarFactor, polarFactorNewton, polarFactorSvd } from '../src/flex/classify/polar.js';
-import { weightedGram } from '../src/flex/classify/rest-split.js';
+import { compress, weightedGram } from '../src/flex/classify/rest-split.js';
 import { hermitianEigen } from '../src/linalg/hermitian-eig.js';
 import { rng } from './helpers.js';
 
@@ -261,4 +263,69 @@ describe('weighted Gram matrix against its definition', () => {
         expect(got.anyIm).toBe(complex && r > 1);
       }
     });
+});
+
+describe('real forms of complex steps give the complex forms\' numbers bit for bit', () => {
+  // The real forms skip products with a zero imaginary part; they must not change a single bit,
+  // so that real and complex data take the same decisions.
+  it('compress: CᴴAC for real symmetric A and real C (r = 13, m = 1 … 9)', () => {
+    const g = rng(61);
+    const r = 13;
+    const Are = new Float64Array(r * r);
+    for (let a = 0; a < r; a++)
+      for (let b = a; b < r; b++) Are[a * r + b] = Are[b * r + a] = g() - 0.5;
+    for (let m = 1; m <= 9; m++) {
+      const C = Float64Array.from({ length: r * m }, () => (g() < 0.2 ? 0 : g() - 0.5));
+      const within = { E: { re: C, im: null }, m };
+      const real = compress({ re: Are, im: new Float64Array(r * r), anyIm: false }, within, r);
+      // anyIm true takes the complex form on the same (zero) imaginary parts
+      const complex = compress({ re: Are, im: new Float64Array(r * r), anyIm: true }, within, r);
+      expect(real.anyIm).toBe(false);
+      expect(complex.anyIm).toBe(false);
+      expect(Array.from(real.re)).toEqual(Array.from(complex.re));
+      expect(real.im.every((x) => x === 0)).toBe(true);
+    }
+  });
+
+  it('realTimes: C += E·W against the complex loop in the same order', () => {
+    const g = rng(62);
+    for (const [rows, r] of [
+      [1, 1],
+      [7, 5],
+      [20, 12],
+    ]) {
+      const E = Float64Array.from({ length: rows * r }, () => (g() < 0.3 ? 0 : g() - 0.5));
+      const W = Float64Array.from({ length: r * r }, () => g() - 0.5);
+      const got = new Float64Array(rows * r);
+      realTimes(E, W, got, rows, r);
+      const want = new Float64Array(rows * r);
+      for (let b = 0; b < rows; b++)
+        for (let t = 0; t < r; t++) {
+          const er = E[b * r + t];
+          const ei = 0;
+          if (er === 0 && ei === 0) continue;
+          for (let s = 0; s < r; s++) want[b * r + s] += er * W[t * r + s] - ei * 0;
+        }
+      expect(Array.from(got)).toEqual(Array.from(want));
+    }
+  });
+
+  it('normaliseInPlace: the real form scales as scaleInPlace(v, 1/‖v‖) and leaves the imaginary part alone', () => {
+    const g = rng(63);
+    for (const n of [1, 5, 1000]) {
+      const re = Float64Array.from({ length: n }, () => g() - 0.5);
+      const a: Cx = { re: re.slice(), im: new Float64Array(n) };
+      const b: Cx = { re: re.slice(), im: new Float64Array(n) };
+      normaliseInPlace(a, true);
+      scaleInPlace(b, 1 / cnorm(b));
+      expect(Array.from(a.re)).toEqual(Array.from(b.re));
+      expect(a.im.every((x) => x === 0)).toBe(true);
+      const c: Cx = { re: re.slice(), im: Float64Array.from({ length: n }, () => g() - 0.5) };
+      const d: Cx = { re: c.re.slice(), im: c.im.slice() };
+      normaliseInPlace(c, false);
+      scaleInPlace(d, 1 / cnorm(d));
+      expect(Array.from(c.re)).toEqual(Array.from(d.re));
+      expect(Array.from(c.im)).toEqual(Array.from(d.im));
+    }
+  });
 });

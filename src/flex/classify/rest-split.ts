@@ -95,8 +95,8 @@ export function splitByBoundaryDistance(geo: Geometry, psi: { re: Float64Array; 
   return { near: form(parts.near), far: form(parts.far) };
 }
 
-/** Cᴴ·A·C for the Hermitian r×r A (row-major) and C = within.E (r×m): the operator compressed to Ψ·C. */
-function compress(A: { re: Float64Array; im: Float64Array; anyIm: boolean }, within: SpanPart, r: number): { re: Float64Array; im: Float64Array; anyIm: boolean } {
+/** Cᴴ·A·C for the Hermitian r×r A (row-major) and C = within.E (r×m): the operator compressed to Ψ·C. Exported for the tests. */
+export function compress(A: { re: Float64Array; im: Float64Array; anyIm: boolean }, within: SpanPart, r: number): { re: Float64Array; im: Float64Array; anyIm: boolean } {
   const m = within.m;
   const Cre = within.E.re;
   const Cim = within.E.im;

@@ -313,9 +313,9 @@ export function localisedBasis(src: Source, complex: boolean, sel: Selected[], e
 
 /**
  * C += E·W for real row-major E (rows × r) and W (r × r): the complex loop's sums without its zero
- * products (er·wr − 0·wi is er·wr exactly), in the same order.
+ * products (er·wr − 0·wi is er·wr exactly), in the same order. Exported for the tests.
  */
-function realTimes(E: Float64Array, W: Float64Array, C: Float64Array, rows: number, r: number): void {
+export function realTimes(E: Float64Array, W: Float64Array, C: Float64Array, rows: number, r: number): void {
   for (let b = 0; b < rows; b++)
     for (let t = 0; t < r; t++) {
       const er = E[b * r + t];
