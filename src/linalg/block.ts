@@ -132,11 +132,33 @@ export function realDotsAdd(x: Float64Array, ys: Float64Array[], from: number, o
     out[offset + k + 2] = s2;
     out[offset + k + 3] = s3;
   }
-  for (; k < ys.length; k++) {
+  if (k < ys.length) realDotsRest(x, ys, k, out, offset, i0, i1);
+}
+
+// The last columns (fewer than four) of realDotsAdd and realDots2Add, in functions of their own:
+// code compiled while the main loop ran had never seen these loops and was thrown away on
+// reaching them, call after call (V8's "insufficient type feedback" deoptimisation).
+
+function realDotsRest(x: Float64Array, ys: Float64Array[], from: number, out: Float64Array, offset: number, i0: number, i1: number): void {
+  for (let k = from; k < ys.length; k++) {
     const y = ys[k];
     let s = out[offset + k];
     for (let i = i0; i < i1; i++) s += x[i] * y[i];
     out[offset + k] = s;
+  }
+}
+
+function realDots2Rest(x0: Float64Array, x1: Float64Array, ys: Float64Array[], from: number, out0: Float64Array, offset0: number, out1: Float64Array, offset1: number, i0: number, i1: number): void {
+  for (let k = from; k < ys.length; k++) {
+    const y = ys[k];
+    let s = out0[offset0 + k];
+    let t = out1[offset1 + k];
+    for (let i = i0; i < i1; i++) {
+      s += x0[i] * y[i];
+      t += x1[i] * y[i];
+    }
+    out0[offset0 + k] = s;
+    out1[offset1 + k] = t;
   }
 }
 
@@ -186,17 +208,7 @@ export function realDots2Add(x0: Float64Array, x1: Float64Array, ys: Float64Arra
     out1[offset1 + k + 2] = t2;
     out1[offset1 + k + 3] = t3;
   }
-  for (; k < ys.length; k++) {
-    const y = ys[k];
-    let s = out0[offset0 + k];
-    let t = out1[offset1 + k];
-    for (let i = i0; i < i1; i++) {
-      s += x0[i] * y[i];
-      t += x1[i] * y[i];
-    }
-    out0[offset0 + k] = s;
-    out1[offset1 + k] = t;
-  }
+  if (k < ys.length) realDots2Rest(x0, x1, ys, k, out0, offset0, out1, offset1, i0, i1);
 }
 
 /**

@@ -85,9 +85,18 @@ export function normaliseInPlace(v: Cx, real: boolean): void {
     return;
   }
   const x = v.re;
+  timesScalar(x, 1 / Math.sqrt(sumOfSquares(x)));
+}
+
+// normaliseInPlace's two loops in functions of their own (compiled while the first loop ran, the
+// function was thrown away on reaching the second, for every vector)
+function sumOfSquares(x: Float64Array): number {
   let s = 0;
   for (let i = 0; i < x.length; i++) s += x[i] ** 2;
-  const f = 1 / Math.sqrt(s);
+  return s;
+}
+
+function timesScalar(x: Float64Array, f: number): void {
   for (let i = 0; i < x.length; i++) x[i] *= f;
 }
 
