@@ -6,7 +6,7 @@
  */
 import type { Uniform } from './random.js';
 import { sparseMatVecInto } from './sparse.js';
-import { CHUNKS, chunkStart, inChunks, sharedFloats, SPLIT_WORK, triangleChunkStart } from './parallel/helper.js';
+import { CHUNKS, chunkStart, floatColumns, inChunks, sharedFloats, SPLIT_WORK, triangleChunkStart } from './parallel/helper.js';
 
 /** y = A x (y overwritten): the one sparse mat-vec, re-exported under the name the solvers use. */
 export const matvec = sparseMatVecInto;
@@ -28,10 +28,14 @@ export function randomColumn(b: Block, rand: Uniform): { re: Float64Array; im: F
 }
 
 export function addRandomColumns(b: Block, count: number, rand: Uniform): void {
+  // one buffer for all the columns (the same draws, column by column, as randomColumn)
+  const re = floatColumns(count, b.len, true);
+  const im = b.im ? floatColumns(count, b.len, true) : null;
   for (let c = 0; c < count; c++) {
-    const v = randomColumn(b, rand);
-    b.re.push(v.re);
-    if (b.im) b.im.push(v.im!);
+    rand.fill(re[c]);
+    if (im) rand.fill(im[c]);
+    b.re.push(re[c]);
+    if (b.im) b.im.push(im![c]);
   }
 }
 

@@ -4,7 +4,7 @@
 import { cdot as dot, cnorm, type CVec } from '../../linalg/complex.js';
 import { hermitianEigen as denseHermitianEigen } from '../../linalg/hermitian-eig.js';
 import type { SparseMatrix } from '../../linalg/sparse.js';
-import { CHUNKS, chunkStart, inChunks, shareable, sharedFloats, SPLIT_WORK } from '../../linalg/parallel/helper.js';
+import { CHUNKS, chunkStart, floatColumns, inChunks, shareable, SPLIT_WORK } from '../../linalg/parallel/helper.js';
 
 /** A complex vector as two real arrays. */
 export type Cx = { re: Float64Array; im: Float64Array };
@@ -153,8 +153,12 @@ const COMBINE_CHUNK = 128;
 export function combineColumns(vectors: Cx[], Wre: Float64Array, Wim: Float64Array | null, cols: number, real = false): Cx[] {
   const r = vectors.length;
   const n = r ? vectors[0].re.length : 0;
-  // imaginary parts of real outputs are never written: plain zeros
-  const out: Cx[] = Array.from({ length: cols }, () => ({ re: sharedFloats(n), im: real ? new Float64Array(n) : sharedFloats(n) }));
+  // the outputs are written by the kernel's chunks, which fault their pages in on both threads;
+  // the zero imaginary parts of real outputs are read later (weights, realness checks), and reading
+  // a page of a fresh allocation costs the same fault as clearing it: allocated one by one
+  const outRe = floatColumns(cols, n, true);
+  const outIm = real ? Array.from({ length: cols }, () => new Float64Array(n)) : floatColumns(cols, n, true);
+  const out: Cx[] = outRe.map((re, b) => ({ re, im: outIm[b] }));
   if (r === 0 || n === 0 || cols === 0) return out;
   const Pr = vectors.map((v) => v.re);
   const Pi = real ? null : vectors.map((v) => v.im);

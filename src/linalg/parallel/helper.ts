@@ -48,6 +48,19 @@ export function sharedFloats(n: number, min = SHARE_MIN): Float64Array {
   return installed !== null && n >= min ? new Float64Array(new SharedArrayBuffer(8 * n)) : new Float64Array(n);
 }
 
+/**
+ * `count` zeroed columns of length n as views of one buffer (shared when `shared` and a thread is
+ * installed). One large allocation is mapped fresh and zero-filled lazily: a page is faulted in by
+ * the thread that first touches it (a kernel's chunks, on both threads), where columns allocated
+ * one by one came from recycled heap memory that the allocator cleared on the calling thread. The
+ * columns never overlap; they share only the buffer, which stays alive while any column does.
+ */
+export function floatColumns(count: number, n: number, shared: boolean): Float64Array[] {
+  const words = count * n;
+  const buffer = shared && installed !== null && n >= SHARE_MIN ? new SharedArrayBuffer(8 * words) : new ArrayBuffer(8 * words);
+  return Array.from({ length: count }, (_, j) => new Float64Array(buffer, 8 * j * n, n));
+}
+
 /** `a` itself when it is shared or no thread is installed; else a shared copy (for small inputs such as k×k weights). */
 export function shareable(a: Float64Array): Float64Array {
   if (!installed || a.buffer instanceof SharedArrayBuffer) return a;
