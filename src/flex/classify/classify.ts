@@ -205,7 +205,8 @@ export function classifyFlexes(sc: Supercell, analysis: FlexAnalysis, options: C
   let marginal = 0;
   let decay: SideDecay | undefined;
   for (const v of localised) {
-    const w = jointWeights(v, J);
+    // a real R's basis is made real (context.ts, realIfPossible), and SCDM keeps it real
+    const w = jointWeights(v, J, !cplx);
     const decision = decayDecision(geo, w);
     const fit = decision.fit;
     if (decision.marginal) marginal++;
