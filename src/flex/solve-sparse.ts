@@ -56,6 +56,7 @@ import type { Block } from '../linalg/block.js';
 import { certifyCount } from '../linalg/count-certificate.js';
 import type { NullBasis } from '../linalg/dense.js';
 import { sigmaMaxUpperBound, topLanczos } from '../linalg/lanczos.js';
+import { floatColumns } from '../linalg/parallel/helper.js';
 import { seededUniform } from '../linalg/random.js';
 import { AMBIGUOUS_RATIO, type RankDecision } from '../linalg/rank.js';
 import { conjugateTranspose, type SparseMatrix } from '../linalg/sparse.js';
@@ -121,8 +122,11 @@ export interface SparsePlan {
 // The solver
 
 function toBasis(X: Block, count: number, complex: boolean): NullBasis {
+  // the zero imaginary parts of a real basis as views of one fresh buffer, whose pages stay
+  // unmapped until something reads them (the classifier knows the basis is real and does not)
+  const zeros = X.im ? null : floatColumns(count, X.len, false);
   const vectors = [];
-  for (let j = 0; j < count; j++) vectors.push({ re: X.re[j], im: X.im ? X.im[j] : new Float64Array(X.len) });
+  for (let j = 0; j < count; j++) vectors.push({ re: X.re[j], im: X.im ? X.im[j] : zeros![j] });
   return { real: !complex, vectors };
 }
 

@@ -93,6 +93,7 @@ export function singularValues(A: SparseMatrix): Float64Array {
 
 /** A basis of ker A: orthonormal real vectors for a real A, orthonormal complex ones otherwise. */
 export interface NullBasis {
+  /** True when every vector's imaginary part is zero (the solvers set it for a real R and real boundary). */
   real: boolean;
   vectors: CVec[];
 }

@@ -108,7 +108,8 @@ export function splitAffine(sc: Supercell, flexBasis: Cx[], rest: Cx[]): AffineR
   const t = F.length;
   // C[a][b] = ⟨φ_b, F_a⟩; the fields are real, so a real φ_b needs only the real products (the
   // same real part; the imaginary part is then zero)
-  const realPhi = flexBasis.map((p) => allZero(p.im));
+  const allPhiReal = allReal(flexBasis);
+  const realPhi = flexBasis.map((p) => allPhiReal || allZero(p.im));
   const C: [number, number][][] = F.map(() => []);
   const fieldsRe = F.map((x) => x.re);
   const dotsOfPhi = new Float64Array(F.length);

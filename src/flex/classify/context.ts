@@ -9,7 +9,7 @@ import type { SparseMatrix } from '../../linalg/sparse.js';
 import type { Supercell } from '../../supercell/supercell.js';
 import type { ClassifiedMode } from '../classes.js';
 import type { FlexAnalysis } from '../spaces.js';
-import { allReal, scaleInPlace, subtractProjection } from './cvec-ops.js';
+import { allReal, markReal, scaleInPlace, subtractProjection } from './cvec-ops.js';
 import type { Geometry } from './metrics.js';
 import { KernelCache } from './restricted-kernel.js';
 import type { Span } from './span.js';
@@ -69,7 +69,14 @@ export function makeContext(sc: Supercell, analysis: FlexAnalysis, method: Ctx['
   const cellJoints: number[][] = Array.from({ length: sc.cells[0] * sc.cells[1] }, () => []);
   for (let k = 0; k < J; k++) cellJoints[sc.jointCells[2 * k + 1] * N1 + sc.jointCells[2 * k]].push(k);
   let basis: CVec[] | undefined;
-  const flexBasis = () => (basis ??= realIfPossible(analysis.flexBasis().vectors, R.im === null, analysis.flexes));
+  const flexBasis = () => {
+    if (basis) return basis;
+    const nb = analysis.flexBasis();
+    basis = realIfPossible(nb.vectors, nb.real, R.im === null, analysis.flexes);
+    // a real R's basis is real (the solver's, or made so): later steps need not scan it
+    if (R.im === null) markReal(basis);
+    return basis;
+  };
   return {
     sc,
     R,
@@ -97,8 +104,8 @@ export function makeContext(sc: Supercell, analysis: FlexAnalysis, method: Ctx['
  * A real matrix has a real kernel: when a solver returns complex vectors for a real R, their
  * real and imaginary parts span that kernel, and an orthonormal real basis of it is used.
  */
-function realIfPossible(vectors: CVec[], realMatrix: boolean, dim: number): CVec[] {
-  if (!realMatrix || allReal(vectors)) return vectors;
+function realIfPossible(vectors: CVec[], solverSaysReal: boolean, realMatrix: boolean, dim: number): CVec[] {
+  if (!realMatrix || solverSaysReal || allReal(vectors)) return vectors;
   const parts: { re: Float64Array; im: Float64Array }[] = [];
   for (const v of vectors) {
     parts.push({ re: v.re.slice(), im: new Float64Array(v.re.length) });

@@ -60,8 +60,22 @@ export function allZero(a: Float64Array): boolean {
   return true;
 }
 
+/** Lists of vectors known to be real without a scan (markReal). */
+const realLists = new WeakSet<readonly Cx[]>();
+
+/**
+ * Record that every vector of `list` is real and stays so (the basis of a real R's kernel, which
+ * the classifier only reads): allReal then answers without reading 2·dofs·count zeros, which
+ * for a fresh zero array cost a page fault per 4 kB on every first read.
+ */
+export function markReal<T extends readonly Cx[]>(list: T): T {
+  realLists.add(list);
+  return list;
+}
+
 /** Whether every vector's imaginary part is zero. */
 export function allReal(vectors: readonly Cx[]): boolean {
+  if (realLists.has(vectors)) return true;
   for (const v of vectors) if (!allZero(v.im)) return false;
   return true;
 }
