@@ -451,7 +451,9 @@ function rotatedBasis(a: FlexAnalysis, seed: number, complex: boolean): FlexAnal
     });
     return out;
   });
-  return { ...a, flexBasis: () => ({ real: basis.real, vectors }) };
+  // a complex rotation makes the vectors complex: the basis says so (NullBasis.real is a claim
+  // about the vectors, which the classifier trusts)
+  return { ...a, flexBasis: () => ({ real: basis.real && !complex, vectors }) };
 }
 
 function permuteJoints(fw: Framework, seed: number): Framework {
