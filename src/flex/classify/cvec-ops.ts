@@ -168,10 +168,9 @@ export function combineColumns(vectors: Cx[], Wre: Float64Array, Wim: Float64Arr
   const r = vectors.length;
   const n = r ? vectors[0].re.length : 0;
   // the outputs are written by the kernel's chunks, which fault their pages in on both threads;
-  // the zero imaginary parts of real outputs are read later (weights, realness checks), and reading
-  // a page of a fresh allocation costs the same fault as clearing it: allocated one by one
+  // the zero imaginary parts of real outputs are faulted in only if something reads them
   const outRe = floatColumns(cols, n, true);
-  const outIm = real ? Array.from({ length: cols }, () => new Float64Array(n)) : floatColumns(cols, n, true);
+  const outIm = floatColumns(cols, n, !real);
   const out: Cx[] = outRe.map((re, b) => ({ re, im: outIm[b] }));
   if (r === 0 || n === 0 || cols === 0) return out;
   const Pr = vectors.map((v) => v.re);

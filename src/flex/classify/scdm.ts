@@ -130,17 +130,20 @@ function scdmCore(src: Source, complex: boolean, order: Int32Array): { re: Float
     const d = new Float64Array(J);
     const br = new Float64Array(J);
     const bi = new Float64Array(J);
-    for (const v of psi)
-      for (let k = 0; k < J; k++) {
-        const xr = v.re[2 * k];
-        const xi = v.im[2 * k];
-        const yr = v.re[2 * k + 1];
-        const yi = v.im[2 * k + 1];
-        a[k] += xr * xr + xi * xi;
-        d[k] += yr * yr + yi * yi;
-        br[k] += xr * yr + xi * yi;
-        bi[k] += xr * yi - xi * yr;
-      }
+    // real Ψ: the same sums without reading the zero imaginary parts (bi stays 0)
+    if (allReal(psi)) for (const v of psi) blockSumsReal(v.re, J, a, d, br);
+    else
+      for (const v of psi)
+        for (let k = 0; k < J; k++) {
+          const xr = v.re[2 * k];
+          const xi = v.im[2 * k];
+          const yr = v.re[2 * k + 1];
+          const yi = v.im[2 * k + 1];
+          a[k] += xr * xr + xi * xi;
+          d[k] += yr * yr + yi * yi;
+          br[k] += xr * yr + xi * yi;
+          bi[k] += xr * yi - xi * yr;
+        }
     for (let k = 0; k < J; k++) heap.push(k, topValue(a[k], d[k], br[k], bi[k]) * (1 + 1e-10) * slack);
   }
   const position = new Int32Array(J);
@@ -207,6 +210,17 @@ function scdmCore(src: Source, complex: boolean, order: Int32Array): { re: Float
     for (const j of candidates) if (!taken[j]) heap.push(j, top[j] * slack);
   }
   return localisedBasis(src, complex, sel, entries);
+}
+
+/** a_k += x², d_k += y², b_k += x·y over the joints' rows (x, y) = (v_2k, v_2k+1) of a real vector. */
+function blockSumsReal(v: Float64Array, J: number, a: Float64Array, d: Float64Array, b: Float64Array): void {
+  for (let k = 0; k < J; k++) {
+    const x = v[2 * k];
+    const y = v[2 * k + 1];
+    a[k] += x * x;
+    d[k] += y * y;
+    b[k] += x * y;
+  }
 }
 
 /** Relative growth a block's computed top value may show over at most r eliminations: 3·r·(r + 2)·ε, doubled, plus 1e-13. */
