@@ -5,8 +5,8 @@
  * hot-loop kernels (axpy, dot, divide) kept as separate functions so V8 compiles them early.
  */
 import type { Uniform } from './random.js';
-import { sparseMatVecInto } from './sparse.js';
-import { CHUNKS, chunkStart, floatColumns, inChunks, sharedFloats, SPLIT_WORK, triangleChunkStart } from './parallel/helper.js';
+import { sparseMatVecInto, type SparseMatrix } from './sparse.js';
+import { CHUNKS, chunkStart, floatColumns, inChunks, shareable, sharedFloats, SPLIT_WORK, triangleChunkStart } from './parallel/helper.js';
 
 /** y = A x (y overwritten): the one sparse mat-vec, re-exported under the name the solvers use. */
 export const matvec = sparseMatVecInto;
@@ -616,6 +616,35 @@ export function axpy(y: Float64Array, x: Float64Array, a: number, n: number): vo
 export function dotInto(s: number, x: Float64Array, y: Float64Array, n: number): number {
   for (let t = 0; t < n; t++) s += x[t] * y[t];
   return s;
+}
+
+/**
+ * Chunk `chunk` of `chunks` of the columns (re[j], im[j]) each divided by its norm (left alone
+ * when it is zero): the columns of a block solve scaled to unit length, on either thread.
+ */
+export function unitColumns(re: Float64Array[], im: Float64Array[] | null, chunk: number, chunks: number): void {
+  const j1 = chunkStart(re.length, chunk + 1, chunks, 1);
+  for (let j = chunkStart(re.length, chunk, chunks, 1); j < j1; j++) {
+    const nr = norm2(re[j], im ? im[j] : null) || 1;
+    divide(re[j], nr, re[j].length);
+    if (im) divide(im[j], nr, im[j].length);
+  }
+}
+
+/** Chunk `chunk` of `chunks` of the columns: out[j] = ‖A x_j‖ for x_j = (re[j], im[j]). */
+export function residualNorms(A: SparseMatrix, re: Float64Array[], im: Float64Array[] | null, out: Float64Array, chunk: number, chunks: number): void {
+  const yr = new Float64Array(A.rows);
+  const yi = im || A.im ? new Float64Array(A.rows) : null;
+  const j1 = chunkStart(re.length, chunk + 1, chunks, 1);
+  for (let j = chunkStart(re.length, chunk, chunks, 1); j < j1; j++) {
+    matvec(A, re[j], im ? im[j] : null, yr, yi);
+    out[j] = norm2(yr, yi);
+  }
+}
+
+/** A with its arrays on shared memory when a helper thread is installed (copies where they are not). */
+export function shareableMatrix(A: SparseMatrix): SparseMatrix {
+  return { rows: A.rows, cols: A.cols, rowPtr: shareable(A.rowPtr), colIdx: shareable(A.colIdx), re: shareable(A.re), im: A.im ? shareable(A.im) : null };
 }
 
 /** x /= d entrywise. */

@@ -11,8 +11,13 @@ import {
   norm2,
   orthonormalDrop,
   orthonormalise,
+  residualNorms,
+  shareableMatrix,
+  unitColumns,
   type Block,
 } from '../../linalg/block.js';
+import { CHUNKS, inChunks, sharedFloats, SPLIT_WORK } from '../../linalg/parallel/helper.js';
+import type { SparseMatrix } from '../../linalg/sparse.js';
 import { certifyCount, type CountCertificate } from '../../linalg/count-certificate.js';
 import { hermitianEigen } from '../../linalg/hermitian-eig.js';
 import { EPS } from '../../linalg/rank.js';
@@ -422,28 +427,24 @@ export function nullBasisIteration(side: Side, F: GramFactor, k: number, tol: nu
   const X: Block = { len: dim, re: [], im: ctx.complex ? [] : null };
   addRandomColumns(X, k, ctx.rand);
   const target = Math.max(1e-3 * tol, 16 * EPS * sigmaMax);
-  const yr = new Float64Array(side.A.rows);
-  const yi = ctx.complex ? new Float64Array(side.A.rows) : null;
+  // column by column work of k columns in chunks, on the helper thread's side too when there is one
+  const chunks = k * dim < SPLIT_WORK / 8 ? 1 : CHUNKS;
+  let A: SparseMatrix | null = null;
+  const norms = sharedFloats(k, 0);
   for (let solve = 1; solve <= 8; solve++) {
     ctx.check();
     ctx.progress(p0 + ((p1 - p0) * Math.min(solve, 3)) / 4, `null basis of ${side.opName}: solve ${solve} (${k} vectors)`);
     applyInverse(side, F, X);
     if (solve === 1) {
       // scale only; the second solve makes the null components dominate to ~(δ/σ²)²
-      for (let j = 0; j < k; j++) {
-        const nr = norm2(X.re[j], X.im ? X.im[j] : null) || 1;
-        const xr = X.re[j];
-        for (let i = 0; i < dim; i++) xr[i] /= nr;
-        if (X.im) for (let i = 0; i < dim; i++) X.im[j][i] /= nr;
-      }
+      inChunks('unitColumns', unitColumns, [X.re, X.im], chunks);
       continue;
     }
     if (!cholQr2(X)) orthonormalise(X, ctx.rand);
+    A ??= shareableMatrix(side.A);
+    inChunks('residualNorms', residualNorms, [A, X.re, X.im, norms], chunks);
     let worst = 0;
-    for (let j = 0; j < k; j++) {
-      matvec(side.A, X.re[j], X.im ? X.im[j] : null, yr, yi);
-      worst = Math.max(worst, norm2(yr, yi));
-    }
+    for (let j = 0; j < k; j++) worst = Math.max(worst, norms[j]);
     if (worst <= target) break;
   }
   return X;

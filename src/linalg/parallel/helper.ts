@@ -62,9 +62,9 @@ export function floatColumns(count: number, n: number, shared: boolean): Float64
 }
 
 /** `a` itself when it is shared or no thread is installed; else a shared copy (for small inputs such as k×k weights). */
-export function shareable(a: Float64Array): Float64Array {
+export function shareable<T extends Float64Array | Int32Array>(a: T): T {
   if (!installed || a.buffer instanceof SharedArrayBuffer) return a;
-  const c = new Float64Array(new SharedArrayBuffer(8 * a.length));
+  const c = (a instanceof Float64Array ? new Float64Array(new SharedArrayBuffer(8 * a.length)) : new Int32Array(new SharedArrayBuffer(4 * a.length))) as T;
   c.set(a);
   return c;
 }

@@ -2,7 +2,7 @@
  * The kernels the helper thread can run, by name (helper.ts's inParallel passes the name; the
  * thread looks the function up here). Each computes one part of a split kernel on shared arrays.
  */
-import { gramRows, timesUpperRows } from '../block.js';
+import { gramRows, residualNorms, timesUpperRows, unitColumns } from '../block.js';
 import { combineRows } from '../../flex/classify/cvec-ops.js';
 import { solveColumns } from '../sparse-ldl/numeric.js';
 import { realWeightedGram } from '../../flex/classify/rest-split.js';
@@ -10,6 +10,8 @@ import { realWeightedGram } from '../../flex/classify/rest-split.js';
 export const KERNELS = {
   gramRows,
   timesUpperRows,
+  unitColumns,
+  residualNorms,
   combineRows,
   solveColumns,
   realWeightedGram,
