@@ -6,7 +6,7 @@
  */
 import type { Uniform } from './random.js';
 import { sparseMatVecInto, type SparseMatrix } from './sparse.js';
-import { CHUNKS, chunkStart, floatColumns, inChunks, shareable, sharedFloats, SPLIT_WORK, triangleChunkStart } from './parallel/helper.js';
+import { CHUNKS, chunkStart, floatColumns, inChunks, runBeside, shareable, sharedFloats, SPLIT_WORK, touchPages, triangleChunkStart } from './parallel/helper.js';
 
 /** y = A x (y overwritten): the one sparse mat-vec, re-exported under the name the solvers use. */
 export const matvec = sparseMatVecInto;
@@ -31,9 +31,21 @@ export function addRandomColumns(b: Block, count: number, rand: Uniform): void {
   // one buffer for all the columns (the same draws, column by column, as randomColumn)
   const re = floatColumns(count, b.len, true);
   const im = b.im ? floatColumns(count, b.len, true) : null;
+  const fill = (from: number, to: number) => {
+    for (let c = from; c < to; c++) {
+      rand.fill(re[c]);
+      if (im) rand.fill(im[c]);
+    }
+  };
+  // the draws are sequential; the helper thread (if any) takes the page faults of the second half
+  // of the fresh columns while this one fills the first
+  const h = count >> 1;
+  if (count * b.len < SPLIT_WORK / 16) fill(0, count);
+  else {
+    runBeside('touchPages', touchPages, [im ? [...re.slice(h), ...im.slice(h)] : re.slice(h)], () => fill(0, h));
+    fill(h, count);
+  }
   for (let c = 0; c < count; c++) {
-    rand.fill(re[c]);
-    if (im) rand.fill(im[c]);
     b.re.push(re[c]);
     if (b.im) b.im.push(im![c]);
   }

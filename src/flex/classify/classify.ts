@@ -83,6 +83,7 @@
  *  - cvec-ops.ts: small complex helpers; line-directions.ts: the framework's line directions.
  */
 import { InputError } from '../../errors.js';
+import { prepareHelperThread, SPLIT_WORK } from '../../linalg/parallel/helper.js';
 import type { Supercell } from '../../supercell/supercell.js';
 import type { Classification, ClassifyOptions, FlexClass } from '../classes.js';
 import { throwIfAborted } from '../solver.js';
@@ -135,6 +136,8 @@ export function classifyFlexes(sc: Supercell, analysis: FlexAnalysis, options: C
   const ax = geo.ax;
   const J = sc.jointCount;
   const f = analysis.flexes;
+  // a basis of f vectors over 2J dofs is ahead: its kernels will be split between two threads
+  if (2 * J * f * f >= SPLIT_WORK) prepareHelperThread();
 
   const timings: Record<string, number> = {};
   let clock = performance.now();

@@ -24,6 +24,8 @@ export interface HelperThread {
   start(name: KernelName, args: readonly unknown[], counter: Int32Array, chunks: number): boolean;
   /** Block until the started kernel has finished; rethrows its error. */
   finish(): void;
+  /** Get ready to take work soon (a thread started lazily starts now). */
+  prepare?(): void;
 }
 
 let installed: HelperThread | null = null;
@@ -35,6 +37,11 @@ export function installHelperThread(h: HelperThread | null): void {
 
 export function helperThreadInstalled(): boolean {
   return installed !== null;
+}
+
+/** Large kernels are coming (e.g. a classification at scale): a lazily started thread starts now, so that it is ready for them. */
+export function prepareHelperThread(): void {
+  installed?.prepare?.();
 }
 
 /** Vectors shorter than this are not worth sharing (their kernels are too small to split). */
@@ -139,4 +146,35 @@ export function triangleChunkStart(k: number, c: number, chunks: number, align: 
   const b = 2 * k + 1;
   const t = (b - Math.sqrt(b * b - 4 * f * k * (k + 1))) / 2;
   return Math.min(k, align * Math.round(t / align));
+}
+
+/**
+ * kernel(...args, 0, 1) on the other thread while `mine()` runs here, when a thread is installed
+ * and every array in args is shared; otherwise kernel first, then mine, both here. The two must
+ * write disjoint memory and read nothing the other writes.
+ */
+export function runBeside<A extends unknown[]>(name: KernelName, kernel: ChunkKernel<A>, args: A, mine: () => void): void {
+  const h = installed;
+  if (h && allShared(args)) {
+    // the other thread claims the one chunk; this one never does
+    const counter = new Int32Array(new SharedArrayBuffer(4));
+    if (h.start(name, args, counter, 1)) {
+      try {
+        mine();
+      } finally {
+        h.finish();
+      }
+      return;
+    }
+  }
+  kernel(...args, 0, 1);
+  mine();
+}
+
+/**
+ * Write a zero to every 4 kB page of the columns (which must hold zeros): the page faults of fresh
+ * memory, taken on this thread so that another one can write the columns without them.
+ */
+export function touchPages(cols: Float64Array[], _chunk: number, _chunks: number): void {
+  for (const x of cols) for (let i = 0; i < x.length; i += 512) x[i] = 0;
 }

@@ -6,6 +6,7 @@ import { gramRows, residualNorms, timesUpperRows, unitColumns } from '../block.j
 import { combineRows } from '../../flex/classify/cvec-ops.js';
 import { solveColumns } from '../sparse-ldl/numeric.js';
 import { realWeightedGram } from '../../flex/classify/rest-split.js';
+import { touchPages } from './helper.js';
 
 export const KERNELS = {
   gramRows,
@@ -15,6 +16,7 @@ export const KERNELS = {
   combineRows,
   solveColumns,
   realWeightedGram,
+  touchPages,
 } as const;
 
 export type KernelName = keyof typeof KERNELS;

@@ -84,6 +84,9 @@ export function startHelperThread(options: { lazy?: boolean } = {}): RunningHelp
       tasks++;
       return true;
     },
+    prepare(): void {
+      if (!stopped) launch();
+    },
     finish(): void {
       if (!running) return;
       while (Atomics.load(control, 0) === 0) Atomics.wait(control, 0, 0);
