@@ -42,6 +42,21 @@ describe('analyse (src/api/run.ts) against shimmy classify --json', () => {
     });
   }
 
+  it('--gap bound (the default) and --gap value classify alike; keptSigma says which the gap holds', async () => {
+    // the sparse path certifies the count by inertia: a certified lower bound of the smallest kept σ
+    // can stand in for its value, which a Lanczos run would measure
+    const bound = await cliClassify('gallery:twisted-kagome?twist=15', '10x10', 'free', ['--solver', 'sparse']);
+    const value = await cliClassify('gallery:twisted-kagome?twist=15', '10x10', 'free', ['--solver', 'sparse', '--gap', 'value']);
+    expect(bound.keptSigma).toBe('lower-bound');
+    expect(value.keptSigma).toBe('measured');
+    expect(bound.counts).toEqual(value.counts);
+    expect(bound.modes.map((m: { class: string }) => m.class)).toEqual(value.modes.map((m: { class: string }) => m.class));
+    expect(bound.gap.kept).toBeGreaterThan(0);
+    expect(bound.gap.kept).toBeLessThanOrEqual(value.gap.kept);
+    const dense = await cliClassify('gallery:kagome', '4x4', 'free', ['--solver', 'dense']);
+    expect(dense.keptSigma).toBe('measured'); // every singular value is computed: nothing to bound
+  });
+
   it('matches published counts: square grid free 4×5 joints has 9 flexes, kagome periodic 4×6 has 12', () => {
     // square grid: 9 flexes (Bolker & Crapo, "Bracing rectangular frameworks I", SIAM J. Appl. Math. 1979)
     expect(analyse({ framework: buildGallery('gallery:square'), cells: [4, 5], boundary: 'free', classify: {} }).classification.flexes).toBe(9);

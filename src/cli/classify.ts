@@ -13,7 +13,7 @@ import { analyse } from '../api/run.js';
 import { parseNumberFlag, type FlagSpec, type ParsedArgs } from './args.js';
 import { progressLine, type ProgressLine } from './progress.js';
 import type { Command } from './command.js';
-import { BOUNDARY_HELP, checkSize, fmt, FRAMEWORK_HELP, readSupercellArgs, safeJson, safeText, SUPERCELL_FLAGS, table, titleOf, type SupercellArgs } from './common.js';
+import { BOUNDARY_HELP, checkSize, fmt, FRAMEWORK_HELP, GAP_FLAG, readGapFlag, readSupercellArgs, safeJson, safeText, SUPERCELL_FLAGS, table, titleOf, type SupercellArgs } from './common.js';
 
 export const CLASSIFY_FLAGS: FlagSpec[] = [
   { name: '--window', value: 'W', help: 'largest window (W×W cells) for local flexes', default: String(DEFAULT_WINDOW) },
@@ -47,7 +47,7 @@ export function readClassifyFlags(args: ParsedArgs): { window: number; strip: nu
   return { window: int('--window', DEFAULT_WINDOW), strip: int('--strip', DEFAULT_STRIP) };
 }
 
-export function runClassification(a: SupercellArgs, opts: { window: number; strip: number }, progress?: ProgressLine): ClassifyRun {
+export function runClassification(a: SupercellArgs, opts: { window: number; strip: number }, progress?: ProgressLine, gap: 'value' | 'bound' = 'bound'): ClassifyRun {
   // the size check in the CLI's wording (--cells, --allow-large), then the shared run
   checkSize(a, true);
   const { supercell, analysis, classification } = analyse({
@@ -59,6 +59,7 @@ export function runClassification(a: SupercellArgs, opts: { window: number; stri
     memoryLimit: a.memoryLimit,
     allowLarge: a.allowLarge,
     onProgress: progress?.report,
+    gap,
     classify: opts,
     sizeCheck: false,
   });
@@ -129,6 +130,7 @@ function outputObject(a: SupercellArgs, r: ClassifyRun, withVectors: boolean, si
     thresholds: c.thresholds,
     solver: r.analysis.solver,
     gap: r.analysis.gap,
+    keptSigma: r.analysis.status.keptSigma,
     warnings: c.warnings ?? [],
     modes: c.modes.map((m, i) => (withVectors ? { ...modeSummary(m, i), vector: { re: Array.from(m.vector.re), im: Array.from(m.vector.im) } } : modeSummary(m, i))),
     ...(withVectors ? { positions: Array.from(r.supercell.positions), vectorLayout: 'vector.re/im hold 2 entries per joint (x then y), joints in supercell order; positions likewise' } : {}),
@@ -146,6 +148,7 @@ export const classifyCommand: Command = {
   flags: [
     ...SUPERCELL_FLAGS,
     ...CLASSIFY_FLAGS,
+    GAP_FLAG,
     { name: '--stresses', help: 'also classify the self-stresses over bars (local, line, decaying, bulk; macroscopic stress per cell when both axes are periodic)' },
     { name: '--side-weights', help: `compute the side weights even above ${SIDE_WEIGHTS_ALWAYS_DOF} columns (they need the whole flex basis, which the classifier otherwise avoids)` },
     { name: '--json', help: 'print one JSON object (counts, thresholds, modes without vectors)' },
@@ -158,7 +161,7 @@ export const classifyCommand: Command = {
     const a = readSupercellArgs(args, io, 'classify');
     const opts = readClassifyFlags(args);
     const outPath = args.flags.get('--out') as string | undefined;
-    const r = runClassification(a, opts, progressLine(io, 'classify'));
+    const r = runClassification(a, opts, progressLine(io, 'classify'), readGapFlag(args));
     const c = r.classification;
     const sides = args.flags.has('--side-weights') || r.analysis.dof <= SIDE_WEIGHTS_ALWAYS_DOF ? sideWeights(r.supercell, r.analysis) : null;
     const st = args.flags.has('--stresses') ? classifyStresses(r.supercell, r.analysis, opts) : null;

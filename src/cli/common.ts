@@ -33,6 +33,22 @@ export const SUPERCELL_FLAGS: FlagSpec[] = [
   { name: '--allow-large', help: 'run even when the size estimate is over 1.5 GB or 10 minutes (still refused beyond this machine\'s memory)' },
 ];
 
+/** --gap: measure the smallest kept σ, or let a certified lower bound stand in (count and classify). */
+export const GAP_FLAG: FlagSpec = {
+  name: '--gap',
+  value: 'value|bound',
+  help: 'value: measure the smallest kept σ on every path; bound: where the count is certified by an inertia count, report its certified lower bound instead (faster)',
+  default: 'bound',
+};
+
+export function readGapFlag(args: ParsedArgs): 'value' | 'bound' {
+  const gapText = (args.flags.get('--gap') as string | undefined) ?? 'bound';
+  if (gapText !== 'value' && gapText !== 'bound') {
+    throw new InputError('The --gap value cannot be used:', [{ where: '--gap', what: `"${safeText(gapText)}" is not a choice`, fix: 'give --gap value (measure the smallest kept σ) or --gap bound (its certified lower bound, faster)' }]);
+  }
+  return gapText;
+}
+
 export interface SupercellArgs {
   spec: string;
   framework: Framework;

@@ -10,7 +10,7 @@ import { describeBoundary } from '../supercell/boundary.js';
 import { prestress, type PrestressResult } from '../stress/prestress.js';
 import type { Command } from './command.js';
 import { progressLine } from './progress.js';
-import { BOUNDARY_HELP, checkSize, fmt, safeText, FRAMEWORK_HELP, readSupercellArgs, safeJson, SUPERCELL_FLAGS, table, titleOf } from './common.js';
+import { BOUNDARY_HELP, checkSize, fmt, FRAMEWORK_HELP, GAP_FLAG, readGapFlag, readSupercellArgs, safeJson, SUPERCELL_FLAGS, table, titleOf } from './common.js';
 
 export const countCommand: Command = {
   name: 'count',
@@ -18,7 +18,7 @@ export const countCommand: Command = {
   usage: 'shimmy count FRAMEWORK [--cells 8x8] [--bc SPEC] [--tol 1e-9] [--verify] [--prestress] [--json]',
   flags: [
     ...SUPERCELL_FLAGS,
-    { name: '--gap', value: 'value|bound', help: 'value: measure the smallest kept σ on every path; bound: where the count is certified by an inertia count, report its certified lower bound instead (faster)', default: 'bound' },
+    GAP_FLAG,
     { name: '--verify', help: 'also compute both bases and check them independently: ‖R v‖ and ‖Rᴴ w‖ within the tolerance, orthonormal, as many as the count claims (exit code 4 when the check fails)' },
     { name: '--prestress', help: 'also check prestress stability: whether some self-stress makes the stress energy positive on every non-trivial flex (computes both bases; real boundaries only)' },
     { name: '--json', help: 'print one JSON object instead of a table (with `seconds`, the time the count took)' },
@@ -31,10 +31,7 @@ export const countCommand: Command = {
     checkSize(a, args.flags.has('--verify') || args.flags.has('--prestress')); // both compute both bases
     const progress = progressLine(io, 'count');
     const started = performance.now();
-    const gapText = (args.flags.get('--gap') as string | undefined) ?? 'bound';
-    if (gapText !== 'value' && gapText !== 'bound') {
-      throw new InputError('The --gap value cannot be used:', [{ where: '--gap', what: `"${safeText(gapText)}" is not a choice`, fix: 'give --gap value (measure the smallest kept σ) or --gap bound (its certified lower bound, faster)' }]);
-    }
+    const gapText = readGapFlag(args);
     // --verify computes both bases: then the Lanczos run for the kept σ is cheap beside them
     const gap = args.flags.has('--verify') ? 'value' : gapText;
     const { supercell, analysis } = count({ framework: a.framework, cells: a.cells, boundary: a.boundary, tolerance: a.tolerance, solver: a.solver, allowLarge: a.allowLarge, memoryLimit: a.memoryLimit, gap, onProgress: progress.report });
