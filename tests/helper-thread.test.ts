@@ -9,8 +9,9 @@ import fc from 'fast-check';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { combineColumns, type Cx } from '../src/flex/classify/cvec-ops.js';
 import { weightedGram } from '../src/flex/classify/rest-split.js';
-import { cholQr2, orthonormalityDefect, type Block } from '../src/linalg/block.js';
-import { chunkStart, helperThreadInstalled, inChunks, sharedFloats, SPLIT_WORK, triangleChunkStart } from '../src/linalg/parallel/helper.js';
+import { addRandomColumns, cholQr2, orthonormalityDefect, residualNorms, shareableMatrix, unitColumns, type Block } from '../src/linalg/block.js';
+import { seededUniform } from '../src/linalg/random.js';
+import { CHUNKS, chunkStart, helperThreadInstalled, inChunks, sharedFloats, SPLIT_WORK, triangleChunkStart } from '../src/linalg/parallel/helper.js';
 import { startHelperThread, threadsWanted, type RunningHelper } from '../src/linalg/parallel/node-thread.js';
 import { analyseHermitian, sparseLdl, type HermitianCsr } from '../src/linalg/sparse-ldl/index.js';
 import { rng } from './helpers.js';
@@ -114,6 +115,9 @@ function gridMatrix(k: number, shift: number, complex: boolean): HermitianCsr {
 }
 
 interface Results {
+  random: Float64Array[];
+  unit: Float64Array[];
+  residuals: Float64Array;
   qr: Float64Array[];
   combined: Float64Array[];
   gram: Float64Array;
@@ -123,6 +127,17 @@ interface Results {
 
 /** Every split kernel on fixed inputs (the same with or without the thread), for one data type. */
 function runKernels(complex: boolean): Results {
+  // a random start block (the helper takes the page faults of its second half), its columns
+  // scaled to unit length and their residual norms against a sparse matrix, in chunks
+  const start: Block = { len: 40_000, re: [], im: complex ? [] : null };
+  addRandomColumns(start, 64, seededUniform(3, -0.5, 0.5));
+  const random = [...start.re, ...(start.im ?? [])].map((x) => Float64Array.from(x));
+  inChunks('unitColumns', unitColumns, [start.re, start.im], CHUNKS);
+  const grid = gridMatrix(200, 0.5, complex);
+  const M = shareableMatrix({ rows: grid.n, cols: grid.n, rowPtr: grid.ptr, colIdx: grid.idx, re: grid.re, im: grid.im });
+  const residuals = sharedFloats(64, 0);
+  inChunks('residualNorms', residualNorms, [M, start.re, start.im, residuals], CHUNKS);
+
   const n = 30_000;
   const X = nearlyParallel(n, complex ? 32 : 48, complex, 11);
   expect(X.re.length ** 2 * n).toBeGreaterThanOrEqual(SPLIT_WORK);
@@ -171,6 +186,9 @@ function runKernels(complex: boolean): Results {
     residual = Math.max(residual, Math.abs(sr - cols[0][v]), Math.abs(si - (colsIm ? colsIm[0][v] : 0)));
   }
   return {
+    random,
+    unit: [...start.re, ...(start.im ?? [])],
+    residuals: Float64Array.from(residuals),
     qr: [...X.re, ...(X.im ?? [])],
     combined: out.flatMap((o) => (complex ? [o.re, o.im] : [o.re])),
     gram: G.re,
@@ -205,12 +223,17 @@ describe('split kernels on two threads give the one-thread results bit for bit',
   });
 
   for (const kind of ['real', 'complex'] as const) {
-    it(`${kind}: Cholesky QR, Ψ·W, the weighted Gram and block solves`, () => {
+    it(`${kind}: random start block, unit columns, residual norms, Cholesky QR, Ψ·W, the weighted Gram and block solves`, () => {
       const before = helper.tasks;
       const two = runKernels(kind === 'complex');
-      // cholQr2 (two Grams, two products), combineColumns, weightedGram, solveBlock
-      expect(helper.tasks - before).toBeGreaterThanOrEqual(6);
+      // the page faults of the random block, unitColumns, residualNorms, cholQr2 (two Grams, two
+      // products), combineColumns, weightedGram, solveBlock
+      expect(helper.tasks - before).toBeGreaterThanOrEqual(9);
       const ref = one[kind];
+      expect(differences(two.random, ref.random)).toBe(0);
+      expect(differences(two.unit, ref.unit)).toBe(0);
+      expect(differences([two.residuals], [ref.residuals])).toBe(0);
+      expect(two.residuals.every((x) => x > 0 && Number.isFinite(x))).toBe(true);
       expect(differences(two.qr, ref.qr)).toBe(0);
       expect(differences(two.combined, ref.combined)).toBe(0);
       expect(differences([two.gram], [ref.gram])).toBe(0);
