@@ -1,6 +1,6 @@
 /**
- * The kernels the helper thread can run, by name (helper.ts's inParallel passes the name; the
- * thread looks the function up here). Each computes one part of a split kernel on shared arrays.
+ * The kernels the helper thread can run, by name (helper.ts's inChunks and runBeside pass the
+ * name; the thread looks the function up here). Each computes chunks of its output on shared arrays.
  */
 import { gramRows, residualNorms, timesUpperRows, unitColumns } from '../block.js';
 import { combineRows } from '../../flex/classify/cvec-ops.js';
