@@ -4,7 +4,8 @@
  * (src/linalg/block.ts).
  */
 import { describe, expect, it } from 'vitest';
-import { cholQr2, norm2, orthonormalityDefect, type Block } from '../src/linalg/block.js';
+import { norm2, orthonormalityDefect, type Block } from '../src/linalg/block.js';
+import { cholQr2 } from '../src/linalg/cholesky-qr.js';
 import { hermitianEigen } from '../src/linalg/hermitian-eig.js';
 import { seededUniform } from '../src/linalg/random.js';
 import { gershgorinBounds, sturmCount, tridiagonalEigenvalue, tridiagonalEigenvalues, tridiagonalMax } from '../src/linalg/tridiagonal.js';

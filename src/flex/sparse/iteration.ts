@@ -5,7 +5,6 @@
 import {
   addRandomColumns,
   axpy,
-  cholQr2,
   identityBlock,
   matvec,
   norm2,
@@ -16,6 +15,7 @@ import {
   unitColumns,
   type Block,
 } from '../../linalg/block.js';
+import { cholQr2 } from '../../linalg/cholesky-qr.js';
 import { CHUNKS, inChunks, sharedFloats, SPLIT_WORK } from '../../linalg/parallel/helper.js';
 import type { SparseMatrix } from '../../linalg/sparse.js';
 import { certifyCount, type CountCertificate } from '../../linalg/count-certificate.js';
