@@ -6,7 +6,7 @@
  */
 import type { Uniform } from './random.js';
 import { sparseMatVecInto, type SparseMatrix } from './sparse.js';
-import { chunkStart, floatColumns, runBeside, shareable, sharedFloats, SPLIT_WORK, touchPages } from './parallel/helper.js';
+import { chunkStart, floatColumns, runBeside, shareable, sharedFloats, SPLIT_ENTRIES, touchPages } from './parallel/helper.js';
 
 /** y = A x (y overwritten): the one sparse mat-vec, re-exported under the name the solvers use. */
 export const matvec = sparseMatVecInto;
@@ -40,7 +40,7 @@ export function addRandomColumns(b: Block, count: number, rand: Uniform): void {
   // the draws are sequential; the helper thread (if any) takes the page faults of the second half
   // of the fresh columns while this one fills the first
   const h = count >> 1;
-  if (count * b.len < SPLIT_WORK / 16) fill(0, count);
+  if (count * b.len < SPLIT_ENTRIES) fill(0, count);
   else {
     runBeside('touchPages', touchPages, [im ? [...re.slice(h), ...im.slice(h)] : re.slice(h)], () => fill(0, h));
     fill(h, count);

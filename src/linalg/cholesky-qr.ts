@@ -2,8 +2,8 @@
  * Orthonormalisation of tall blocks by Cholesky QR, twice (CholQR2; common practice): G = XᴴX,
  * G = UᴴU, X ← X·U⁻¹. The two O(k²n) steps (the Gram matrix and the product with U⁻¹) are cut into
  * chunks of rows that the helper thread shares (parallel/helper.ts), each summed in the order of
- * the single-thread code, and in blocks of rows that stay in cache; the k×k steps are functions
- * of their own.
+ * the single-thread code, and (the real Gram and X·T) in blocks of rows that stay in cache; the
+ * k×k steps are functions of their own.
  */
 import { realDots2Add, realDotsAdd, type Block } from './block.js';
 import { CHUNKS, chunkStart, inChunks, sharedFloats, SPLIT_WORK, triangleChunkStart } from './parallel/helper.js';

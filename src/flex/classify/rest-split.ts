@@ -1,7 +1,6 @@
 /**
  * The near/far split of the rest by the nearest-side distance operator.
  */
-import { cnorm as norm } from '../../linalg/complex.js';
 import { allReal, combineColumns, hermitianEigen, normaliseInPlace, type Cx, type SpanPart } from './cvec-ops.js';
 import type { Geometry } from './metrics.js';
 import type { Axes } from './regions.js';

@@ -3,7 +3,6 @@
  * reference: the rows of Ψᴴ, the pivot rule and its direction in the plane of a joint, the
  * elimination of a row, and the forming of the localised vectors Ψ·(E·polar(…)) at the end.
  */
-import { cnorm as norm } from '../../linalg/complex.js';
 import { combineColumns, normaliseInPlace } from './cvec-ops.js';
 import { polarFactor } from './polar.js';
 

@@ -16,7 +16,7 @@ import {
   type Block,
 } from '../../linalg/block.js';
 import { cholQr2 } from '../../linalg/cholesky-qr.js';
-import { CHUNKS, inChunks, sharedFloats, SPLIT_WORK } from '../../linalg/parallel/helper.js';
+import { CHUNKS, inChunks, sharedFloats, SPLIT_ENTRIES } from '../../linalg/parallel/helper.js';
 import type { SparseMatrix } from '../../linalg/sparse.js';
 import { certifyCount, type CountCertificate } from '../../linalg/count-certificate.js';
 import { hermitianEigen } from '../../linalg/hermitian-eig.js';
@@ -428,7 +428,7 @@ export function nullBasisIteration(side: Side, F: GramFactor, k: number, tol: nu
   addRandomColumns(X, k, ctx.rand);
   const target = Math.max(1e-3 * tol, 16 * EPS * sigmaMax);
   // column by column work of k columns in chunks, on the helper thread's side too when there is one
-  const chunks = k * dim < SPLIT_WORK / 8 ? 1 : CHUNKS;
+  const chunks = k * dim < SPLIT_ENTRIES ? 1 : CHUNKS;
   let A: SparseMatrix | null = null;
   const norms = sharedFloats(k, 0);
   for (let solve = 1; solve <= 8; solve++) {

@@ -82,6 +82,12 @@ export function shareable<T extends Float64Array | Int32Array>(a: T): T {
  */
 export const SPLIT_WORK = 2e7;
 
+/**
+ * Passes over memory (scaling columns, residual norms, first touches) of fewer entries than this
+ * run whole on the calling thread: one multiply-add per entry, so the threshold is lower.
+ */
+export const SPLIT_ENTRIES = 2e6;
+
 /** Chunks of a split kernel: enough that the faster thread can take more, each still long. */
 export const CHUNKS = 8;
 
