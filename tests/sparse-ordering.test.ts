@@ -481,29 +481,40 @@ describe('nested dissection by coordinate bisection', () => {
 });
 
 describe('symbolic analysis', () => {
-  it('column and row counts, nnz(L) and flops equal a dense boolean elimination under a nested-dissection order', () => {
-    const { g, p } = geometricGraph(14, 31);
-    const order = nestedDissection(g, { positions: p, leafSize: 8 });
-    const sym = analyse(g, order);
+  /** Dense boolean elimination of g's pattern under `order`: column and row counts and each column's rows. */
+  function eliminate(g: Graph, order: Int32Array) {
     const n = g.n;
     const perm = inverse(order);
-    // pattern of the permuted matrix, eliminated densely
     const M = Array.from({ length: n }, () => new Uint8Array(n));
     for (let v = 0; v < n; v++) for (let t = g.ptr[v]; t < g.ptr[v + 1]; t++) M[perm[v]][perm[g.adj[t]]] = 1;
     const col = new Int32Array(n);
     const row = new Int32Array(n);
+    const pattern: number[][] = [];
     for (let k = 0; k < n; k++) {
       const below = [];
       for (let i = k; i < n; i++) if (i === k || M[i][k]) below.push(i);
       col[k] = below.length;
+      pattern.push(below);
       for (const i of below) row[i]++;
       for (const i of below) for (const j of below) if (i !== k && j !== k) M[i][j] = 1;
     }
+    return { col, row, pattern };
+  }
+
+  it('column and row counts, nnz(L) and flops equal a dense boolean elimination; the equivalent order has the same fill', () => {
+    const { g, p } = geometricGraph(14, 31);
+    const order = nestedDissection(g, { positions: p, leafSize: 8 });
+    const sym = analyse(g, order);
+    // the analysis renumbers (a postorder, merged supernodes in runs): the same fill as the order given
+    const given = eliminate(g, order);
+    const { col, row, pattern } = eliminate(g, sym.order);
+    expect(col.reduce((a, b) => a + b, 0)).toBe(given.col.reduce((a, b) => a + b, 0));
+    expect(Array.from(col, (c) => c * c).reduce((a, b) => a + b, 0)).toBe(Array.from(given.col, (c) => c * c).reduce((a, b) => a + b, 0));
     expect(Array.from(sym.colCount)).toEqual(Array.from(col));
     expect(Array.from(sym.rowCount)).toEqual(Array.from(row));
     expect(sym.dotLength).toBe(Math.max(...row));
     expect(sym.rowWidth).toBe(Math.max(...Array.from(row, (r, j) => r + col[j] - 1)));
-    // every column of a supernode lies in it, and the stored fronts cover L's pattern
+    // every column of a supernode lies in it, and its rows from that column on cover the column's pattern
     let stored = 0;
     for (let s = 0; s + 1 < sym.superStart.length; s++) {
       const w = sym.superStart[s + 1] - sym.superStart[s];
@@ -511,9 +522,26 @@ describe('symbolic analysis', () => {
       for (let k = 0; k < w; k++) stored += nf - k;
       const rows = Array.from(sym.superRows.subarray(sym.rowPtr[s], sym.rowPtr[s + 1]));
       expect(rows).toEqual([...rows].sort((a, b) => a - b));
+      for (let k = 0; k < w; k++) {
+        const j = sym.superStart[s] + k;
+        expect(rows[k]).toBe(j);
+        const front = new Set(rows.slice(k));
+        expect(pattern[j].filter((i) => !front.has(i))).toEqual([]);
+      }
     }
     expect(sym.nnzL).toBe(stored);
     expect(sym.nnzL).toBeGreaterThanOrEqual(col.reduce((a, b) => a + b, 0));
+    // relaxed supernodes: fewer than the fundamental ones, and some hold two siblings' columns
+    // (a column whose tree parent is not the next column: merged across a branch)
+    const childCount = new Int32Array(g.n);
+    for (let j = 0; j < g.n; j++) if (sym.parent[j] >= 0) childCount[sym.parent[j]]++;
+    let fundamental = 1;
+    for (let j = 1; j < g.n; j++) if (!(sym.parent[j - 1] === j && childCount[j] === 1 && col[j - 1] === col[j] + 1)) fundamental++;
+    const supernodes = sym.superStart.length - 1;
+    expect(supernodes).toBeLessThan(fundamental);
+    let acrossBranches = 0;
+    for (let s = 0; s < supernodes; s++) for (let j = sym.superStart[s]; j + 1 < sym.superStart[s + 1]; j++) if (sym.parent[j] !== j + 1) acrossBranches++;
+    expect(acrossBranches).toBeGreaterThan(0);
   });
 });
 

@@ -165,3 +165,20 @@ export function conjugateTranspose(A: SparseMatrix): SparseMatrix {
   }
   return { rows: A.cols, cols: A.rows, rowPtr, colIdx, re, im };
 }
+
+/** Sorts a[from … to − 1] ascending: insertion sort for a short run, the typed-array sort beyond. */
+export function sortRows(a: Int32Array, from: number, to: number): void {
+  if (to - from > 24) {
+    a.subarray(from, to).sort();
+    return;
+  }
+  for (let t = from + 1; t < to; t++) {
+    const v = a[t];
+    let u = t - 1;
+    while (u >= from && a[u] > v) {
+      a[u + 1] = a[u];
+      u--;
+    }
+    a[u + 1] = v;
+  }
+}

@@ -4,8 +4,7 @@
  */
 import { createBand, reverseCuthillMcKee, type BandMatrix, type Graph } from '../../linalg/banded.js';
 import type { HermitianCsr } from '../../linalg/sparse-ldl/index.js';
-import { sortRows } from '../../linalg/sparse-ldl/symbolic.js';
-import type { SparseMatrix } from '../../linalg/sparse.js';
+import { sortRows, type SparseMatrix } from '../../linalg/sparse.js';
 
 // ---------------------------------------------------------------------------------------------
 // Sides, orderings, Gram bands

@@ -1,12 +1,15 @@
 /**
  * Symbolic analysis of a sparse LDLᴴ, once per pattern and ordering: the elimination tree
  * (J. W. H. Liu, "The role of elimination trees in sparse factorization", SIAM J. Matrix Anal.
- * Appl. 11, 134–172, 1990), row and column counts of L from the row subtrees, and supernodes:
- * runs of consecutive columns j, j+1, … where each is the next one's only child in the tree and
- * their columns of L share one pattern below the run (common practice). Each supernode's rows
- * (its own columns, then the rows below) are the front of the multifrontal factorisation.
+ * Appl. 11, 134–172, 1990), row and column counts of L from the row
+ * subtrees, and supernodes: runs of consecutive columns j, j+1, … where each is the next one's
+ * only child in the tree and their columns of L share one pattern below the run (common
+ * practice), then merged into fewer, wider ones (amalgamate.ts). Each supernode's rows (its own
+ * columns, then the rows below) are the front of the multifrontal factorisation.
  */
 import type { Graph } from '../banded.js';
+import { sortRows } from '../sparse.js';
+import { amalgamate, type Structure } from './amalgamate.js';
 
 export interface SymbolicFactor {
   n: number;
@@ -40,17 +43,22 @@ export interface SymbolicFactor {
 }
 
 /**
- * Analyse the pattern g (neighbours of each unknown; self loops ignored) under `order`.
- * `maxSupernode` caps the columns of one supernode (default 256).
+ * Analyse the pattern g (neighbours of each unknown; self loops ignored) under `ordering`. The
+ * result's `order` may be a different, equivalent one (the same fill): when supernodes merge, the
+ * columns are renumbered so each merged one is a run. `maxSupernode` caps the columns of one supernode
+ * (default 256).
  */
-export function analyse(g: Graph, order: Int32Array, maxSupernode = 256): SymbolicFactor {
+export function analyse(g: Graph, ordering: Int32Array, maxSupernode = 256): SymbolicFactor {
   const n = g.n;
-  if (order.length !== n) throw new RangeError(`analyse: an ordering of ${order.length} for ${n} unknowns`);
+  if (ordering.length !== n) throw new RangeError(`analyse: an ordering of ${ordering.length} for ${n} unknowns`);
   const perm = new Int32Array(n).fill(-1);
-  for (let i = 0; i < n; i++) perm[order[i]] = i;
+  for (let i = 0; i < n; i++) perm[ordering[i]] = i;
   for (let i = 0; i < n; i++) if (perm[i] < 0) throw new RangeError('analyse: the ordering is not a permutation');
   // each step is its own function: V8 compiles a long first run of a loop with the feedback
   // gathered so far, so one function holding every loop was compiled again at each new loop
+  // (no postorder first: nested dissection's orders come out postordered, or nearly, and the
+  // merging renumbers the columns by a postorder of the merged tree anyway)
+  const order = ordering;
   const parent = eliminationTree(g, order, perm);
   const colCount = new Int32Array(n).fill(1);
   const rowCount = new Int32Array(n).fill(1);
@@ -69,7 +77,7 @@ export function analyse(g: Graph, order: Int32Array, maxSupernode = 256): Symbol
   for (let s = 0; s < ns; s++) rowPtr[s + 1] = rowPtr[s] + colCount[superStart[s]];
   mark.fill(-1);
   const superRows = supernodeRows(g, order, perm, superStart, superParent, rowPtr, mark);
-  return finish(relax({ n, order, perm, parent, colCount, rowCount, superStart, rowPtr, superRows, superParent }, maxSupernode));
+  return finish(amalgamate({ n, order, perm, parent, colCount, rowCount, superStart, rowPtr, superRows, superParent }, maxSupernode));
 }
 
 /** Elimination tree over the new indices, with path compression through `ancestor` (−1 at a root). */
@@ -184,95 +192,6 @@ function supernodeRows(g: Graph, order: Int32Array, perm: Int32Array, superStart
     sortRows(superRows, base, w);
   }
   return superRows;
-}
-
-/** Sorts a[from … to − 1] ascending: insertion sort for a short run, the typed-array sort beyond. */
-export function sortRows(a: Int32Array, from: number, to: number): void {
-  if (to - from > 24) {
-    a.subarray(from, to).sort();
-    return;
-  }
-  for (let t = from + 1; t < to; t++) {
-    const v = a[t];
-    let u = t - 1;
-    while (u >= from && a[u] > v) {
-      a[u + 1] = a[u];
-      u--;
-    }
-    a[u + 1] = v;
-  }
-}
-
-type Structure = Pick<SymbolicFactor, 'n' | 'order' | 'perm' | 'parent' | 'colCount' | 'rowCount' | 'superStart' | 'rowPtr' | 'superRows' | 'superParent'>;
-
-/** Entries of a supernode's trapezoid: w columns over nf rows, diagonal included. */
-const trapezoid = (w: number, nf: number) => w * nf - (w * (w - 1)) / 2;
-
-/**
- * Relaxed supernodes (C. Ashcraft & R. Grimes, "The influence of relaxed supernode partitions on
- * the multifrontal method", ACM Trans. Math. Softw. 15, 291–309, 1989): a supernode is merged
- * with its parent when the parent comes next, so the two become one front, as long as the
- * explicit zeros this stores stay few (the merged front has at most 16 columns, or the zeros are
- * at most a tenth of its entries). Fewer, larger fronts run faster than many tiny ones.
- */
-function relax(st: Structure, maxSupernode: number): Structure {
-  const { superStart, rowPtr, superRows, superParent } = st;
-  const ns = superStart.length - 1;
-  // group g = fundamental supernodes gA[g] … gB[g]; merged when the group's top has s+1 as parent
-  const gA = new Int32Array(ns);
-  const gB = new Int32Array(ns);
-  let G = 0;
-  let gFirst = 0;
-  let trueEntries = 0;
-  for (let s = 0; s < ns; s++) {
-    const w = superStart[s + 1] - superStart[s];
-    const nf = rowPtr[s + 1] - rowPtr[s];
-    if (s === gFirst) {
-      trueEntries = trapezoid(w, nf);
-      continue;
-    }
-    const top = s - 1;
-    const gw = superStart[s] - superStart[gFirst];
-    const mergedW = gw + w;
-    const mergedEntries = trapezoid(mergedW, gw + nf);
-    const zeros = mergedEntries - trueEntries - trapezoid(w, nf);
-    const joins = superParent[top] === s && mergedW <= maxSupernode && (mergedW <= 16 || zeros <= 0.1 * mergedEntries);
-    if (joins) trueEntries += trapezoid(w, nf);
-    else {
-      gA[G] = gFirst;
-      gB[G++] = top;
-      gFirst = s;
-      trueEntries = trapezoid(w, nf);
-    }
-  }
-  if (ns > 0) {
-    gA[G] = gFirst;
-    gB[G++] = ns - 1;
-  }
-  if (G === ns) return st;
-  const groupOf = new Int32Array(ns);
-  for (let g = 0; g < G; g++) groupOf.fill(g, gA[g], gB[g] + 1);
-  const start = new Int32Array(G + 1);
-  const ptr = new Int32Array(G + 1);
-  const parentG = new Int32Array(G).fill(-1);
-  for (let g = 0; g < G; g++) {
-    const a = gA[g];
-    const b = gB[g];
-    start[g] = superStart[a];
-    // rows: the group's columns before its top, then the top's rows
-    ptr[g + 1] = ptr[g] + (superStart[b] - superStart[a]) + (rowPtr[b + 1] - rowPtr[b]);
-    parentG[g] = superParent[b] >= 0 ? groupOf[superParent[b]] : -1;
-  }
-  start[G] = st.n;
-  const rows = new Int32Array(ptr[G]);
-  for (let g = 0; g < G; g++) {
-    const a = gA[g];
-    const b = gB[g];
-    let w = ptr[g];
-    for (let j = superStart[a]; j < superStart[b]; j++) rows[w++] = j;
-    for (let t = rowPtr[b]; t < rowPtr[b + 1]; t++) rows[w++] = superRows[t];
-  }
-  return { ...st, superStart: start, rowPtr: ptr, superRows: rows, superParent: parentG };
 }
 
 /** The figures of a structure: sizes, flops, the update matrices' peak. */

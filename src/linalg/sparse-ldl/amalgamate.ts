@@ -1,0 +1,172 @@
+/**
+ * Relaxed supernodes (C. Ashcraft & R. Grimes, "The influence of relaxed supernode partitions on
+ * the multifrontal method", ACM Trans. Math. Softw. 15, 291–309, 1989): a supernode is merged into
+ * its parent when the explicit zeros this stores stay few, so the two become one front. Fewer,
+ * larger fronts run faster than many tiny ones: a nested-dissection ordering of a lattice leaves
+ * tens of thousands of one- and two-column supernodes in its leaves.
+ *
+ * Any child may be merged, not only the one numbered just before its parent: the columns are
+ * renumbered afterwards by a postorder of the merged tree, each merged front's columns in a run.
+ * Every topological order of the elimination tree (children before parents) has the same filled
+ * pattern up to the renumbering (J. W. H. Liu, "The role of elimination trees in sparse
+ * factorization", SIAM J. Matrix Anal. Appl. 11, 134–172, 1990), so only the stored zeros change.
+ */
+import { sortRows } from '../sparse.js';
+import type { SymbolicFactor } from './symbolic.js';
+
+export type Structure = Pick<SymbolicFactor, 'n' | 'order' | 'perm' | 'parent' | 'colCount' | 'rowCount' | 'superStart' | 'rowPtr' | 'superRows' | 'superParent'>;
+
+/** Entries of a supernode's trapezoid: w columns over nf rows, diagonal included. */
+export const trapezoid = (w: number, nf: number) => w * nf - (w * (w - 1)) / 2;
+
+/**
+ * How many stored zeros a merged front may hold, as a fraction of its entries, by its columns:
+ * small fronts are dominated by the cost of visiting them, so they take many zeros; wide ones
+ * do real work, so they take few (set by measurement on open kagome supercells: nested dissection
+ * leaves of 1–3 columns merge, the flops grow by a few per cent).
+ */
+export function zerosAllowed(columns: number): number {
+  if (columns <= 8) return 0.5;
+  if (columns <= 32) return 0.15;
+  return 0.05;
+}
+
+/**
+ * Merge supernodes into their parents while the zeros stay within `zerosAllowed`, then renumber
+ * the columns by a postorder of the merged tree, so each merged front is a run (order, perm, the
+ * elimination tree and the counts renumbered alike).
+ */
+export function amalgamate(st: Structure, maxSupernode: number): Structure {
+  const { superStart, rowPtr, superParent } = st;
+  const ns = superStart.length - 1;
+  // per group, kept at its top supernode: columns, rows below the front's columns, true entries
+  const cols = new Int32Array(ns);
+  const below = new Int32Array(ns);
+  const entries = new Float64Array(ns);
+  const head = new Int32Array(ns).fill(-1);
+  const next = new Int32Array(ns).fill(-1);
+  for (let s = ns - 1; s >= 0; s--) {
+    cols[s] = superStart[s + 1] - superStart[s];
+    below[s] = rowPtr[s + 1] - rowPtr[s] - cols[s];
+    entries[s] = trapezoid(cols[s], rowPtr[s + 1] - rowPtr[s]);
+    const p = superParent[s];
+    if (p >= 0) {
+      next[s] = head[p];
+      head[p] = s;
+    }
+  }
+  // a child's number is below its parent's, so each child is decided first and is its group's top
+  const into = new Int32Array(ns).fill(-1);
+  let merged = 0;
+  const cand: number[] = [];
+  const cost = new Float64Array(ns);
+  for (let p = 0; p < ns; p++) {
+    cand.length = 0;
+    for (let c = head[p]; c >= 0; c = next[c]) cand.push(c);
+    if (cand.length === 0) continue;
+    const zerosWith = (c: number) => {
+      const w = cols[p] + cols[c];
+      return trapezoid(w, w + below[p]) - entries[p] - entries[c];
+    };
+    if (cand.length > 1) {
+      for (const c of cand) cost[c] = zerosWith(c);
+      cand.sort((a, b) => cost[a] - cost[b] || a - b);
+    }
+    for (const c of cand) {
+      const w = cols[p] + cols[c];
+      const stored = trapezoid(w, w + below[p]);
+      const zeros = stored - entries[p] - entries[c];
+      if (w > maxSupernode || zeros > zerosAllowed(w) * stored) continue;
+      cols[p] = w;
+      entries[p] += entries[c];
+      into[c] = p;
+      merged++;
+    }
+  }
+  if (merged === 0) return st;
+  return renumber(st, into);
+}
+
+/** The structure of the merged fronts (into[s] = the supernode s was merged into, −1 for a top). */
+function renumber(st: Structure, into: Int32Array): Structure {
+  const { n, order, parent, colCount, rowCount, superStart, rowPtr, superRows, superParent } = st;
+  const ns = superStart.length - 1;
+  // the top of each supernode's group (merges point upwards, so one pass from the roots down)
+  const top = new Int32Array(ns);
+  for (let s = ns - 1; s >= 0; s--) top[s] = into[s] < 0 ? s : top[into[s]];
+  // members of each group, ascending (children before parents); the groups' tree
+  const memberHead = new Int32Array(ns).fill(-1);
+  const memberNext = new Int32Array(ns).fill(-1);
+  const groupHead = new Int32Array(ns).fill(-1);
+  const groupNext = new Int32Array(ns).fill(-1);
+  for (let s = ns - 1; s >= 0; s--) {
+    const g = top[s];
+    memberNext[s] = memberHead[g];
+    memberHead[g] = s;
+    if (g === s && superParent[s] >= 0) {
+      const pg = top[superParent[s]];
+      groupNext[s] = groupHead[pg];
+      groupHead[pg] = s;
+    }
+  }
+  // a postorder of the groups; q[old column] = new column
+  const q = new Int32Array(n);
+  const groupIndex = new Int32Array(ns).fill(-1);
+  const tops: number[] = [];
+  const starts: number[] = [];
+  const stack = new Int32Array(ns);
+  let col = 0;
+  for (let r = 0; r < ns; r++) {
+    if (top[r] !== r || superParent[r] >= 0) continue;
+    let depth = 0;
+    stack[0] = r;
+    while (depth >= 0) {
+      const g = stack[depth];
+      const c = groupHead[g];
+      if (c >= 0) {
+        groupHead[g] = groupNext[c];
+        stack[++depth] = c;
+        continue;
+      }
+      depth--;
+      groupIndex[g] = tops.length;
+      tops.push(g);
+      starts.push(col);
+      for (let m = memberHead[g]; m >= 0; m = memberNext[m]) for (let j = superStart[m]; j < superStart[m + 1]; j++) q[j] = col++;
+    }
+  }
+  const G = tops.length;
+  const start = Int32Array.from(starts.concat(n));
+  const ptr = new Int32Array(G + 1);
+  const parentG = new Int32Array(G).fill(-1);
+  for (let g = 0; g < G; g++) {
+    const t = tops[g];
+    const ownBelow = rowPtr[t + 1] - rowPtr[t] - (superStart[t + 1] - superStart[t]);
+    ptr[g + 1] = ptr[g] + (start[g + 1] - start[g]) + ownBelow;
+    if (superParent[t] >= 0) parentG[g] = groupIndex[top[superParent[t]]];
+  }
+  // rows: the group's own run of columns, then its top's rows below, renumbered and sorted
+  const rows = new Int32Array(ptr[G]);
+  for (let g = 0; g < G; g++) {
+    const t = tops[g];
+    let w = ptr[g];
+    for (let j = start[g]; j < start[g + 1]; j++) rows[w++] = j;
+    const from = w;
+    for (let a = rowPtr[t] + superStart[t + 1] - superStart[t]; a < rowPtr[t + 1]; a++) rows[w++] = q[superRows[a]];
+    sortRows(rows, from, w);
+  }
+  const order2 = new Int32Array(n);
+  const perm2 = new Int32Array(n);
+  const parent2 = new Int32Array(n);
+  const colCount2 = new Int32Array(n);
+  const rowCount2 = new Int32Array(n);
+  for (let j = 0; j < n; j++) {
+    const k = q[j];
+    order2[k] = order[j];
+    perm2[order[j]] = k;
+    parent2[k] = parent[j] >= 0 ? q[parent[j]] : -1;
+    colCount2[k] = colCount[j];
+    rowCount2[k] = rowCount[j];
+  }
+  return { n, order: order2, perm: perm2, parent: parent2, colCount: colCount2, rowCount: rowCount2, superStart: start, rowPtr: ptr, superRows: rows, superParent: parentG };
+}
