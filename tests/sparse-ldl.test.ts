@@ -12,6 +12,7 @@ import { describe, expect, it } from 'vitest';
 import { main, readTextFile } from '../src/cli/main.js';
 import { denseSolver } from '../src/flex/solve-dense.js';
 import { sparseSolver, sparseSpaces, type SparseStatus } from '../src/flex/solve-sparse.js';
+import { SparseGramFactor } from '../src/flex/sparse/factors.js';
 import { buildGallery } from '../src/framework/gallery.js';
 import type { Framework } from '../src/framework/types.js';
 import { bandFromDense, bandLdl, ldlSolve, reverseCuthillMcKee, type Graph } from '../src/linalg/banded.js';
@@ -147,6 +148,11 @@ describe('sparse LDLᴴ on random sparse Hermitian matrices against the dense ei
         for (const { shift, below } of shifts) {
           const F = sparseLdl(H, sym, { shift });
           const B = bandLdl(band, { shift });
+          // keeping only the pivots changes nothing of them
+          const P = sparseLdl(H, sym, { shift, keepL: false });
+          expect(Array.from(P.d)).toEqual(Array.from(F.d));
+          expect([P.negatives, P.growth, P.solvable, F.solvable]).toEqual([F.negatives, F.growth, false, true]);
+          expect(() => P.solve(new Float64Array(c.n), c.complex ? new Float64Array(c.n) : null)).toThrow(/kept only its pivots/);
           expect(F.breakdown).toBeNull();
           expect(F.negatives, `shift ${shift}`).toBe(below);
           expect(B.negatives, `band at shift ${shift}`).toBe(below);
@@ -180,6 +186,27 @@ describe('sparse LDLᴴ on random sparse Hermitian matrices against the dense ei
         for (let r = 0; r < rhs.length; r++) expect(relativeResidual(m, shift, xs[r], rhs[r])).toBeLessThan(1e-12);
       }
     });
+  });
+
+  it('a factor that kept only its pivots factors again, once, on its first solve (the same solution bit for bit)', () => {
+    const m = randomSparse(200, 9, true, CASES[2].diag, CASES[2].tau, 30);
+    const H = hermitianFromDense(m.re, m.im ?? undefined);
+    const sym = analyseHermitian(H, { positions: m.positions, leafSize: 12 });
+    const shift = shiftsOf(m, CASES[2].tau)[3].shift;
+    let again = 0;
+    const G = new SparseGramFactor(sparseLdl(H, sym, { shift, keepL: false }), () => {
+      again++;
+      return sparseLdl(H, sym, { shift });
+    });
+    const b = () => [Float64Array.from({ length: 200 }, (_, i) => Math.sin(i)), Float64Array.from({ length: 200 }, (_, i) => Math.cos(3 * i))] as const;
+    const [xr, xi] = b();
+    G.forSolves().solve(xr, xi);
+    const [yr, yi] = b();
+    sparseLdl(H, sym, { shift }).solve(yr, yi);
+    expect(Array.from(xr)).toEqual(Array.from(yr));
+    expect(Array.from(xi)).toEqual(Array.from(yi));
+    expect(G.forSolves()).toBe(G.forSolves());
+    expect(again).toBe(1);
   });
 
   it('a zero pivot is reported as a breakdown, and the input matrix is left alone', () => {

@@ -107,31 +107,52 @@ export function factorReport(side: Side, ctx: Pick<Ctx, 'complex' | 'memoryLimit
   return { method: p.kind === 'sparse' ? 'sparse-ldl' : 'band', reason: p.reason, nnzL: used.nnzL, flops: used.flops, bandNnzL: p.band.nnzL, bandFlops: p.band.flops, bandFigures: p.bandFigures };
 }
 
-/** A sparse LDLᴴ factor of one side's Gram matrix, with the figures the iterations read. */
+/**
+ * A sparse LDLᴴ factor of one side's Gram matrix, with the figures the iterations read. An
+ * inertia count keeps only the pivots; the first solve factors the same matrix again with L kept
+ * (the same arithmetic, so the same pivots).
+ */
 export class SparseGramFactor {
   readonly d: Float64Array;
   readonly shift: number;
   readonly negatives: number;
   readonly growth: number;
   readonly breakdown: LdlFactor['breakdown'];
-  constructor(readonly sparse: SparseLdlFactor) {
+  private withL: SparseLdlFactor | null;
+  constructor(
+    readonly sparse: SparseLdlFactor,
+    private readonly again: (() => SparseLdlFactor) | null = null,
+  ) {
     this.d = sparse.d;
     this.shift = sparse.shift;
     this.negatives = sparse.negatives;
     this.growth = sparse.growth;
     this.breakdown = sparse.breakdown;
+    this.withL = sparse.solvable ? sparse : null;
+  }
+
+  /** The factor with L, for solves. */
+  forSolves(): SparseLdlFactor {
+    if (this.withL) return this.withL;
+    if (!this.again) throw new Error('sparse solver: a factor without L and no way to factor again');
+    this.withL = this.again();
+    return this.withL;
   }
 }
 
 /** Either factor of K − shift·I: the band one or the sparse one (solve with applyInverse). */
 export type GramFactor = LdlFactor | SparseGramFactor;
 
-/** Factor K − shift·I by the side's plan. */
-function factorGram(side: Side, shift: number, ctx: Ctx, onProgress: (f: number) => void): { F: GramFactor; dotLength: number; rowWidth: number } {
+/**
+ * Factor K − shift·I by the side's plan. `pivotsOnly`: the sparse factor keeps only its pivots
+ * and factors again on its first solve (for an inertia count, whose factor is seldom solved with).
+ */
+function factorGram(side: Side, shift: number, ctx: Ctx, onProgress: (f: number) => void, pivotsOnly = false): { F: GramFactor; dotLength: number; rowWidth: number } {
   const plan = factorPlan(side, ctx);
   if (plan.kind === 'sparse') {
     const sym = plan.symbolic!;
-    const F = new SparseGramFactor(sparseLdl(plan.K!, sym, { shift, check: ctx.check, onProgress }));
+    const first = sparseLdl(plan.K!, sym, { shift, check: ctx.check, onProgress, keepL: !pivotsOnly });
+    const F = new SparseGramFactor(first, () => sparseLdl(plan.K!, sym, { shift, check: ctx.check }));
     return { F, dotLength: sym.dotLength, rowWidth: sym.rowWidth };
   }
   const K = gramBand(side);
@@ -187,10 +208,14 @@ export function inertiaError(side: Side, run: InertiaRun, sigmaMax: number): num
   return 2 * EPS * s2 * (run.dotLength * run.rowWidth * Math.max(1, run.growth) + 4 * nnz * nnz);
 }
 
-export function inertiaCount(side: Side, tau: number, ctx: Ctx, p0: number, p1: number): InertiaRun {
+/**
+ * The inertia count of K − τI. `pivotsOnly`: a sparse factor keeps only its pivots (run.F then
+ * factors again on its first solve); pass false when the factor will likely be solved with.
+ */
+export function inertiaCount(side: Side, tau: number, ctx: Ctx, p0: number, p1: number, pivotsOnly = true): InertiaRun {
   for (let retry = 0; ; retry++) {
     const shift = retry === 0 ? tau : perturbedShift(tau, 0.05, retry);
-    const { F, dotLength, rowWidth } = factorGram(side, shift, ctx, (f) => ctx.progress(p0 + (p1 - p0) * f, `inertia count: LDLᴴ of ${side.gramName} − τI`));
+    const { F, dotLength, rowWidth } = factorGram(side, shift, ctx, (f) => ctx.progress(p0 + (p1 - p0) * f, `inertia count: LDLᴴ of ${side.gramName} − τI`), pivotsOnly);
     if (!F.breakdown) return { below: F.negatives, shift, retries: retry, growth: F.growth, dotLength, rowWidth, F };
     if (retry >= 8) throw new Error(`sparse solver: the inertia count of ${side.gramName} − τI broke down at every shift tried near τ = ${tau}`);
   }
@@ -211,7 +236,7 @@ export function choleskyShifted(side: Side, delta0: number, deltaMax: number, ct
 export function applyInverse(side: Side, F: GramFactor, X: Block): void {
   if (F instanceof SparseGramFactor) {
     // the sparse factor permutes by its own ordering
-    F.sparse.solveBlock(X.re, X.im);
+    F.forSolves().solveBlock(X.re, X.im);
     return;
   }
   const { perm, dim } = side;

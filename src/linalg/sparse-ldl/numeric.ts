@@ -15,6 +15,7 @@
 import { croutRowComplex, croutRowReal, croutRowsComplex, croutRowsReal } from './factor-kernels.js';
 import { CHUNK, solveColumns, type SolveData } from './solve.js';
 import type { SymbolicFactor } from './symbolic.js';
+import { UpdatePool } from './update-pool.js';
 import { inChunks, shareable, sharedFloats, SPLIT_WORK } from '../parallel/helper.js';
 
 /** A Hermitian matrix in CSR form with both triangles stored (row i lists A_ij). */
@@ -35,6 +36,11 @@ export interface SparseLdlOptions {
   onProgress?: (fraction: number) => void;
   /** Called between supernodes; may throw to cancel. */
   check?: () => void;
+  /**
+   * Keep L for solves (the default). With false only the pivots are kept: an inertia count needs
+   * nothing else, and writing L (nnz(L) words of fresh memory) is a large share of its time.
+   */
+  keepL?: boolean;
 }
 
 /** The factor L D Lᴴ of P(A − shift·I)Pᵀ; solves take and return vectors in A's own ordering. */
@@ -51,6 +57,8 @@ export class SparseLdlFactor {
     readonly negatives: number,
     readonly growth: number,
     readonly breakdown: { index: number; pivot: number } | null,
+    /** False when only the pivots were kept (SparseLdlOptions.keepL): no solves. */
+    readonly solvable = true,
   ) {}
 
   /** The arrays a solve reads, on shared memory when the helper thread may take half the columns. */
@@ -69,6 +77,7 @@ export class SparseLdlFactor {
    */
   solveBlock(cols: Float64Array[], colsIm: Float64Array[] | null): void {
     if (this.breakdown) throw new Error('sparse LDLᴴ: cannot solve with a factor that broke down');
+    if (!this.solvable) throw new Error('sparse LDLᴴ: this factor kept only its pivots (keepL: false); factor again with keepL to solve');
     const complex = this.im !== null || colsIm !== null;
     if (complex && !colsIm) throw new Error('a complex factor needs complex right-hand sides');
     if (colsIm && colsIm.length !== cols.length) throw new RangeError(`solveBlock: ${cols.length} real parts but ${colsIm.length} imaginary parts; pass one imaginary part per column`);
@@ -117,88 +126,22 @@ export function factorBytes(sym: SymbolicFactor, complex: boolean): number {
   return 8 * f * (panelWords(sym) + sym.maxFront * sym.maxFront + sym.maxFront * maxCols + Math.ceil(1.25 * sym.peakUpdateWords)) + 8 * sym.n;
 }
 
-/**
- * Buffers for the update matrices, reused once their parent has consumed them: on machines where
- * the first write to fresh memory costs a page fault per 4 kB (measured here: 32 MB took ~0.1 s),
- * allocating every update matrix anew cost a large share of the factorisation. Best fit among the
- * free buffers (a view of the needed length; every entry is written before it is read); a free
- * list beyond `cap` words lets the extra buffers go to the garbage collector, so the memory held
- * stays within the live update matrices plus `cap` (factorBytes counts it).
- */
-class UpdatePool {
-  private free: Float64Array[] = [];
-  private freeWords = 0;
-  constructor(private readonly cap: number) {}
-
-  take(words: number): Float64Array {
-    // the free list is sorted by length: the first long enough is the best fit
-    let lo = 0;
-    let hi = this.free.length;
-    while (lo < hi) {
-      const mid = (lo + hi) >> 1;
-      if (this.free[mid].length < words) lo = mid + 1;
-      else hi = mid;
-    }
-    if (lo < this.free.length) {
-      const buf = this.free[lo];
-      this.free.splice(lo, 1);
-      this.freeWords -= buf.length;
-      return buf.length === words ? buf : buf.subarray(0, words);
-    }
-    return new Float64Array(words);
-  }
-
-  give(view: Float64Array): void {
-    const buf = view.byteOffset === 0 && view.buffer.byteLength === view.byteLength ? view : new Float64Array(view.buffer as ArrayBuffer);
-    if (this.freeWords + buf.length > this.cap) return;
-    let lo = 0;
-    let hi = this.free.length;
-    while (lo < hi) {
-      const mid = (lo + hi) >> 1;
-      if (this.free[mid].length < buf.length) lo = mid + 1;
-      else hi = mid;
-    }
-    this.free.splice(lo, 0, buf);
-    this.freeWords += buf.length;
-  }
-}
-
 /** A − shift·I = P ᵀ L D Lᴴ P by the multifrontal method, no pivoting. */
 export function sparseLdl(A: HermitianCsr, sym: SymbolicFactor, options: SparseLdlOptions = {}): SparseLdlFactor {
-  const { n, order, perm, superStart, rowPtr, superRows, superParent } = sym;
+  const { n, superStart, rowPtr, superParent } = sym;
   if (A.n !== n) throw new RangeError(`sparseLdl: a ${A.n}×${A.n} matrix for an analysis of ${n} unknowns`);
   const shift = options.shift ?? 0;
   const complex = A.im !== null;
-  let diagMax = 0;
-  for (let v = 0; v < n; v++) {
-    let a = 0;
-    for (let t = A.ptr[v]; t < A.ptr[v + 1]; t++) if (A.idx[t] === v) a += A.re[t];
-    diagMax = Math.max(diagMax, Math.abs(a - shift));
-  }
-  const tiny = options.tiny ?? 1e-13 * diagMax;
+  // each loop below is its own function, and the fronts one call each: V8 compiles a long first
+  // run of a loop with the feedback gathered so far, and dropped out of that code (to compile
+  // it again) where a loop ended or a rarely taken branch was reached for the first time
+  const diagMax = shiftedDiagonalMax(A, shift);
   const nsup = superStart.length - 1;
-  const panelPtr = new Float64Array(nsup + 1);
+  const panelPtr = panelStarts(superStart, rowPtr);
   let maxCols = 0;
-  for (let s = 0; s < nsup; s++) {
-    const w = superStart[s + 1] - superStart[s];
-    maxCols = Math.max(maxCols, w);
-    panelPtr[s + 1] = panelPtr[s] + (rowPtr[s + 1] - rowPtr[s]) * w;
-  }
-  const LR = sharedFloats(panelPtr[nsup]);
-  const LI = complex ? sharedFloats(panelPtr[nsup]) : null;
-  const d = new Float64Array(n);
-  const rowSum = new Float64Array(n); // Σ_k |L_ik|²|D_k| per (new) row
+  for (let s = 0; s < nsup; s++) maxCols = Math.max(maxCols, superStart[s + 1] - superStart[s]);
+  const keepL = options.keepL ?? true;
   const maxFront = sym.maxFront;
-  const FR = new Float64Array(maxFront * maxFront);
-  const FI = complex ? new Float64Array(maxFront * maxFront) : null;
-  const WR = new Float64Array(maxFront * maxCols);
-  const WI = complex ? new Float64Array(maxFront * maxCols) : null;
-  const pos = new Int32Array(n);
-  const rel = new Int32Array(maxFront);
-  const gOut = new Float64Array(1);
-  const pool = new UpdatePool(Math.floor(sym.peakUpdateWords / 4));
-  const updR: (Float64Array | null)[] = new Array(nsup).fill(null);
-  const updI: (Float64Array | null)[] = new Array(nsup).fill(null);
   const firstChild = new Int32Array(nsup).fill(-1);
   const nextSibling = new Int32Array(nsup).fill(-1);
   for (let s = nsup - 1; s >= 0; s--) {
@@ -208,81 +151,38 @@ export function sparseLdl(A: HermitianCsr, sym: SymbolicFactor, options: SparseL
       firstChild[p] = s;
     }
   }
-  let negatives = 0;
-  let breakdown: SparseLdlFactor['breakdown'] = null;
+  const st: Fronts = {
+    A,
+    sym,
+    shift,
+    tiny: options.tiny ?? 1e-13 * diagMax,
+    keepL,
+    panelPtr,
+    LR: sharedFloats(keepL ? panelPtr[nsup] : 0),
+    LI: complex ? sharedFloats(keepL ? panelPtr[nsup] : 0) : null,
+    d: new Float64Array(n),
+    rowSum: new Float64Array(n), // Σ_k |L_ik|²|D_k| per (new) row
+    FR: new Float64Array(maxFront * maxFront),
+    FI: complex ? new Float64Array(maxFront * maxFront) : null,
+    WR: new Float64Array(maxFront * maxCols),
+    WI: complex ? new Float64Array(maxFront * maxCols) : null,
+    pos: new Int32Array(n),
+    rel: new Int32Array(maxFront),
+    gOut: new Float64Array(1),
+    pool: new UpdatePool(Math.floor(sym.peakUpdateWords / 4)),
+    updR: new Array(nsup).fill(null),
+    updI: new Array(nsup).fill(null),
+    firstChild,
+    nextSibling,
+    negatives: 0,
+    breakdown: null,
+  };
   const totalWork = Math.max(1, sym.flops);
   let work = 0;
-  let lastReport = 0;
-
-  outer: for (let s = 0; s < nsup; s++) {
-    const f = superStart[s];
-    const w = superStart[s + 1] - f;
-    const r0 = rowPtr[s];
-    const nf = rowPtr[s + 1] - r0;
-    const nu = nf - w;
-    for (let t = 0; t < nf; t++) pos[superRows[r0 + t]] = t;
-    FR.fill(0, 0, nf * nf);
-    if (FI) FI.fill(0, 0, nf * nf);
-    assembleFront(A, order, perm, pos, f, w, nf, shift, FR, FI);
-    // extend-add of the children's update matrices
-    for (let c = firstChild[s]; c >= 0; c = nextSibling[c]) {
-      const U = updR[c];
-      if (!U) continue;
-      const UI = updI[c];
-      const cw = superStart[c + 1] - superStart[c];
-      const cr0 = rowPtr[c] + cw;
-      const nuc = rowPtr[c + 1] - cr0;
-      for (let a = 0; a < nuc; a++) rel[a] = pos[superRows[cr0 + a]];
-      if (UI) extendAddComplex(FR, FI!, U, UI, rel, nuc, nf);
-      else extendAddReal(FR, U, rel, nuc, nf);
-      pool.give(U);
-      if (UI) pool.give(UI);
-      updR[c] = null;
-      updI[c] = null;
-    }
-    // Crout rows: L_ij for j < min(i, w), D_i for i < w; W holds L_ik·D_k. Rows go in blocks of
-    // four: their entries left of the block's first row (every pivot they need is known) in
-    // register blocks, then row by row the rest of the block's triangle and the pivot.
-    for (let i0 = 0; i0 < nf; i0 += 4) {
-      const i1 = Math.min(nf, i0 + 4);
-      const jShared = Math.min(i0, w);
-      if (!FI) croutRowsReal(FR, WR, d, f, nf, w, i0, i1, jShared);
-      else croutRowsComplex(FR, FI, WR, WI!, d, f, nf, w, i0, i1, jShared);
-      for (let i = i0; i < i1; i++) {
-        // the rest of row i's entries, then D_i = F_ii − Σ_k W_ik conj(L_ik) and the growth term Σ_k |W_ik conj(L_ik)|
-        let dd: number;
-        if (!FI) {
-          croutRowReal(FR, WR, d, f, nf, w, i, jShared, Math.min(i, w));
-          dd = pivotReal(FR, WR, nf, w, i, gOut);
-        } else {
-          croutRowComplex(FR, FI, WR, WI!, d, f, nf, w, i, jShared, Math.min(i, w));
-          dd = pivotComplex(FR, FI, WR, WI!, nf, w, i, gOut);
-        }
-        const g = gOut[0];
-        if (i < w) {
-          if (!(Math.abs(dd) > tiny)) {
-            breakdown = { index: f + i, pivot: dd };
-            break outer;
-          }
-          d[f + i] = dd;
-          if (dd < 0) negatives++;
-        }
-        rowSum[superRows[r0 + i]] += g;
-      }
-    }
-    // keep the panel (rows × w)
-    copyPanel(FR, LR, panelPtr[s], nf, w);
-    if (LI) copyPanel(FI!, LI, panelPtr[s], nf, w);
-    // the Schur complement of the rows below, for the parent
-    if (nu > 0 && superParent[s] >= 0) {
-      const U = pool.take(nu * nu);
-      const UI = FI ? pool.take(nu * nu) : null;
-      if (!FI) schurReal(FR, WR, U, nf, w, nu);
-      else schurComplex(FR, FI, WR, WI!, U, UI!, nf, w, nu);
-      updR[s] = U;
-      updI[s] = UI;
-    }
-    for (let k = 0; k < w; k++) work += (nf - k) * (nf - k);
+  // the first front reports too, so the report's branch is not new to code compiled mid-run
+  let lastReport = -totalWork;
+  for (let s = 0; s < nsup && factorFront(st, s); s++) {
+    work += frontWork(rowPtr[s + 1] - rowPtr[s], superStart[s + 1] - superStart[s]);
     if (work - lastReport > 0.02 * totalWork) {
       lastReport = work;
       options.onProgress?.(work / totalWork);
@@ -290,9 +190,148 @@ export function sparseLdl(A: HermitianCsr, sym: SymbolicFactor, options: SparseL
     }
   }
   options.onProgress?.(1);
+  const sMax = rowGrowthMax(st.rowSum, st.d);
+  return new SparseLdlFactor(sym, panelPtr, st.LR, st.LI, st.d, shift, st.negatives, diagMax > 0 ? sMax / diagMax : 1, st.breakdown, keepL);
+}
+
+/** What the fronts of one factorisation share: the input, the factor so far, the workspace. */
+interface Fronts {
+  A: HermitianCsr;
+  sym: SymbolicFactor;
+  shift: number;
+  tiny: number;
+  keepL: boolean;
+  panelPtr: Float64Array;
+  LR: Float64Array;
+  LI: Float64Array | null;
+  d: Float64Array;
+  rowSum: Float64Array;
+  FR: Float64Array;
+  FI: Float64Array | null;
+  WR: Float64Array;
+  WI: Float64Array | null;
+  pos: Int32Array;
+  rel: Int32Array;
+  gOut: Float64Array;
+  pool: UpdatePool;
+  /** The update matrices waiting for their parent. */
+  updR: (Float64Array | null)[];
+  updI: (Float64Array | null)[];
+  firstChild: Int32Array;
+  nextSibling: Int32Array;
+  negatives: number;
+  breakdown: SparseLdlFactor['breakdown'];
+}
+
+/** max_v |A_vv − shift| (the diagonal entries summed where A lists one twice). */
+function shiftedDiagonalMax(A: HermitianCsr, shift: number): number {
+  let diagMax = 0;
+  for (let v = 0; v < A.n; v++) {
+    let a = 0;
+    for (let t = A.ptr[v]; t < A.ptr[v + 1]; t++) if (A.idx[t] === v) a += A.re[t];
+    diagMax = Math.max(diagMax, Math.abs(a - shift));
+  }
+  return diagMax;
+}
+
+/** Where each supernode's panel (its rows × its columns) starts in L, and L's length last. */
+function panelStarts(superStart: Int32Array, rowPtr: Int32Array): Float64Array {
+  const nsup = superStart.length - 1;
+  const panelPtr = new Float64Array(nsup + 1);
+  for (let s = 0; s < nsup; s++) panelPtr[s + 1] = panelPtr[s] + (rowPtr[s + 1] - rowPtr[s]) * (superStart[s + 1] - superStart[s]);
+  return panelPtr;
+}
+
+/** Σ_k (nf − k)² over a front's w columns: its share of the flops, for progress. */
+function frontWork(nf: number, w: number): number {
+  let work = 0;
+  for (let k = 0; k < w; k++) work += (nf - k) * (nf - k);
+  return work;
+}
+
+/** max_i (rowSum_i + |d_i|): the numerator of the growth. */
+function rowGrowthMax(rowSum: Float64Array, d: Float64Array): number {
   let sMax = 0;
-  for (let i = 0; i < n; i++) sMax = Math.max(sMax, rowSum[i] + Math.abs(d[i]));
-  return new SparseLdlFactor(sym, panelPtr, LR, LI, d, shift, negatives, diagMax > 0 ? sMax / diagMax : 1, breakdown);
+  for (let i = 0; i < d.length; i++) sMax = Math.max(sMax, rowSum[i] + Math.abs(d[i]));
+  return sMax;
+}
+
+/**
+ * Supernode s: assemble its front (A's entries and the children's update matrices), factor its
+ * columns, keep the panel and pass the Schur complement up. False at a breakdown (st.breakdown).
+ */
+function factorFront(st: Fronts, s: number): boolean {
+  const { A, sym, pos, rel, FR, FI, WR, WI, d, gOut, pool, updR, updI } = st;
+  const { order, perm, superStart, rowPtr, superRows, superParent } = sym;
+  const f = superStart[s];
+  const w = superStart[s + 1] - f;
+  const r0 = rowPtr[s];
+  const nf = rowPtr[s + 1] - r0;
+  const nu = nf - w;
+  for (let t = 0; t < nf; t++) pos[superRows[r0 + t]] = t;
+  FR.fill(0, 0, nf * nf);
+  if (FI) FI.fill(0, 0, nf * nf);
+  assembleFront(A, order, perm, pos, f, w, nf, st.shift, FR, FI);
+  // extend-add of the children's update matrices
+  for (let c = st.firstChild[s]; c >= 0; c = st.nextSibling[c]) {
+    const U = updR[c];
+    if (!U) continue;
+    const UI = updI[c];
+    const cw = superStart[c + 1] - superStart[c];
+    const cr0 = rowPtr[c] + cw;
+    const nuc = rowPtr[c + 1] - cr0;
+    for (let a = 0; a < nuc; a++) rel[a] = pos[superRows[cr0 + a]];
+    if (UI) extendAddComplex(FR, FI!, U, UI, rel, nuc, nf);
+    else extendAddReal(FR, U, rel, nuc, nf);
+    pool.give(U);
+    if (UI) pool.give(UI);
+    updR[c] = null;
+    updI[c] = null;
+  }
+  // Crout rows: L_ij for j < min(i, w), D_i for i < w; W holds L_ik·D_k. Rows go in blocks of
+  // four: their entries left of the block's first row (every pivot they need is known) in
+  // register blocks, then row by row the rest of the block's triangle and the pivot.
+  for (let i0 = 0; i0 < nf; i0 += 4) {
+    const i1 = Math.min(nf, i0 + 4);
+    const jShared = Math.min(i0, w);
+    if (!FI) croutRowsReal(FR, WR, d, f, nf, w, i0, i1, jShared);
+    else croutRowsComplex(FR, FI, WR, WI!, d, f, nf, w, i0, i1, jShared);
+    for (let i = i0; i < i1; i++) {
+      // the rest of row i's entries, then D_i = F_ii − Σ_k W_ik conj(L_ik) and the growth term Σ_k |W_ik conj(L_ik)|
+      let dd: number;
+      if (!FI) {
+        croutRowReal(FR, WR, d, f, nf, w, i, jShared, Math.min(i, w));
+        dd = pivotReal(FR, WR, nf, w, i, gOut);
+      } else {
+        croutRowComplex(FR, FI, WR, WI!, d, f, nf, w, i, jShared, Math.min(i, w));
+        dd = pivotComplex(FR, FI, WR, WI!, nf, w, i, gOut);
+      }
+      if (i < w) {
+        if (!(Math.abs(dd) > st.tiny)) {
+          st.breakdown = { index: f + i, pivot: dd };
+          return false;
+        }
+        d[f + i] = dd;
+        if (dd < 0) st.negatives++;
+      }
+      st.rowSum[superRows[r0 + i]] += gOut[0];
+    }
+  }
+  // keep the panel (rows × w)
+  if (st.keepL) {
+    copyPanel(FR, st.LR, st.panelPtr[s], nf, w);
+    if (st.LI) copyPanel(FI!, st.LI, st.panelPtr[s], nf, w);
+  }
+  // the Schur complement of the rows below, for the parent
+  if (nu > 0 && superParent[s] >= 0) {
+    const U = pool.take(nu * nu);
+    const UI = FI ? pool.take(nu * nu) : null;
+    if (!FI) schurReal(FR, WR, U, nf, w, nu);
+    else schurComplex(FR, FI, WR, WI!, U, UI!, nf, w, nu);
+    updR[s] = U;
+    updI[s] = UI;
+  }
+  return true;
 }
 
 /**
