@@ -219,7 +219,8 @@ export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): Solv
   }
 
   const tau = (c * sigmaMax) ** 2;
-  const first = inertiaCount(countSide, tau, ctx, 0.06, 0.45);
+  // its factor is solved with only when nothing is below τ and the smallest kept σ is measured
+  const first = inertiaCount(countSide, tau, ctx, 0.06, 0.45, options.gap === 'bound');
   const factor = factorReport(countSide, ctx);
   const kCount = first.below;
   // The inertia count runs on the smaller Gram matrix, and the subspace iteration on the same
@@ -371,16 +372,26 @@ function sidePositions(sc: Supercell): SidePositions {
     columns[4 * k + 1] = columns[4 * k + 3] = p[2 * k + 1];
   }
   const { count: m, a: A, b: B, source } = sc.rows;
-  const vectors = resolveBars(sc.framework).map((bar) => bar.vector);
+  const half = new Float64Array(resolveBars(sc.framework).flatMap((bar) => [bar.vector[0] / 2, bar.vector[1] / 2]));
+  return { columns, rows: barMidpoints(p, A, B, source, half, m) };
+}
+
+/** Each bar's midpoint (a grounded bar's from its joint), 2 per bar; `half` holds each unit-cell bar's vector / 2. */
+function barMidpoints(p: Float64Array, A: Int32Array, B: Int32Array, source: Int32Array, half: Float64Array, m: number): Float64Array {
   const rows = new Float64Array(2 * m);
   for (let r = 0; r < m; r++) {
-    const [vx, vy] = vectors[source[r]];
     const a = A[r];
-    const b = B[r];
-    rows[2 * r] = a >= 0 ? p[2 * a] + vx / 2 : p[2 * b] - vx / 2;
-    rows[2 * r + 1] = a >= 0 ? p[2 * a + 1] + vy / 2 : p[2 * b + 1] - vy / 2;
+    const s = 2 * source[r];
+    if (a >= 0) {
+      rows[2 * r] = p[2 * a] + half[s];
+      rows[2 * r + 1] = p[2 * a + 1] + half[s + 1];
+    } else {
+      const b = B[r];
+      rows[2 * r] = p[2 * b] - half[s];
+      rows[2 * r + 1] = p[2 * b + 1] - half[s + 1];
+    }
   }
-  return { columns, rows };
+  return rows;
 }
 
 export const sparseSolver: SpaceSolver = (sc, R, options) =>

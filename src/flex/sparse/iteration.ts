@@ -190,8 +190,12 @@ export function certifiedIteration(
     const r = rayleighRitz(side, rayleighRitz(side, identityBlock(dim, complex)).X);
     return { X: r.X, sigma: r.sigma, sweeps: 0, converged: true, certificate: certify(r.X, r.sigma), ritz: r };
   }
+  // Nothing to find in phase 1 when the inertia count puts no eigenvalue below the shift: the
+  // count (0 null vectors) is then certified as it stands and Lanczos alone finds the smallest σ.
+  const nothingBelow = inertia.count === 0;
   let X: Block = { len: dim, re: [], im: complex ? [] : null };
-  addRandomColumns(X, q, ctx.rand);
+  // (the block is never read then unless Lanczos runs, which starts from its first column)
+  addRandomColumns(X, nothingBelow && !measureKept ? 0 : q, ctx.rand);
   const floor = Math.max(1e-3 * tol, 16 * EPS * sigmaMax);
   let prev: Float64Array | null = null;
   let prevDelta: Float64Array | null = null;
@@ -200,9 +204,6 @@ export function certifiedIteration(
   let converged = false;
   let certificate: CountCertificate | null = null;
   let certifiedRuns = 0;
-  // Nothing to find in phase 1 when the inertia count puts no eigenvalue below the shift: the
-  // count (0 null vectors) is then certified as it stands and Lanczos alone finds the smallest σ.
-  const nothingBelow = inertia.count === 0;
   const maxSweeps = nothingBelow ? 0 : sweepLimit;
   if (nothingBelow) {
     converged = true;
