@@ -57,22 +57,13 @@ export function amalgamate(st: Structure, maxSupernode: number): Structure {
   }
   // a child's number is below its parent's, so each child is decided first and is its group's top
   const into = new Int32Array(ns).fill(-1);
-  let merged = 0;
-  const cand: number[] = [];
+  const cand = new Int32Array(ns);
   const cost = new Float64Array(ns);
+  let merged = 0;
   for (let p = 0; p < ns; p++) {
-    cand.length = 0;
-    for (let c = head[p]; c >= 0; c = next[c]) cand.push(c);
-    if (cand.length === 0) continue;
-    const zerosWith = (c: number) => {
-      const w = cols[p] + cols[c];
-      return trapezoid(w, w + below[p]) - entries[p] - entries[c];
-    };
-    if (cand.length > 1) {
-      for (const c of cand) cost[c] = zerosWith(c);
-      cand.sort((a, b) => cost[a] - cost[b] || a - b);
-    }
-    for (const c of cand) {
+    const k = childrenByZeros(p, head, next, cols, below, entries, cand, cost);
+    for (let t = 0; t < k; t++) {
+      const c = cand[t];
       const w = cols[p] + cols[c];
       const stored = trapezoid(w, w + below[p]);
       const zeros = stored - entries[p] - entries[c];
@@ -85,6 +76,27 @@ export function amalgamate(st: Structure, maxSupernode: number): Structure {
   }
   if (merged === 0) return st;
   return renumber(st, into);
+}
+
+/**
+ * Supernode p's children into cand[0 … k−1] (k returned), by the zeros each would add if merged
+ * alone (the lower number first on a tie): an insertion sort, as there are few.
+ */
+function childrenByZeros(p: number, head: Int32Array, next: Int32Array, cols: Int32Array, below: Int32Array, entries: Float64Array, cand: Int32Array, cost: Float64Array): number {
+  let k = 0;
+  for (let c = head[p]; c >= 0; c = next[c]) {
+    const w = cols[p] + cols[c];
+    const z = trapezoid(w, w + below[p]) - entries[p] - entries[c];
+    let u = k++;
+    while (u > 0 && (cost[u - 1] > z || (cost[u - 1] === z && cand[u - 1] > c))) {
+      cand[u] = cand[u - 1];
+      cost[u] = cost[u - 1];
+      u--;
+    }
+    cand[u] = c;
+    cost[u] = z;
+  }
+  return k;
 }
 
 /** The structure of the merged fronts (into[s] = the supernode s was merged into, −1 for a top). */

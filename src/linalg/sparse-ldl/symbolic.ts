@@ -149,7 +149,6 @@ function fundamentalSupernodes(parent: Int32Array, colCount: Int32Array, maxSupe
 /** Rows of each supernode: its columns, A's entries below it, and its children's rows below it (ascending). */
 function supernodeRows(g: Graph, order: Int32Array, perm: Int32Array, superStart: Int32Array, superParent: Int32Array, rowPtr: Int32Array, mark: Int32Array): Int32Array {
   const ns = superStart.length - 1;
-  const { ptr, adj } = g;
   const superRows = new Int32Array(rowPtr[ns]);
   const firstChild = new Int32Array(ns).fill(-1);
   const nextSibling = new Int32Array(ns).fill(-1);
@@ -160,38 +159,43 @@ function supernodeRows(g: Graph, order: Int32Array, perm: Int32Array, superStart
       firstChild[p] = s;
     }
   }
-  for (let s = 0; s < ns; s++) {
-    const f = superStart[s];
-    const l = superStart[s + 1];
-    let w = rowPtr[s];
-    for (let j = f; j < l; j++) {
-      mark[j] = s;
-      superRows[w++] = j;
-    }
-    const base = w;
-    for (let j = f; j < l; j++) {
-      const v = order[j];
-      for (let t = ptr[v]; t < ptr[v + 1]; t++) {
-        const i = perm[adj[t]];
-        if (i >= l && mark[i] !== s) {
-          mark[i] = s;
-          superRows[w++] = i;
-        }
-      }
-    }
-    for (let c = firstChild[s]; c >= 0; c = nextSibling[c]) {
-      for (let t = rowPtr[c]; t < rowPtr[c + 1]; t++) {
-        const i = superRows[t];
-        if (i >= l && mark[i] !== s) {
-          mark[i] = s;
-          superRows[w++] = i;
-        }
-      }
-    }
-    if (w !== rowPtr[s + 1]) throw new Error(`analyse: supernode ${s} has ${w - rowPtr[s]} rows, the column count says ${rowPtr[s + 1] - rowPtr[s]}`);
-    sortRows(superRows, base, w);
-  }
+  // one call per supernode: compiled whole after a few calls (see analyse)
+  for (let s = 0; s < ns; s++) rowsOfSupernode(g, order, perm, superStart, rowPtr, superRows, mark, firstChild, nextSibling, s);
   return superRows;
+}
+
+/** Supernode s's rows into superRows (see supernodeRows). */
+function rowsOfSupernode(g: Graph, order: Int32Array, perm: Int32Array, superStart: Int32Array, rowPtr: Int32Array, superRows: Int32Array, mark: Int32Array, firstChild: Int32Array, nextSibling: Int32Array, s: number): void {
+  const { ptr, adj } = g;
+  const f = superStart[s];
+  const l = superStart[s + 1];
+  let w = rowPtr[s];
+  for (let j = f; j < l; j++) {
+    mark[j] = s;
+    superRows[w++] = j;
+  }
+  const base = w;
+  for (let j = f; j < l; j++) {
+    const v = order[j];
+    for (let t = ptr[v]; t < ptr[v + 1]; t++) {
+      const i = perm[adj[t]];
+      if (i >= l && mark[i] !== s) {
+        mark[i] = s;
+        superRows[w++] = i;
+      }
+    }
+  }
+  for (let c = firstChild[s]; c >= 0; c = nextSibling[c]) {
+    for (let t = rowPtr[c]; t < rowPtr[c + 1]; t++) {
+      const i = superRows[t];
+      if (i >= l && mark[i] !== s) {
+        mark[i] = s;
+        superRows[w++] = i;
+      }
+    }
+  }
+  if (w !== rowPtr[s + 1]) throw new Error(`analyse: supernode ${s} has ${w - rowPtr[s]} rows, the column count says ${rowPtr[s + 1] - rowPtr[s]}`);
+  sortRows(superRows, base, w);
 }
 
 /** The figures of a structure: sizes, flops, the update matrices' peak. */
