@@ -32,22 +32,17 @@ export function rigidMotions(sc: Supercell): RigidMotion[] {
   if (n === 0 || names.length === 0) return [];
   const rel = relativePositions(sc);
   const out: RigidMotion[] = [];
+  // (each loop a small function of its own: these run once per count, on fresh code, and V8
+  // compiles a one-loop function whole instead of dropping out of it where a loop ends)
   for (const name of names) {
     const f = new Float64Array(2 * n);
-    for (let k = 0; k < n; k++) {
-      if (name === 'translation x') f[2 * k] = 1;
-      else if (name === 'translation y') f[2 * k + 1] = 1;
-      else {
-        // about the centroid (rel is centred), hence orthogonal to both translations
-        f[2 * k] = -rel[2 * k + 1];
-        f[2 * k + 1] = rel[2 * k];
-      }
-    }
-    let s = 0;
-    for (const v of f) s += v * v;
-    const norm = Math.sqrt(s);
+    if (name === 'translation x') everySecond(f, 0);
+    else if (name === 'translation y') everySecond(f, 1);
+    // about the centroid (rel is centred), hence orthogonal to both translations
+    else quarterTurn(rel, f);
+    const norm = Math.sqrt(sumSquares(f));
     if (norm === 0) continue; // a single joint cannot rotate about itself
-    for (let i = 0; i < f.length; i++) f[i] /= norm;
+    divideAll(f, norm);
     out.push({ name, field: f });
   }
   return out;
@@ -69,22 +64,59 @@ function relativePositions(sc: Supercell): Float64Array {
   const b1 = [a1[0] / L, a1[1] / L];
   const b2 = [a2[0] / L, a2[1] / L];
   const rel = new Float64Array(2 * n);
-  let cx = 0;
-  let cy = 0;
-  for (let k = 0; k < n; k++) {
-    const s = sc.jointSites[k];
-    const i = sc.jointCells[2 * k];
-    const j = sc.jointCells[2 * k + 1];
-    rel[2 * k] = d[s][0] + i * b1[0] + j * b2[0];
-    rel[2 * k + 1] = d[s][1] + i * b1[1] + j * b2[1];
-    cx += rel[2 * k];
-    cy += rel[2 * k + 1];
-  }
-  cx /= n;
-  cy /= n;
-  for (let k = 0; k < n; k++) {
-    rel[2 * k] -= cx;
-    rel[2 * k + 1] -= cy;
-  }
+  const dx = Float64Array.from(d, (v) => v[0]);
+  const dy = Float64Array.from(d, (v) => v[1]);
+  placeJoints(rel, sc.jointSites, sc.jointCells, dx, dy, b1[0], b1[1], b2[0], b2[1]);
+  const cx = sumEverySecond(rel, 0) / n;
+  const cy = sumEverySecond(rel, 1) / n;
+  subtractPairs(rel, cx, cy);
   return rel;
+}
+
+/** rel_k = d_(site k) + i·b1 + j·b2 for joint k in cell (i, j). */
+function placeJoints(rel: Float64Array, sites: Int32Array, cells: Int32Array, dx: Float64Array, dy: Float64Array, b1x: number, b1y: number, b2x: number, b2y: number): void {
+  for (let k = 0; k < sites.length; k++) {
+    const s = sites[k];
+    const i = cells[2 * k];
+    const j = cells[2 * k + 1];
+    rel[2 * k] = dx[s] + i * b1x + j * b2x;
+    rel[2 * k + 1] = dy[s] + i * b1y + j * b2y;
+  }
+}
+
+/** Σ_k a[2k + offset], in order. */
+function sumEverySecond(a: Float64Array, offset: number): number {
+  let s = 0;
+  for (let i = offset; i < a.length; i += 2) s += a[i];
+  return s;
+}
+
+function subtractPairs(a: Float64Array, x: number, y: number): void {
+  for (let i = 0; i < a.length; i += 2) {
+    a[i] -= x;
+    a[i + 1] -= y;
+  }
+}
+
+/** a[2k + offset] = 1 for every k. */
+function everySecond(a: Float64Array, offset: number): void {
+  for (let i = offset; i < a.length; i += 2) a[i] = 1;
+}
+
+/** f = the joints' positions turned by a quarter: (−y, x). */
+function quarterTurn(rel: Float64Array, f: Float64Array): void {
+  for (let i = 0; i < f.length; i += 2) {
+    f[i] = -rel[i + 1];
+    f[i + 1] = rel[i];
+  }
+}
+
+function sumSquares(a: Float64Array): number {
+  let s = 0;
+  for (let i = 0; i < a.length; i++) s += a[i] * a[i];
+  return s;
+}
+
+function divideAll(a: Float64Array, c: number): void {
+  for (let i = 0; i < a.length; i++) a[i] /= c;
 }

@@ -102,30 +102,36 @@ function rigidRank(sc: Supercell, motions: RigidMotion[], absTol: number): numbe
   const q = Math.min(m, t);
   const tri = new Matrix(q, t);
   for (let k = 0; k < q; k++) {
-    // Householder reflection zeroing column k below row k
+    // Householder reflection zeroing column k below row k (each loop its own function: these
+    // run once per count on fresh code, see rigid.ts)
     const x = cols[k];
-    let norm = 0;
-    for (let i = k; i < m; i++) norm += x[i] * x[i];
-    norm = Math.sqrt(norm);
+    const norm = Math.sqrt(sumSquaresFrom(x, k, m));
     const alpha = x[k] > 0 ? -norm : norm;
-    const v = new Float64Array(m - k);
-    for (let i = k; i < m; i++) v[i - k] = x[i];
+    const v = x.slice(k, m);
     v[0] -= alpha;
-    let vv = 0;
-    for (let i = 0; i < v.length; i++) vv += v[i] * v[i];
+    const vv = sumSquaresFrom(v, 0, v.length);
     for (let j = k; j < t; j++) {
       const y = cols[j];
-      if (vv > 0) {
-        let d = 0;
-        for (let i = k; i < m; i++) d += v[i - k] * y[i];
-        const f = (2 * d) / vv;
-        for (let i = k; i < m; i++) y[i] -= f * v[i - k];
-      }
+      if (vv > 0) reflect(v, y, k, m, vv);
       tri.set(k, j, y[k]);
     }
   }
   const s = new SingularValueDecomposition(tri, { computeLeftSingularVectors: false, computeRightSingularVectors: false, autoTranspose: true }).diagonal;
   return s.filter((v) => v > absTol).length;
+}
+
+function sumSquaresFrom(x: Float64Array, from: number, to: number): number {
+  let s = 0;
+  for (let i = from; i < to; i++) s += x[i] * x[i];
+  return s;
+}
+
+/** y ← y − (2 vᴴy / vv)·v on rows k … m−1 (v holds those rows from 0). */
+function reflect(v: Float64Array, y: Float64Array, k: number, m: number, vv: number): void {
+  let d = 0;
+  for (let i = k; i < m; i++) d += v[i - k] * y[i];
+  const f = (2 * d) / vv;
+  for (let i = k; i < m; i++) y[i] -= f * v[i - k];
 }
 
 /**

@@ -129,29 +129,50 @@ function scaleBy(x: Float64Array, c: number, n: number): void {
  * and likewise with |A||A|ᵀ; the smaller of the two. Formed as |A|ᵀ(|A|·1) without the product.
  */
 export function sigmaMaxUpperBound(A: SparseMatrix): number {
-  const { rows, cols, rowPtr, colIdx, re, im } = A;
-  const abs = (k: number) => (im ? Math.hypot(re[k], im[k]) : Math.abs(re[k]));
-  const rowSum = new Float64Array(rows);
-  const colSum = new Float64Array(cols);
+  // each pass its own function (they run once per count, on fresh code: see threeTerm's note)
+  const rowSum = new Float64Array(A.rows);
+  const colSum = new Float64Array(A.cols);
+  absSums(A, rowSum, colSum);
+  // |A|ᵀ|A|·1 = |A|ᵀ·rowSum (one entry per column) and |A||A|ᵀ·1 = |A|·colSum (one per row)
+  const viaCols = new Float64Array(A.cols);
+  const viaRows = absProducts(A, rowSum, colSum, viaCols);
+  return Math.sqrt(Math.min(largest(viaCols), viaRows));
+}
+
+/** |A_rk| (the modulus of a complex entry). */
+function absEntry(re: Float64Array, im: Float64Array | null, k: number): number {
+  return im ? Math.hypot(re[k], im[k]) : Math.abs(re[k]);
+}
+
+/** Row and column sums of |A|. */
+function absSums(A: SparseMatrix, rowSum: Float64Array, colSum: Float64Array): void {
+  const { rows, rowPtr, colIdx, re, im } = A;
   for (let r = 0; r < rows; r++)
     for (let k = rowPtr[r]; k < rowPtr[r + 1]; k++) {
-      const a = abs(k);
+      const a = absEntry(re, im, k);
       rowSum[r] += a;
       colSum[colIdx[k]] += a;
     }
-  // |A|ᵀ|A|·1 = |A|ᵀ·rowSum (one entry per column) and |A||A|ᵀ·1 = |A|·colSum (one per row)
-  const viaCols = new Float64Array(cols);
+}
+
+/** viaCols = |A|ᵀ·rowSum; returns the largest entry of |A|·colSum. */
+function absProducts(A: SparseMatrix, rowSum: Float64Array, colSum: Float64Array, viaCols: Float64Array): number {
+  const { rows, rowPtr, colIdx, re, im } = A;
   let viaRows = 0;
   for (let r = 0; r < rows; r++) {
     let s = 0;
     for (let k = rowPtr[r]; k < rowPtr[r + 1]; k++) {
-      const a = abs(k);
+      const a = absEntry(re, im, k);
       viaCols[colIdx[k]] += a * rowSum[r];
       s += a * colSum[colIdx[k]];
     }
     viaRows = Math.max(viaRows, s);
   }
-  let colMax = 0;
-  for (let c = 0; c < cols; c++) colMax = Math.max(colMax, viaCols[c]);
-  return Math.sqrt(Math.min(colMax, viaRows));
+  return viaRows;
+}
+
+function largest(a: Float64Array): number {
+  let m = 0;
+  for (let i = 0; i < a.length; i++) m = Math.max(m, a[i]);
+  return m;
 }

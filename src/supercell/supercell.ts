@@ -233,32 +233,40 @@ function listRows(blocks: RowBlock[], cells: [number, number], boundary: Boundar
       const fyW = wrapCount(j, N2, boundary.y);
       const tyOut = isOut(j + s2, N2, boundary.y);
       const w2 = wrapCount(j + s2, N2, boundary.y);
-      for (const x of xs) {
-        for (let i = x.lo; i < x.hi; i++) {
-          const fxW = wrapCount(i, N1, boundary.x);
-          const w1 = wrapCount(i + s1, N1, boundary.x);
-          const fromOut = fyOut || isOut(i, N1, boundary.x);
-          const toOut = tyOut || isOut(i + s1, N1, boundary.x);
-          out.a[r] = fromOut ? -1 : jointIndex(i - fxW * N1, j - fyW * N2, sa, N1, S);
-          out.b[r] = toOut ? -1 : jointIndex(i + s1 - w1 * N1, j + s2 - w2 * N2, sb, N1, S);
-          out.source[r] = source;
-          if (real && theta1 === 0 && theta2 === 0) out.phase[2 * r] = 1;
-          else {
-            const [cr, ci] = cis(theta1 * w1 + theta2 * w2);
-            out.phase[2 * r] = cr;
-            out.phase[2 * r + 1] = ci;
-          }
-          out.wraps[2 * r] = w1;
-          out.wraps[2 * r + 1] = w2;
-          out.cells[2 * r] = i;
-          out.cells[2 * r + 1] = j;
-          r++;
-        }
-      }
+      for (const x of xs) r = listRun(out, r, x.lo, x.hi, j, source, sa, sb, s1, s2, N1, N2, S, boundary.x, fyOut, fyW, tyOut, w2, real, theta1, theta2);
     }
   }
   if (r !== count) throw new Error(`internal error: the supercell listed ${r} rows, its count is ${count}`);
   return out;
+}
+
+/**
+ * The rows of cells i = lo … hi − 1 in row j of one block into out from row r; returns the next
+ * row. Its own function, called once per run: V8 compiles it whole after a few calls (as one loop
+ * inside listRows it ran on fresh code to its end).
+ */
+function listRun(out: BarRows, r: number, lo: number, hi: number, j: number, source: number, sa: number, sb: number, s1: number, s2: number, N1: number, N2: number, S: number, rx: AxisRule, fyOut: boolean, fyW: number, tyOut: boolean, w2: number, real: boolean, theta1: number, theta2: number): number {
+  for (let i = lo; i < hi; i++) {
+    const fxW = wrapCount(i, N1, rx);
+    const w1 = wrapCount(i + s1, N1, rx);
+    const fromOut = fyOut || isOut(i, N1, rx);
+    const toOut = tyOut || isOut(i + s1, N1, rx);
+    out.a[r] = fromOut ? -1 : jointIndex(i - fxW * N1, j - fyW * N2, sa, N1, S);
+    out.b[r] = toOut ? -1 : jointIndex(i + s1 - w1 * N1, j + s2 - w2 * N2, sb, N1, S);
+    out.source[r] = source;
+    if (real && theta1 === 0 && theta2 === 0) out.phase[2 * r] = 1;
+    else {
+      const [cr, ci] = cis(theta1 * w1 + theta2 * w2);
+      out.phase[2 * r] = cr;
+      out.phase[2 * r + 1] = ci;
+    }
+    out.wraps[2 * r] = w1;
+    out.wraps[2 * r + 1] = w2;
+    out.cells[2 * r] = i;
+    out.cells[2 * r + 1] = j;
+    r++;
+  }
+  return r;
 }
 
 /** The row objects, one per row of R, from the typed rows. */

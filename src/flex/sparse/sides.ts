@@ -175,6 +175,36 @@ function rowOrdering(R: SparseMatrix, RH: SparseMatrix, colPerm: Int32Array): { 
  * unknown), and the middle of a long path (two searches find its ends) in each case; the
  * smallest eccentricity found is used, and the largest component reached decides.
  */
+/** The point nearest the middle of the points' bounding box (the first of equals). */
+function nearestToMiddle(positions: Float64Array, n: number): number {
+  const box = new Float64Array([Infinity, -Infinity, Infinity, -Infinity]);
+  boundingBox(positions, n, box);
+  return nearest(positions, n, (box[0] + box[1]) / 2, (box[2] + box[3]) / 2);
+}
+
+/** box = [min x, max x, min y, max y] of n points (x, y interleaved); box starts at ±Infinity. */
+function boundingBox(p: Float64Array, n: number, box: Float64Array): void {
+  for (let i = 0; i < n; i++) {
+    box[0] = Math.min(box[0], p[2 * i]);
+    box[1] = Math.max(box[1], p[2 * i]);
+    box[2] = Math.min(box[2], p[2 * i + 1]);
+    box[3] = Math.max(box[3], p[2 * i + 1]);
+  }
+}
+
+function nearest(p: Float64Array, n: number, cx: number, cy: number): number {
+  let near = Infinity;
+  let at = -1;
+  for (let i = 0; i < n; i++) {
+    const d = (p[2 * i] - cx) ** 2 + (p[2 * i + 1] - cy) ** 2;
+    if (d < near) {
+      near = d;
+      at = i;
+    }
+  }
+  return at;
+}
+
 export function bandwidthLowerBound(K: HermitianCsr, positions: Float64Array | null = null): number {
   const n = K.n;
   if (n <= 1) return 0;
@@ -185,22 +215,7 @@ export function bandwidthLowerBound(K: HermitianCsr, positions: Float64Array | n
   const seen = new Uint8Array(n);
   let covered = 0;
   // a start near the middle of the drawing (it lies in the largest component, as a rule)
-  let centre = -1;
-  if (positions && positions.length >= 2 * n) {
-    let [x0, x1, y0, y1] = [Infinity, -Infinity, Infinity, -Infinity];
-    for (let i = 0; i < n; i++) {
-      x0 = Math.min(x0, positions[2 * i]);
-      x1 = Math.max(x1, positions[2 * i]);
-      y0 = Math.min(y0, positions[2 * i + 1]);
-      y1 = Math.max(y1, positions[2 * i + 1]);
-    }
-    const [cx, cy] = [(x0 + x1) / 2, (y0 + y1) / 2];
-    let near = Infinity;
-    for (let i = 0; i < n; i++) {
-      const d = (positions[2 * i] - cx) ** 2 + (positions[2 * i + 1] - cy) ** 2;
-      if (d < near) [near, centre] = [d, i];
-    }
-  }
+  const centre = positions && positions.length >= 2 * n ? nearestToMiddle(positions, n) : -1;
   // components until the rest could not beat the bound found
   while (covered < n && n - covered - 1 > 2 * best) {
     while (seen[start]) start++;
@@ -229,11 +244,21 @@ interface Search {
 
 /** Breadth-first search from s over the pattern (ptr, idx): [last vertex reached, its level, vertices reached]; the queue holds them in order. */
 function breadthFirst(b: Search, s: number): [number, number, number] {
-  const { ptr, idx, level, parent, queue } = b;
-  level.fill(-1);
-  level[s] = 0;
-  parent[s] = -1;
-  queue[0] = s;
+  b.level.fill(-1);
+  b.level[s] = 0;
+  b.parent[s] = -1;
+  b.queue[0] = s;
+  const tail = spread(b.ptr, b.idx, b.level, b.parent, b.queue);
+  const last = b.queue[tail - 1];
+  return [last, b.level[last], tail];
+}
+
+/**
+ * The search itself from the one vertex queued; returns how many it reached. Nothing follows the
+ * loop but the return: V8 compiles the long first run of the loop with the feedback gathered so
+ * far, and code after it (never run yet) would send it back to the start.
+ */
+function spread(ptr: Int32Array, idx: Int32Array, level: Int32Array, parent: Int32Array, queue: Int32Array): number {
   let head = 0;
   let tail = 1;
   while (head < tail) {
@@ -247,8 +272,7 @@ function breadthFirst(b: Search, s: number): [number, number, number] {
       }
     }
   }
-  const last = queue[tail - 1];
-  return [last, level[last], tail];
+  return tail;
 }
 
 /**
@@ -331,50 +355,70 @@ export function gramBand(side: Side): BandMatrix {
 export function gramCsr(side: Side): HermitianCsr {
   const { A, AH } = side;
   const n = side.dim;
-  const mark = new Int32Array(n).fill(-1);
-  const accR = new Float64Array(n);
-  const Aim = A.im;
-  const AHim = AH.im;
-  const accI = Aim ? new Float64Array(n) : null;
-  const ptr = new Int32Array(n + 1);
   const cap = productBound(A, AH) + n;
-  const idx = new Int32Array(cap);
-  const re = new Float64Array(cap);
-  const im = accI ? new Float64Array(cap) : null;
-  const { rowPtr: hPtr, colIdx: hIdx, re: hRe } = AH;
-  const { rowPtr: aPtr, colIdx: aIdx, re: aRe } = A;
+  const g: GramRows = {
+    A,
+    AH,
+    mark: new Int32Array(n).fill(-1),
+    accR: new Float64Array(n),
+    accI: A.im ? new Float64Array(n) : null,
+    idx: new Int32Array(cap),
+    re: new Float64Array(cap),
+    im: A.im ? new Float64Array(cap) : null,
+  };
+  const ptr = new Int32Array(n + 1);
+  // one call per row: V8 compiles the row's function whole after a few calls (as the body of one
+  // long loop it ran on fresh code until compiled mid-run, and dropped out at the first new branch)
   let w = 0;
-  for (let i = 0; i < n; i++) {
-    const begin = w;
-    // K_ij = Σ_r conj(A_ri) A_rj; AH's row i holds conj(A_ri)
-    for (let a = hPtr[i]; a < hPtr[i + 1]; a++) {
-      const r = hIdx[a];
-      const xr = hRe[a];
-      const xi = AHim ? AHim[a] : 0;
-      for (let b = aPtr[r]; b < aPtr[r + 1]; b++) {
-        const j = aIdx[b];
-        if (mark[j] !== i) {
-          mark[j] = i;
-          accR[j] = 0;
-          if (accI) accI[j] = 0;
-          idx[w++] = j;
-        }
-        const yr = aRe[b];
-        accR[j] += xr * yr - (Aim ? xi * Aim[b] : 0);
-        if (accI) accI[j] += xr * Aim![b] + xi * yr;
-      }
-    }
-    const diagonal = mark[i] === i;
-    if (!diagonal) idx[w++] = i; // an empty column still gets its (zero) diagonal
-    sortRows(idx, begin, w);
-    for (let t = begin; t < w; t++) {
-      const j = idx[t];
-      const here = j !== i || diagonal;
-      re[t] = here ? accR[j] : 0;
-      if (im) im[t] = here && j !== i ? accI![j] : 0;
-    }
-    ptr[i + 1] = w;
-  }
+  for (let i = 0; i < n; i++) ptr[i + 1] = w = gramRow(g, i, w);
   // views, not copies: a copy would write (and page in) another few megabytes on a large side
-  return { n, ptr, idx: idx.subarray(0, w), re: re.subarray(0, w), im: im ? im.subarray(0, w) : null };
+  return { n, ptr, idx: g.idx.subarray(0, w), re: g.re.subarray(0, w), im: g.im ? g.im.subarray(0, w) : null };
+}
+
+/** gramCsr's inputs and buffers. */
+interface GramRows {
+  A: SparseMatrix;
+  AH: SparseMatrix;
+  mark: Int32Array;
+  accR: Float64Array;
+  accI: Float64Array | null;
+  idx: Int32Array;
+  re: Float64Array;
+  im: Float64Array | null;
+}
+
+/** Row i of K = AᴴA into the buffers from w; returns the end of the row. */
+function gramRow(g: GramRows, i: number, w: number): number {
+  const { mark, accR, accI, idx, re, im } = g;
+  const { rowPtr: hPtr, colIdx: hIdx, re: hRe, im: AHim } = g.AH;
+  const { rowPtr: aPtr, colIdx: aIdx, re: aRe, im: Aim } = g.A;
+  const begin = w;
+  // K_ij = Σ_r conj(A_ri) A_rj; AH's row i holds conj(A_ri)
+  for (let a = hPtr[i]; a < hPtr[i + 1]; a++) {
+    const r = hIdx[a];
+    const xr = hRe[a];
+    const xi = AHim ? AHim[a] : 0;
+    for (let b = aPtr[r]; b < aPtr[r + 1]; b++) {
+      const j = aIdx[b];
+      if (mark[j] !== i) {
+        mark[j] = i;
+        accR[j] = 0;
+        if (accI) accI[j] = 0;
+        idx[w++] = j;
+      }
+      const yr = aRe[b];
+      accR[j] += xr * yr - (Aim ? xi * Aim[b] : 0);
+      if (accI) accI[j] += xr * Aim![b] + xi * yr;
+    }
+  }
+  const diagonal = mark[i] === i;
+  if (!diagonal) idx[w++] = i; // an empty column still gets its (zero) diagonal
+  sortRows(idx, begin, w);
+  for (let t = begin; t < w; t++) {
+    const j = idx[t];
+    const here = j !== i || diagonal;
+    re[t] = here ? accR[j] : 0;
+    if (im) im[t] = here && j !== i ? accI![j] : 0;
+  }
+  return w;
 }
