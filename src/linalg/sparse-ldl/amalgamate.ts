@@ -59,7 +59,6 @@ export function amalgamate(st: Structure, maxSupernode: number): Structure {
   const into = new Int32Array(ns).fill(-1);
   const cand = new Int32Array(ns);
   const cost = new Float64Array(ns);
-  let merged = 0;
   for (let p = 0; p < ns; p++) {
     const k = childrenByZeros(p, head, next, cols, below, entries, cand, cost);
     for (let t = 0; t < k; t++) {
@@ -71,10 +70,9 @@ export function amalgamate(st: Structure, maxSupernode: number): Structure {
       cols[p] = w;
       entries[p] += entries[c];
       into[c] = p;
-      merged++;
     }
   }
-  if (merged === 0) return st;
+  // renumbered even with nothing merged: the factorisation needs the supernodes in a postorder
   return renumber(st, into);
 }
 

@@ -15,7 +15,6 @@
 import { croutRowComplex, croutRowReal, croutRowsComplex, croutRowsReal } from './factor-kernels.js';
 import { CHUNK, solveColumns, type SolveData } from './solve.js';
 import type { SymbolicFactor } from './symbolic.js';
-import { UpdatePool } from './update-pool.js';
 import { inChunks, shareable, sharedFloats, SPLIT_WORK } from '../parallel/helper.js';
 
 /** A Hermitian matrix in CSR form with both triangles stored (row i lists A_ij). */
@@ -122,8 +121,8 @@ export function factorBytes(sym: SymbolicFactor, complex: boolean): number {
   const f = complex ? 2 : 1;
   let maxCols = 0;
   for (let s = 0; s + 1 < sym.superStart.length; s++) maxCols = Math.max(maxCols, sym.superStart[s + 1] - sym.superStart[s]);
-  // update matrices: the live ones (peakUpdateWords) and the pool's free buffers (a quarter of it)
-  return 8 * f * (panelWords(sym) + sym.maxFront * sym.maxFront + sym.maxFront * maxCols + Math.ceil(1.25 * sym.peakUpdateWords)) + 8 * sym.n;
+  // update matrices: their stack at its peak (peakUpdateWords)
+  return 8 * f * (panelWords(sym) + sym.maxFront * sym.maxFront + sym.maxFront * maxCols + sym.peakUpdateWords) + 8 * sym.n;
 }
 
 /** A − shift·I = P ᵀ L D Lᴴ P by the multifrontal method, no pivoting. */
@@ -169,9 +168,10 @@ export function sparseLdl(A: HermitianCsr, sym: SymbolicFactor, options: SparseL
     pos: new Int32Array(n),
     rel: new Int32Array(maxFront),
     gOut: new Float64Array(1),
-    pool: new UpdatePool(Math.floor(sym.peakUpdateWords / 4)),
-    updR: new Array(nsup).fill(null),
-    updI: new Array(nsup).fill(null),
+    stackR: new Float64Array(sym.peakUpdateWords),
+    stackI: complex ? new Float64Array(sym.peakUpdateWords) : null,
+    top: 0,
+    updateAt: new Int32Array(nsup).fill(-1),
     firstChild,
     nextSibling,
     negatives: 0,
@@ -213,10 +213,17 @@ interface Fronts {
   pos: Int32Array;
   rel: Int32Array;
   gOut: Float64Array;
-  pool: UpdatePool;
-  /** The update matrices waiting for their parent. */
-  updR: (Float64Array | null)[];
-  updI: (Float64Array | null)[];
+  /**
+   * The update matrices waiting for their parent, on a stack: the supernodes come in a postorder
+   * (symbolic.ts), so a front's children's matrices are the topmost ones when it is assembled, and
+   * its own goes where theirs were. One buffer of the peak's size, written front after front, in
+   * place of a matrix allocated (and its fresh pages faulted in) per front.
+   */
+  stackR: Float64Array;
+  stackI: Float64Array | null;
+  top: number;
+  /** Where supernode s's update matrix starts on the stack (−1: none waiting). */
+  updateAt: Int32Array;
   firstChild: Int32Array;
   nextSibling: Int32Array;
   negatives: number;
@@ -261,7 +268,7 @@ function rowGrowthMax(rowSum: Float64Array, d: Float64Array): number {
  * columns, keep the panel and pass the Schur complement up. False at a breakdown (st.breakdown).
  */
 function factorFront(st: Fronts, s: number): boolean {
-  const { A, sym, pos, rel, FR, FI, WR, WI, d, gOut, pool, updR, updI } = st;
+  const { A, sym, pos, rel, FR, FI, WR, WI, d, gOut, stackR, stackI, updateAt } = st;
   const { order, perm, superStart, rowPtr, superRows, superParent } = sym;
   const f = superStart[s];
   const w = superStart[s + 1] - f;
@@ -273,21 +280,25 @@ function factorFront(st: Fronts, s: number): boolean {
   if (FI) FI.fill(0, 0, nf * nf);
   assembleFront(A, order, perm, pos, f, w, nf, st.shift, FR, FI);
   // extend-add of the children's update matrices
+  let base = st.top;
+  let words = 0;
   for (let c = st.firstChild[s]; c >= 0; c = st.nextSibling[c]) {
-    const U = updR[c];
-    if (!U) continue;
-    const UI = updI[c];
+    const at = updateAt[c];
+    if (at < 0) continue;
     const cw = superStart[c + 1] - superStart[c];
     const cr0 = rowPtr[c] + cw;
     const nuc = rowPtr[c + 1] - cr0;
     for (let a = 0; a < nuc; a++) rel[a] = pos[superRows[cr0 + a]];
-    if (UI) extendAddComplex(FR, FI!, U, UI, rel, nuc, nf);
+    const U = stackR.subarray(at, at + nuc * nuc);
+    if (stackI) extendAddComplex(FR, FI!, U, stackI.subarray(at, at + nuc * nuc), rel, nuc, nf);
     else extendAddReal(FR, U, rel, nuc, nf);
-    pool.give(U);
-    if (UI) pool.give(UI);
-    updR[c] = null;
-    updI[c] = null;
+    updateAt[c] = -1;
+    base = Math.min(base, at);
+    words += nuc * nuc;
   }
+  // the children's matrices were the top of the stack; their space is free again
+  if (base + words !== st.top) throw new Error(`sparseLdl: supernode ${s}'s children's update matrices are not the top of the stack (the supernodes are not in a postorder)`);
+  st.top = base;
   // Crout rows: L_ij for j < min(i, w), D_i for i < w; W holds L_ik·D_k. Rows go in blocks of
   // four: their entries left of the block's first row (every pivot they need is known) in
   // register blocks, then row by row the rest of the block's triangle and the pivot.
@@ -324,12 +335,13 @@ function factorFront(st: Fronts, s: number): boolean {
   }
   // the Schur complement of the rows below, for the parent
   if (nu > 0 && superParent[s] >= 0) {
-    const U = pool.take(nu * nu);
-    const UI = FI ? pool.take(nu * nu) : null;
+    const at = st.top;
+    if (at + nu * nu > stackR.length) throw new Error(`sparseLdl: the update stack (${stackR.length} words) is too small at supernode ${s}`);
+    const U = stackR.subarray(at, at + nu * nu);
     if (!FI) schurReal(FR, WR, U, nf, w, nu);
-    else schurComplex(FR, FI, WR, WI!, U, UI!, nf, w, nu);
-    updR[s] = U;
-    updI[s] = UI;
+    else schurComplex(FR, FI, WR, WI!, U, stackI!.subarray(at, at + nu * nu), nf, w, nu);
+    updateAt[s] = at;
+    st.top = at + nu * nu;
   }
   return true;
 }

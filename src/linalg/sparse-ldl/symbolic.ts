@@ -44,8 +44,8 @@ export interface SymbolicFactor {
 
 /**
  * Analyse the pattern g (neighbours of each unknown; self loops ignored) under `ordering`. The
- * result's `order` may be a different, equivalent one (the same fill): when supernodes merge, the
- * columns are renumbered so each merged one is a run. `maxSupernode` caps the columns of one supernode
+ * result's `order` is an equivalent one (the same fill): a postorder of the merged supernodes'
+ * tree, each one's columns in a run (the numeric factorisation keeps its update matrices on a stack). `maxSupernode` caps the columns of one supernode
  * (default 256).
  */
 export function analyse(g: Graph, ordering: Int32Array, maxSupernode = 256): SymbolicFactor {
@@ -211,17 +211,18 @@ function finish(st: Structure): SymbolicFactor {
       firstChild[p] = s;
     }
   }
-  // peak of the update matrices alive at once (children's kept until their parent is done)
+  // peak of the update matrices' stack (numeric.ts): a front's children's matrices are freed when
+  // it is assembled, then its own is pushed (a root pushes none)
   let live = 0;
   let peakUpdateWords = 0;
   const updateWords = (s: number) => {
     const u = rowPtr[s + 1] - rowPtr[s] - (superStart[s + 1] - superStart[s]);
-    return u * u;
+    return superParent[s] >= 0 ? u * u : 0;
   };
   for (let s = 0; s < ns; s++) {
+    for (let c = firstChild[s]; c >= 0; c = nextSibling[c]) live -= updateWords(c);
     live += updateWords(s);
     peakUpdateWords = Math.max(peakUpdateWords, live);
-    for (let c = firstChild[s]; c >= 0; c = nextSibling[c]) live -= updateWords(c);
   }
 
   // nnz(L) and flops as stored and done (explicit zeros of relaxed supernodes included)
