@@ -427,58 +427,116 @@ function extendAddComplex(FR: Float64Array, FI: Float64Array, UR: Float64Array, 
   }
 }
 
-/** U_ab = F_(w+a)(w+b) − Σ_k W_(w+a)k L_(w+b)k for b ≤ a, two rows and two columns at a time. */
+/**
+ * U_ab = F_(w+a)(w+b) − Σ_k W_(w+a)k L_(w+b)k for b ≤ a: four rows and two columns at a time (eight
+ * sums held in registers, six loads per step), then the rest of the four rows' triangle, then any
+ * last rows two and one at a time. Every entry's sum runs over k in order from 0, as one dot
+ * product would.
+ */
 function schurReal(F: Float64Array, W: Float64Array, U: Float64Array, nf: number, w: number, nu: number): void {
   let a = 0;
-  for (; a + 1 < nu; a += 2) {
-    const i0 = w + a;
-    const w0 = i0 * w;
-    const w1 = w0 + w;
-    let b = 0;
-    for (; b + 1 <= a; b += 2) {
-      const l0 = (w + b) * nf;
-      const l1 = l0 + nf;
-      let s00 = 0;
-      let s01 = 0;
-      let s10 = 0;
-      let s11 = 0;
-      for (let k = 0; k < w; k++) {
-        const x0 = W[w0 + k];
-        const x1 = W[w1 + k];
-        const y0 = F[l0 + k];
-        const y1 = F[l1 + k];
-        s00 += x0 * y0;
-        s01 += x0 * y1;
-        s10 += x1 * y0;
-        s11 += x1 * y1;
-      }
-      U[a * nu + b] = F[i0 * nf + w + b] - s00;
-      U[a * nu + b + 1] = F[i0 * nf + w + b + 1] - s01;
-      U[(a + 1) * nu + b] = F[(i0 + 1) * nf + w + b] - s10;
-      U[(a + 1) * nu + b + 1] = F[(i0 + 1) * nf + w + b + 1] - s11;
+  for (; a + 3 < nu; a += 4) schurRows4(F, W, U, nf, w, nu, a);
+  for (; a + 1 < nu; a += 2) schurRows2(F, W, U, nf, w, nu, a);
+  if (a < nu) schurRow(F, W, U, nf, w, nu, a, 0);
+}
+
+/** Rows a … a+3 of U (see schurReal). */
+function schurRows4(F: Float64Array, W: Float64Array, U: Float64Array, nf: number, w: number, nu: number, a: number): void {
+  const i0 = w + a;
+  const w0 = i0 * w;
+  const w1 = w0 + w;
+  const w2 = w1 + w;
+  const w3 = w2 + w;
+  const f0 = i0 * nf + w;
+  const f1 = f0 + nf;
+  const f2 = f1 + nf;
+  const f3 = f2 + nf;
+  const u0 = a * nu;
+  const u1 = u0 + nu;
+  const u2 = u1 + nu;
+  const u3 = u2 + nu;
+  let b = 0;
+  for (; b + 1 <= a; b += 2) {
+    const l0 = (w + b) * nf;
+    const l1 = l0 + nf;
+    let s00 = 0;
+    let s01 = 0;
+    let s10 = 0;
+    let s11 = 0;
+    let s20 = 0;
+    let s21 = 0;
+    let s30 = 0;
+    let s31 = 0;
+    for (let k = 0; k < w; k++) {
+      const y0 = F[l0 + k];
+      const y1 = F[l1 + k];
+      const x0 = W[w0 + k];
+      const x1 = W[w1 + k];
+      const x2 = W[w2 + k];
+      const x3 = W[w3 + k];
+      s00 += x0 * y0;
+      s01 += x0 * y1;
+      s10 += x1 * y0;
+      s11 += x1 * y1;
+      s20 += x2 * y0;
+      s21 += x2 * y1;
+      s30 += x3 * y0;
+      s31 += x3 * y1;
     }
-    // b = a (even a): the 2×2 diagonal block's lower part was done above only when b < a
-    for (; b <= a + 1; b++) {
-      const l = (w + b) * nf;
-      let s0 = 0;
-      let s1 = 0;
-      for (let k = 0; k < w; k++) {
-        s0 += W[w0 + k] * F[l + k];
-        s1 += W[w1 + k] * F[l + k];
-      }
-      if (b <= a) U[a * nu + b] = F[i0 * nf + w + b] - s0;
-      U[(a + 1) * nu + b] = F[(i0 + 1) * nf + w + b] - s1;
-    }
+    U[u0 + b] = F[f0 + b] - s00;
+    U[u0 + b + 1] = F[f0 + b + 1] - s01;
+    U[u1 + b] = F[f1 + b] - s10;
+    U[u1 + b + 1] = F[f1 + b + 1] - s11;
+    U[u2 + b] = F[f2 + b] - s20;
+    U[u2 + b + 1] = F[f2 + b + 1] - s21;
+    U[u3 + b] = F[f3 + b] - s30;
+    U[u3 + b + 1] = F[f3 + b + 1] - s31;
   }
-  for (; a < nu; a++) {
-    const i = w + a;
-    const wi = i * w;
-    for (let b = 0; b <= a; b++) {
-      const l = (w + b) * nf;
-      let s = 0;
-      for (let k = 0; k < w; k++) s += W[wi + k] * F[l + k];
-      U[a * nu + b] = F[i * nf + w + b] - s;
+  // b = a now: the 4×4 triangle left
+  for (let r = 0; r < 4; r++) schurRow(F, W, U, nf, w, nu, a + r, b);
+}
+
+/** Rows a, a+1 of U (see schurReal). */
+function schurRows2(F: Float64Array, W: Float64Array, U: Float64Array, nf: number, w: number, nu: number, a: number): void {
+  const i0 = w + a;
+  const w0 = i0 * w;
+  const w1 = w0 + w;
+  let b = 0;
+  for (; b + 1 <= a; b += 2) {
+    const l0 = (w + b) * nf;
+    const l1 = l0 + nf;
+    let s00 = 0;
+    let s01 = 0;
+    let s10 = 0;
+    let s11 = 0;
+    for (let k = 0; k < w; k++) {
+      const x0 = W[w0 + k];
+      const x1 = W[w1 + k];
+      const y0 = F[l0 + k];
+      const y1 = F[l1 + k];
+      s00 += x0 * y0;
+      s01 += x0 * y1;
+      s10 += x1 * y0;
+      s11 += x1 * y1;
     }
+    U[a * nu + b] = F[i0 * nf + w + b] - s00;
+    U[a * nu + b + 1] = F[i0 * nf + w + b + 1] - s01;
+    U[(a + 1) * nu + b] = F[(i0 + 1) * nf + w + b] - s10;
+    U[(a + 1) * nu + b + 1] = F[(i0 + 1) * nf + w + b + 1] - s11;
+  }
+  schurRow(F, W, U, nf, w, nu, a, b);
+  schurRow(F, W, U, nf, w, nu, a + 1, b);
+}
+
+/** Row a of U from column b0 to the diagonal (see schurReal). */
+function schurRow(F: Float64Array, W: Float64Array, U: Float64Array, nf: number, w: number, nu: number, a: number, b0: number): void {
+  const i = w + a;
+  const wi = i * w;
+  for (let b = b0; b <= a; b++) {
+    const l = (w + b) * nf;
+    let s = 0;
+    for (let k = 0; k < w; k++) s += W[wi + k] * F[l + k];
+    U[a * nu + b] = F[i * nf + w + b] - s;
   }
 }
 
