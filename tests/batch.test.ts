@@ -242,10 +242,10 @@ describe('shimmy batch', () => {
   });
 
   const bundle = join(ROOT, 'build', 'cli');
-  const bundled = existsSync(join(bundle, 'worker.js')) && existsSync(join(bundle, 'run.js')) && statSync(join(bundle, 'worker.js')).mtimeMs >= statSync(join(ROOT, 'src', 'batch', 'worker.ts')).mtimeMs;
+  const bundled = existsSync(join(bundle, 'worker.js')) && existsSync(join(bundle, 'run.cjs')) && statSync(join(bundle, 'worker.js')).mtimeMs >= statSync(join(ROOT, 'src', 'batch', 'worker.ts')).mtimeMs;
   it.skipIf(!bundled)('the CLI bundle (build/cli, npm run build:cli) runs its worker threads too', () => {
     const p = writePlan('bundle.json', { grid: { command: ['count', 'edges'], framework: 'gallery:kagome', options: {} } });
-    const r = spawnSync(process.execPath, [join(bundle, 'run.js'), 'batch', p, '--workers', '2'], { encoding: 'utf8' });
+    const r = spawnSync(process.execPath, [join(bundle, 'run.cjs'), 'batch', p, '--workers', '2'], { encoding: 'utf8' });
     expect(r.status).toBe(0);
     const lines = r.stdout.trim().split('\n').map((l) => JSON.parse(l) as Line);
     expect(lines.map((l) => l.job.command).sort()).toEqual(['count', 'edges']);

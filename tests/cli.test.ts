@@ -130,7 +130,9 @@ describe('help and errors', () => {
 describe('the installed command', () => {
   it('bin/shimmy.js runs the CLI (the build npm ci makes, or the sources through tsx) and sets the exit code', () => {
     // npm ci's prepare step builds the CLI bundle
-    expect(existsSync('build/cli/run.js')).toBe(true);
+    expect(existsSync('build/cli/run.cjs')).toBe(true);
+    // and the V8 code cache the build writes beside it (tools/write-code-cache.mjs)
+    expect(existsSync('build/cli/run.cjs.cache')).toBe(true);
     const outputs: string[] = [];
     for (const env of [{ ...process.env, SHIMMY_FROM_SOURCE: '1' }, process.env]) {
       const ok = spawnSync(process.execPath, ['bin/shimmy.js', 'count', 'gallery:square', '--cells', '3x3', '--json'], { encoding: 'utf8', env });

@@ -13,4 +13,6 @@ try {
 // The helper thread starts at the first kernel worth splitting; `batch` keeps every core busy with
 // jobs of its own.
 if (threads === 2 && argv[0] !== 'batch') startHelperThread({ lazy: true });
-process.exitCode = await main(argv);
+void main(argv).then((code) => {
+  process.exitCode = code;
+});
