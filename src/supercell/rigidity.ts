@@ -46,24 +46,26 @@ export function rigidityMatrix(sc: Supercell): SparseMatrix {
   const { count: m, a: A, b: B, source, phase } = sc.rows;
   const complex = !sc.real;
   // at most 4 entries per row, in column order; the two ends' entries are summed when a bar
-  // joins a joint to itself (a one-cell twisted axis), in the order −p then φ·p
+  // joins a joint to itself (a one-cell twisted axis), in the order −p then φ·p. Each pass its
+  // own function: they run once per matrix on fresh code (see linalg/sparse.ts conjugateTranspose).
   const rowPtr = new Int32Array(m + 1);
-  let nnz = 0;
-  for (let r = 0; r < m; r++) nnz += (A[r] >= 0 ? 2 : 0) + (B[r] >= 0 && B[r] !== A[r] ? 2 : 0);
+  const nnz = entryCount(A, B, m);
   const colIdx = new Int32Array(nnz);
   const re = new Float64Array(nnz);
   const im = complex ? new Float64Array(nnz) : null;
-  const putB = (k: number, b: number, px: number, py: number, cr: number, ci: number): number => {
-    colIdx[k] = 2 * b;
-    re[k] = cr * px;
-    colIdx[k + 1] = 2 * b + 1;
-    re[k + 1] = cr * py;
-    if (im) {
-      im[k] = ci * px;
-      im[k + 1] = ci * py;
-    }
-    return k + 2;
-  };
+  fillRows(A, B, source, phase, p, m, rowPtr, colIdx, re, im);
+  return { rows: m, cols: 2 * sc.jointCount, rowPtr, colIdx, re, im };
+}
+
+/** Entries of R: 2 per inside end of each bar, 2 for a bar joining a joint to itself. */
+function entryCount(A: Int32Array, B: Int32Array, m: number): number {
+  let nnz = 0;
+  for (let r = 0; r < m; r++) nnz += (A[r] >= 0 ? 2 : 0) + (B[r] >= 0 && B[r] !== A[r] ? 2 : 0);
+  return nnz;
+}
+
+/** R's rows (see rigidityMatrix). */
+function fillRows(A: Int32Array, B: Int32Array, source: Int32Array, phase: Float64Array, p: Float64Array, m: number, rowPtr: Int32Array, colIdx: Int32Array, re: Float64Array, im: Float64Array | null): void {
   let k = 0;
   for (let r = 0; r < m; r++) {
     const a = A[r];
@@ -85,7 +87,7 @@ export function rigidityMatrix(sc: Supercell): SparseMatrix {
     } else {
       // the lower-numbered end first
       const bFirst = a >= 0 && b >= 0 && b < a;
-      if (bFirst) k = putB(k, b, px, py, cr, ci);
+      if (bFirst) k = putEnd(colIdx, re, im, k, b, px, py, cr, ci);
       if (a >= 0) {
         colIdx[k] = 2 * a;
         re[k] = -px;
@@ -93,11 +95,23 @@ export function rigidityMatrix(sc: Supercell): SparseMatrix {
         re[k + 1] = -py;
         k += 2;
       }
-      if (b >= 0 && !bFirst) k = putB(k, b, px, py, cr, ci);
+      if (b >= 0 && !bFirst) k = putEnd(colIdx, re, im, k, b, px, py, cr, ci);
     }
     rowPtr[r + 1] = k;
   }
-  return { rows: m, cols: 2 * sc.jointCount, rowPtr, colIdx, re, im };
+}
+
+/** The far end's two entries φ·p at joint b from entry k; returns the next entry. */
+function putEnd(colIdx: Int32Array, re: Float64Array, im: Float64Array | null, k: number, b: number, px: number, py: number, cr: number, ci: number): number {
+  colIdx[k] = 2 * b;
+  re[k] = cr * px;
+  colIdx[k + 1] = 2 * b + 1;
+  re[k + 1] = cr * py;
+  if (im) {
+    im[k] = ci * px;
+    im[k + 1] = ci * py;
+  }
+  return k + 2;
 }
 
 /**
