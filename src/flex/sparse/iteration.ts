@@ -194,7 +194,8 @@ export function certifiedIteration(
   // count (0 null vectors) is then certified as it stands and Lanczos alone finds the smallest σ.
   const nothingBelow = inertia.count === 0;
   let X: Block = { len: dim, re: [], im: complex ? [] : null };
-  // (the block is never read then unless Lanczos runs, which starts from its first column)
+  // (with nothing below and the kept σ a bound, the block is read only by the Lanczos run of an
+  // uncertified count, which then starts from a random vector of its own: it is left empty)
   addRandomColumns(X, nothingBelow && !measureKept ? 0 : q, ctx.rand);
   const floor = Math.max(1e-3 * tol, 16 * EPS * sigmaMax);
   let prev: Float64Array | null = null;

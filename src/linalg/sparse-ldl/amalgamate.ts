@@ -22,8 +22,8 @@ export const trapezoid = (w: number, nf: number) => w * nf - (w * (w - 1)) / 2;
 /**
  * How many stored zeros a merged front may hold, as a fraction of its entries, by its columns:
  * small fronts are dominated by the cost of visiting them, so they take many zeros; wide ones
- * do real work, so they take few (set by measurement on open kagome supercells: nested dissection
- * leaves of 1–3 columns merge, the flops grow by a few per cent).
+ * do real work, so they take few (set by measurement on open kagome 96×96: 25k supernodes become
+ * 7.3k, the flops grow by 0.1 % and the stored entries by 12 %; looser limits bought no more speed).
  */
 export function zerosAllowed(columns: number): number {
   if (columns <= 8) return 0.5;
