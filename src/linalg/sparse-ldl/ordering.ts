@@ -13,7 +13,7 @@
  * 48 in reverse Cuthill–McKee order.
  */
 import { reverseCuthillMcKee, type Graph } from '../banded.js';
-import { minimumDegree } from './minimum-degree.js';
+import { MinimumDegreeWork, minimumDegree } from './minimum-degree.js';
 
 export interface OrderingOptions {
   /** x, y of every unknown (2 per unknown), or null/undefined for the graph-only bisection. */
@@ -48,11 +48,13 @@ export function nestedDissection(g: Graph, options: OrderingOptions = {}): Int32
       label[v] = -1;
     }
   };
+  const work = new MinimumDegreeWork();
+  const subgraphWork = { ptr: new Int32Array(MAX_LEAF + 1), adj: new Int32Array(0) };
   const leaf = (nodes: Int32Array) => {
     if (nodes.length <= 2) return emit(nodes);
     // a subset that could not be split may be large: reverse Cuthill–McKee then (linear memory)
-    const local = inducedSubgraph(g, nodes, localIndex);
-    const o = nodes.length <= MAX_LEAF ? minimumDegree(local) : reverseCuthillMcKee(local);
+    const local = inducedSubgraph(g, nodes, localIndex, nodes.length <= MAX_LEAF ? subgraphWork : null);
+    const o = nodes.length <= MAX_LEAF ? minimumDegree(local, work) : reverseCuthillMcKee(local);
     for (let t = 0; t < o.length; t++) {
       const v = nodes[o[t]];
       order[filled++] = v;
@@ -310,8 +312,12 @@ function distribute(nodes: Int32Array, isLow: Uint8Array, inBoundary: Uint8Array
   }
 }
 
-/** The subgraph on `nodes` (local indices 0…k−1), self loops dropped; `local` is −1 everywhere and left so. */
-function inducedSubgraph(g: Graph, nodes: Int32Array, local: Int32Array): Graph {
+/**
+ * The subgraph on `nodes` (local indices 0…k−1), self loops dropped; `local` is −1 everywhere and
+ * left so. With `work` the graph's arrays are views of its buffers (grown when short), valid until
+ * the next call: the leaves of a dissection are ordered one after another.
+ */
+function inducedSubgraph(g: Graph, nodes: Int32Array, local: Int32Array, work: { ptr: Int32Array; adj: Int32Array } | null): Graph {
   const k = nodes.length;
   let bound = 0;
   for (let i = 0; i < k; i++) {
@@ -319,10 +325,19 @@ function inducedSubgraph(g: Graph, nodes: Int32Array, local: Int32Array): Graph 
     local[v] = i;
     bound += g.ptr[v + 1] - g.ptr[v];
   }
-  const ptr = new Int32Array(k + 1);
-  const adj = new Int32Array(bound);
+  if (work && work.adj.length < bound) work.adj = new Int32Array(Math.max(bound, 2 * work.adj.length));
+  const ptr = work ? work.ptr : new Int32Array(k + 1);
+  const adj = work ? work.adj : new Int32Array(bound);
+  const w = localEdges(g, nodes, local, ptr, adj);
+  for (let i = 0; i < k; i++) local[nodes[i]] = -1;
+  return { n: k, ptr: ptr.subarray(0, k + 1), adj: adj.subarray(0, w) };
+}
+
+/** The edges of the subgraph into ptr, adj; returns how many. */
+function localEdges(g: Graph, nodes: Int32Array, local: Int32Array, ptr: Int32Array, adj: Int32Array): number {
   let w = 0;
-  for (let i = 0; i < k; i++) {
+  ptr[0] = 0;
+  for (let i = 0; i < nodes.length; i++) {
     const v = nodes[i];
     for (let t = g.ptr[v]; t < g.ptr[v + 1]; t++) {
       const j = local[g.adj[t]];
@@ -330,8 +345,7 @@ function inducedSubgraph(g: Graph, nodes: Int32Array, local: Int32Array): Graph 
     }
     ptr[i + 1] = w;
   }
-  for (let i = 0; i < k; i++) local[nodes[i]] = -1;
-  return { n: k, ptr, adj: w === bound ? adj : adj.slice(0, w) };
+  return w;
 }
 
 /**
