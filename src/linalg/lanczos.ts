@@ -148,7 +148,7 @@ function absEntry(re: Float64Array, im: Float64Array | null, k: number): number 
 function absSums(A: SparseMatrix, rowSum: Float64Array, colSum: Float64Array): void {
   const { rows, rowPtr, colIdx, re, im } = A;
   for (let r = 0; r < rows; r++)
-    for (let k = rowPtr[r]; k < rowPtr[r + 1]; k++) {
+    for (let k = rowPtr[r], kEnd = rowPtr[r + 1]; k < kEnd; k++) {
       const a = absEntry(re, im, k);
       rowSum[r] += a;
       colSum[colIdx[k]] += a;
@@ -161,7 +161,7 @@ function absProducts(A: SparseMatrix, rowSum: Float64Array, colSum: Float64Array
   let viaRows = 0;
   for (let r = 0; r < rows; r++) {
     let s = 0;
-    for (let k = rowPtr[r]; k < rowPtr[r + 1]; k++) {
+    for (let k = rowPtr[r], kEnd = rowPtr[r + 1]; k < kEnd; k++) {
       const a = absEntry(re, im, k);
       viaCols[colIdx[k]] += a * rowSum[r];
       s += a * colSum[colIdx[k]];

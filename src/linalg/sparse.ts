@@ -112,7 +112,7 @@ export function sparseMatVecInto(A: SparseMatrix, xr: Float64Array, xi: Float64A
   for (let r = 0; r < A.rows; r++) {
     let sr = 0;
     let si = 0;
-    for (let k = rowPtr[r]; k < rowPtr[r + 1]; k++) {
+    for (let k = rowPtr[r], kEnd = rowPtr[r + 1]; k < kEnd; k++) {
       const c = colIdx[k];
       const ar = re[k];
       const ai = im ? im[k] : 0;
@@ -176,7 +176,7 @@ function columnStarts(colIdx: Int32Array, cols: number): Int32Array {
 /** Entry (r, c) of A to the next free place of row c of Aᴴ, conjugated. */
 function scatterRows(ptr: Int32Array, idx: Int32Array, aRe: Float64Array, aIm: Float64Array | null, rows: number, next: Int32Array, colIdx: Int32Array, re: Float64Array, im: Float64Array | null): void {
   for (let r = 0; r < rows; r++) {
-    for (let k = ptr[r]; k < ptr[r + 1]; k++) {
+    for (let k = ptr[r], kEnd = ptr[r + 1]; k < kEnd; k++) {
       const dst = next[idx[k]]++;
       colIdx[dst] = r;
       re[dst] = aRe[k];

@@ -36,7 +36,7 @@ export function gramBandwidth(A: SparseMatrix, perm: Int32Array): number {
   for (let r = 0; r < A.rows; r++) {
     let lo = Infinity;
     let hi = -Infinity;
-    for (let k = A.rowPtr[r]; k < A.rowPtr[r + 1]; k++) {
+    for (let k = A.rowPtr[r], kEnd = A.rowPtr[r + 1]; k < kEnd; k++) {
       const p = perm[A.colIdx[k]];
       if (p < lo) lo = p;
       if (p > hi) hi = p;
@@ -74,9 +74,9 @@ export function gramGraph(A: SparseMatrix, AH: SparseMatrix): Graph {
   let w = 0;
   for (let i = 0; i < n; i++) {
     mark[i] = i;
-    for (let k = hPtr[i]; k < hPtr[i + 1]; k++) {
+    for (let k = hPtr[i], kEnd = hPtr[i + 1]; k < kEnd; k++) {
       const r = hIdx[k];
-      for (let t = aPtr[r]; t < aPtr[r + 1]; t++) {
+      for (let t = aPtr[r], tEnd = aPtr[r + 1]; t < tEnd; t++) {
         const c = aIdx[t];
         if (mark[c] !== i) {
           mark[c] = i;
@@ -125,7 +125,7 @@ export function rowsByCell(R: SparseMatrix, colPerm: Int32Array): Int32Array {
   for (let r = 0; r < m; r++) {
     let a = n;
     let b = -1;
-    for (let k = R.rowPtr[r]; k < R.rowPtr[r + 1]; k++) {
+    for (let k = R.rowPtr[r], kEnd = R.rowPtr[r + 1]; k < kEnd; k++) {
       const p = colPerm[R.colIdx[k]];
       if (p < a) a = p;
       if (p > b) b = p;
@@ -263,7 +263,7 @@ function spread(ptr: Int32Array, idx: Int32Array, level: Int32Array, parent: Int
   let tail = 1;
   while (head < tail) {
     const v = queue[head++];
-    for (let t = ptr[v]; t < ptr[v + 1]; t++) {
+    for (let t = ptr[v], tEnd = ptr[v + 1]; t < tEnd; t++) {
       const u = idx[t];
       if (level[u] < 0) {
         level[u] = level[v] + 1;
@@ -328,11 +328,11 @@ export function gramBand(side: Side): BandMatrix {
   const gr = G.re;
   const gi = G.im;
   for (let r = 0; r < A.rows; r++) {
-    for (let a = A.rowPtr[r]; a < A.rowPtr[r + 1]; a++) {
+    for (let a = A.rowPtr[r], aEnd = A.rowPtr[r + 1]; a < aEnd; a++) {
       const i = perm[A.colIdx[a]];
       const xr = A.re[a];
       const xi = A.im ? A.im[a] : 0;
-      for (let b = A.rowPtr[r]; b < A.rowPtr[r + 1]; b++) {
+      for (let b = A.rowPtr[r], bEnd = A.rowPtr[r + 1]; b < bEnd; b++) {
         const j = perm[A.colIdx[b]];
         if (j > i) continue;
         // K_ij += conj(A_ri)·A_rj
@@ -394,11 +394,11 @@ function gramRow(g: GramRows, i: number, w: number): number {
   const { rowPtr: aPtr, colIdx: aIdx, re: aRe, im: Aim } = g.A;
   const begin = w;
   // K_ij = Σ_r conj(A_ri) A_rj; AH's row i holds conj(A_ri)
-  for (let a = hPtr[i]; a < hPtr[i + 1]; a++) {
+  for (let a = hPtr[i], aEnd = hPtr[i + 1]; a < aEnd; a++) {
     const r = hIdx[a];
     const xr = hRe[a];
     const xi = AHim ? AHim[a] : 0;
-    for (let b = aPtr[r]; b < aPtr[r + 1]; b++) {
+    for (let b = aPtr[r], bEnd = aPtr[r + 1]; b < bEnd; b++) {
       const j = aIdx[b];
       if (mark[j] !== i) {
         mark[j] = i;

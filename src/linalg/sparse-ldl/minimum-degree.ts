@@ -49,7 +49,7 @@ export function minimumDegree(g: Graph, work: MinimumDegreeWork = new MinimumDeg
   const words = (n + 31) >>> 5;
   const { bits, degree, key, nb } = work.reserve(n, words);
   for (let v = 0; v < n; v++)
-    for (let k = g.ptr[v]; k < g.ptr[v + 1]; k++) {
+    for (let k = g.ptr[v], kEnd = g.ptr[v + 1]; k < kEnd; k++) {
       const u = g.adj[k];
       if (u !== v) {
         bits[v * words + (u >>> 5)] |= 1 << (u & 31);

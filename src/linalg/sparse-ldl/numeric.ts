@@ -235,7 +235,7 @@ function shiftedDiagonalMax(A: HermitianCsr, shift: number): number {
   let diagMax = 0;
   for (let v = 0; v < A.n; v++) {
     let a = 0;
-    for (let t = A.ptr[v]; t < A.ptr[v + 1]; t++) if (A.idx[t] === v) a += A.re[t];
+    for (let t = A.ptr[v], tEnd = A.ptr[v + 1]; t < tEnd; t++) if (A.idx[t] === v) a += A.re[t];
     diagMax = Math.max(diagMax, Math.abs(a - shift));
   }
   return diagMax;
@@ -354,7 +354,7 @@ function assembleFront(A: HermitianCsr, order: Int32Array, perm: Int32Array, pos
   for (let j = f; j < f + w; j++) {
     const v = order[j];
     const cj = j - f;
-    for (let t = A.ptr[v]; t < A.ptr[v + 1]; t++) {
+    for (let t = A.ptr[v], tEnd = A.ptr[v + 1]; t < tEnd; t++) {
       const i = perm[A.idx[t]];
       if (i < j) continue;
       const at = pos[i] * nf + cj;

@@ -78,7 +78,7 @@ export function nestedDissection(g: Graph, options: OrderingOptions = {}): Int32
     let depth = 0;
     for (let head = 0; head < seen.length; head++) {
       const v = seen[head];
-      for (let k = g.ptr[v]; k < g.ptr[v + 1]; k++) {
+      for (let k = g.ptr[v], kEnd = g.ptr[v + 1]; k < kEnd; k++) {
         const u = g.adj[k];
         if (label[u] !== id || level[u] >= 0) continue;
         level[u] = level[v] + 1;
@@ -288,7 +288,7 @@ function markBoundary(st: GeometricSplit, nodes: Int32Array, id: number, axis: n
     inBoundary[v] = 0;
     const c = p[2 * v + axis];
     if (side ? c + reach[2 * v + axis] < median : c - reach[2 * v + axis] > median) continue;
-    for (let k = ptr[v]; k < ptr[v + 1]; k++) {
+    for (let k = ptr[v], kEnd = ptr[v + 1]; k < kEnd; k++) {
       const u = adj[k];
       if (label[u] === id && isLow[u] !== side) {
         inBoundary[v] = 1;
@@ -339,7 +339,7 @@ function localEdges(g: Graph, nodes: Int32Array, local: Int32Array, ptr: Int32Ar
   ptr[0] = 0;
   for (let i = 0; i < nodes.length; i++) {
     const v = nodes[i];
-    for (let t = g.ptr[v]; t < g.ptr[v + 1]; t++) {
+    for (let t = g.ptr[v], tEnd = g.ptr[v + 1]; t < tEnd; t++) {
       const j = local[g.adj[t]];
       if (j >= 0 && j !== i) adj[w++] = j;
     }
@@ -365,7 +365,7 @@ function neighbourReach(g: Graph, p: Float64Array): Float64Array {
     const y = p[2 * v + 1];
     let rx = 0;
     let ry = 0;
-    for (let k = ptr[v]; k < ptr[v + 1]; k++) {
+    for (let k = ptr[v], kEnd = ptr[v + 1]; k < kEnd; k++) {
       const u = adj[k];
       const dx = Math.abs(p[2 * u] - x);
       const dy = Math.abs(p[2 * u + 1] - y);

@@ -88,7 +88,7 @@ function eliminationTree(g: Graph, order: Int32Array, perm: Int32Array): Int32Ar
   const ancestor = new Int32Array(n).fill(-1);
   for (let k = 0; k < n; k++) {
     const v = order[k];
-    for (let t = ptr[v]; t < ptr[v + 1]; t++) {
+    for (let t = ptr[v], tEnd = ptr[v + 1]; t < tEnd; t++) {
       let i = perm[adj[t]];
       while (i !== -1 && i < k) {
         const next = ancestor[i];
@@ -112,7 +112,7 @@ function rowSubtreeCounts(g: Graph, order: Int32Array, perm: Int32Array, parent:
     mark[k] = k;
     const v = order[k];
     let row = 1;
-    for (let t = ptr[v]; t < ptr[v + 1]; t++) {
+    for (let t = ptr[v], tEnd = ptr[v + 1]; t < tEnd; t++) {
       let j = perm[adj[t]];
       if (j >= k) continue;
       while (mark[j] !== k) {
@@ -177,7 +177,7 @@ function rowsOfSupernode(g: Graph, order: Int32Array, perm: Int32Array, superSta
   const base = w;
   for (let j = f; j < l; j++) {
     const v = order[j];
-    for (let t = ptr[v]; t < ptr[v + 1]; t++) {
+    for (let t = ptr[v], tEnd = ptr[v + 1]; t < tEnd; t++) {
       const i = perm[adj[t]];
       if (i >= l && mark[i] !== s) {
         mark[i] = s;
@@ -186,7 +186,7 @@ function rowsOfSupernode(g: Graph, order: Int32Array, perm: Int32Array, superSta
     }
   }
   for (let c = firstChild[s]; c >= 0; c = nextSibling[c]) {
-    for (let t = rowPtr[c]; t < rowPtr[c + 1]; t++) {
+    for (let t = rowPtr[c], tEnd = rowPtr[c + 1]; t < tEnd; t++) {
       const i = superRows[t];
       if (i >= l && mark[i] !== s) {
         mark[i] = s;
