@@ -4,7 +4,9 @@
  *
  * - Crout rows: for rows i of a block and columns j < jEnd (all earlier pivots known),
  *   W_ij = F_ij − Σ_{k<j} W_ik conj(L_jk) and L_ij = W_ij / D_j, written over F_ij; W = L·D.
- * - the Schur complement U = F₂₂ − W₂ L₂ᴴ of the rows below the supernode, for its parent.
+ * - the pivots D_i and their growth terms, the copy of the factored columns to L's panel;
+ * - the Schur complement U = F₂₂ − W₂ L₂ᴴ of the rows below the supernode, for its parent, and
+ *   the extend-add of a child's U into its parent's front.
  *
  * Register blocks (common practice in dense kernels, e.g. K. Goto & R. A. van de Geijn,
  * "Anatomy of high-performance matrix multiplication", ACM Trans. Math. Softw. 34, 12, 2008):
@@ -208,5 +210,203 @@ export function croutRowComplex(FR: Float64Array, FI: Float64Array, WR: Float64A
     WI[wi + j] = si;
     FR[fi + j] = sr / d[f + j];
     FI[fi + j] = si / d[f + j];
+  }
+}
+
+/** F_ii − Σ_{k<min(i,w)} W_ik L_ik (0 − … for a row below the supernode); Σ_k |W_ik L_ik| into g[0]. */
+export function pivotReal(F: Float64Array, W: Float64Array, nf: number, w: number, i: number, g: Float64Array): number {
+  const fi = i * nf;
+  const wi = i * w;
+  const kEnd = Math.min(i, w);
+  let dd = i < w ? F[fi + i] : 0;
+  let sum = 0;
+  for (let k = 0; k < kEnd; k++) {
+    const t = W[wi + k] * F[fi + k];
+    dd -= t;
+    sum += Math.abs(t);
+  }
+  g[0] = sum;
+  return dd;
+}
+
+/** pivotReal for complex data: W_ik conj(L_ik) = D_k |L_ik|². */
+export function pivotComplex(FR: Float64Array, FI: Float64Array, WR: Float64Array, WI: Float64Array, nf: number, w: number, i: number, g: Float64Array): number {
+  const fi = i * nf;
+  const wi = i * w;
+  const kEnd = Math.min(i, w);
+  let dd = i < w ? FR[fi + i] : 0;
+  let sum = 0;
+  for (let k = 0; k < kEnd; k++) {
+    const t = WR[wi + k] * FR[fi + k] + WI[wi + k] * FI[fi + k];
+    dd -= t;
+    sum += Math.abs(t);
+  }
+  g[0] = sum;
+  return dd;
+}
+
+/** The first w columns of the front F (nf × nf) into the panel L (nf × w) from p. */
+export function copyPanel(F: Float64Array, L: Float64Array, p: number, nf: number, w: number): void {
+  for (let i = 0; i < nf; i++) {
+    const fi = i * nf;
+    const pi = p + i * w;
+    for (let k = 0; k < w; k++) L[pi + k] = F[fi + k];
+  }
+}
+
+/** F_(rel a)(rel b) += U_ab for b ≤ a: a child's update matrix into its parent's front (rel ascending). */
+export function extendAddReal(F: Float64Array, U: Float64Array, rel: Int32Array, nu: number, nf: number): void {
+  for (let a = 0; a < nu; a++) {
+    const pa = rel[a] * nf;
+    const ua = a * nu;
+    for (let b = 0; b <= a; b++) F[pa + rel[b]] += U[ua + b];
+  }
+}
+
+/** extendAddReal for complex data. */
+export function extendAddComplex(FR: Float64Array, FI: Float64Array, UR: Float64Array, UI: Float64Array, rel: Int32Array, nu: number, nf: number): void {
+  for (let a = 0; a < nu; a++) {
+    const pa = rel[a] * nf;
+    const ua = a * nu;
+    for (let b = 0; b <= a; b++) {
+      FR[pa + rel[b]] += UR[ua + b];
+      FI[pa + rel[b]] += UI[ua + b];
+    }
+  }
+}
+
+/**
+ * U_ab = F_(w+a)(w+b) − Σ_k W_(w+a)k L_(w+b)k for b ≤ a: four rows and two columns at a time (eight
+ * sums held in registers, six loads per step), then the rest of the four rows' triangle, then any
+ * last rows two and one at a time. Every entry's sum runs over k in order from 0, as one dot
+ * product would.
+ */
+export function schurReal(F: Float64Array, W: Float64Array, U: Float64Array, nf: number, w: number, nu: number): void {
+  let a = 0;
+  for (; a + 3 < nu; a += 4) schurRows4(F, W, U, nf, w, nu, a);
+  for (; a + 1 < nu; a += 2) schurRows2(F, W, U, nf, w, nu, a);
+  if (a < nu) schurRow(F, W, U, nf, w, nu, a, 0);
+}
+
+/** Rows a … a+3 of U (see schurReal). */
+function schurRows4(F: Float64Array, W: Float64Array, U: Float64Array, nf: number, w: number, nu: number, a: number): void {
+  const i0 = w + a;
+  const w0 = i0 * w;
+  const w1 = w0 + w;
+  const w2 = w1 + w;
+  const w3 = w2 + w;
+  const f0 = i0 * nf + w;
+  const f1 = f0 + nf;
+  const f2 = f1 + nf;
+  const f3 = f2 + nf;
+  const u0 = a * nu;
+  const u1 = u0 + nu;
+  const u2 = u1 + nu;
+  const u3 = u2 + nu;
+  let b = 0;
+  for (; b + 1 <= a; b += 2) {
+    const l0 = (w + b) * nf;
+    const l1 = l0 + nf;
+    let s00 = 0;
+    let s01 = 0;
+    let s10 = 0;
+    let s11 = 0;
+    let s20 = 0;
+    let s21 = 0;
+    let s30 = 0;
+    let s31 = 0;
+    for (let k = 0; k < w; k++) {
+      const y0 = F[l0 + k];
+      const y1 = F[l1 + k];
+      const x0 = W[w0 + k];
+      const x1 = W[w1 + k];
+      const x2 = W[w2 + k];
+      const x3 = W[w3 + k];
+      s00 += x0 * y0;
+      s01 += x0 * y1;
+      s10 += x1 * y0;
+      s11 += x1 * y1;
+      s20 += x2 * y0;
+      s21 += x2 * y1;
+      s30 += x3 * y0;
+      s31 += x3 * y1;
+    }
+    U[u0 + b] = F[f0 + b] - s00;
+    U[u0 + b + 1] = F[f0 + b + 1] - s01;
+    U[u1 + b] = F[f1 + b] - s10;
+    U[u1 + b + 1] = F[f1 + b + 1] - s11;
+    U[u2 + b] = F[f2 + b] - s20;
+    U[u2 + b + 1] = F[f2 + b + 1] - s21;
+    U[u3 + b] = F[f3 + b] - s30;
+    U[u3 + b + 1] = F[f3 + b + 1] - s31;
+  }
+  // b = a now: the 4×4 triangle left
+  for (let r = 0; r < 4; r++) schurRow(F, W, U, nf, w, nu, a + r, b);
+}
+
+/** Rows a, a+1 of U (see schurReal). */
+function schurRows2(F: Float64Array, W: Float64Array, U: Float64Array, nf: number, w: number, nu: number, a: number): void {
+  const i0 = w + a;
+  const w0 = i0 * w;
+  const w1 = w0 + w;
+  let b = 0;
+  for (; b + 1 <= a; b += 2) {
+    const l0 = (w + b) * nf;
+    const l1 = l0 + nf;
+    let s00 = 0;
+    let s01 = 0;
+    let s10 = 0;
+    let s11 = 0;
+    for (let k = 0; k < w; k++) {
+      const x0 = W[w0 + k];
+      const x1 = W[w1 + k];
+      const y0 = F[l0 + k];
+      const y1 = F[l1 + k];
+      s00 += x0 * y0;
+      s01 += x0 * y1;
+      s10 += x1 * y0;
+      s11 += x1 * y1;
+    }
+    U[a * nu + b] = F[i0 * nf + w + b] - s00;
+    U[a * nu + b + 1] = F[i0 * nf + w + b + 1] - s01;
+    U[(a + 1) * nu + b] = F[(i0 + 1) * nf + w + b] - s10;
+    U[(a + 1) * nu + b + 1] = F[(i0 + 1) * nf + w + b + 1] - s11;
+  }
+  schurRow(F, W, U, nf, w, nu, a, b);
+  schurRow(F, W, U, nf, w, nu, a + 1, b);
+}
+
+/** Row a of U from column b0 to the diagonal (see schurReal). */
+function schurRow(F: Float64Array, W: Float64Array, U: Float64Array, nf: number, w: number, nu: number, a: number, b0: number): void {
+  const i = w + a;
+  const wi = i * w;
+  for (let b = b0; b <= a; b++) {
+    const l = (w + b) * nf;
+    let s = 0;
+    for (let k = 0; k < w; k++) s += W[wi + k] * F[l + k];
+    U[a * nu + b] = F[i * nf + w + b] - s;
+  }
+}
+
+/** schurReal for complex data: U_ab = F_ab − Σ_k W_ak conj(L_bk). */
+export function schurComplex(FR: Float64Array, FI: Float64Array, WR: Float64Array, WI: Float64Array, UR: Float64Array, UI: Float64Array, nf: number, w: number, nu: number): void {
+  for (let a = 0; a < nu; a++) {
+    const i = w + a;
+    const wi = i * w;
+    for (let b = 0; b <= a; b++) {
+      const l = (w + b) * nf;
+      let sr = 0;
+      let si = 0;
+      for (let k = 0; k < w; k++) {
+        const xr = WR[wi + k];
+        const xi = WI[wi + k];
+        const yr = FR[l + k];
+        const yi = FI[l + k];
+        sr += xr * yr + xi * yi;
+        si += xi * yr - xr * yi;
+      }
+      UR[a * nu + b] = FR[i * nf + w + b] - sr;
+      UI[a * nu + b] = FI[i * nf + w + b] - si;
+    }
   }
 }
