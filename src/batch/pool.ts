@@ -6,7 +6,7 @@
 import { existsSync } from 'node:fs';
 import { availableParallelism } from 'node:os';
 import { fileURLToPath } from 'node:url';
-import { Worker } from 'node:worker_threads';
+import { createRequire } from 'node:module';
 import type { BatchJob, JobOutcome } from './job.js';
 import type { JobMessage, WorkerReply } from './worker.js';
 
@@ -57,6 +57,8 @@ export function runPool(jobs: readonly BatchJob[], opts: PoolOptions): Promise<v
       // A young generation larger than V8's default (16 MB semi-spaces) keeps the dense jobs'
       // short-lived arrays out of frequent scavenges; with every core computing, those
       // scavenges were what kept two workers from running twice as fast as one.
+      // (node:worker_threads loaded here, not at start-up: ~3 ms every other command need not pay)
+      const { Worker } = createRequire(import.meta.url)('node:worker_threads') as typeof import('node:worker_threads');
       const worker = new Worker(script, { resourceLimits: { maxYoungGenerationSizeMb: YOUNG_GENERATION_MB } });
       live++;
       let ready = false;

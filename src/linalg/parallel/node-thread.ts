@@ -5,12 +5,21 @@
  * process alive.
  */
 import { existsSync } from 'node:fs';
+import { createRequire } from 'node:module';
 import { availableParallelism } from 'node:os';
 import { fileURLToPath } from 'node:url';
-import { MessageChannel, receiveMessageOnPort, Worker } from 'node:worker_threads';
+import type { MessagePort, Worker } from 'node:worker_threads';
 import { installHelperThread, type HelperThread } from './helper.js';
 import type { KernelName } from './kernels.js';
 import type { KernelMessage, ThreadData } from './kernel-thread.js';
+
+/**
+ * node:worker_threads, loaded when the thread starts: loading it costs ~3 ms of every command's
+ * start-up, and the CLI's lazy thread never starts in a count.
+ */
+function workerThreads(): typeof import('node:worker_threads') {
+  return createRequire(import.meta.url)('node:worker_threads') as typeof import('node:worker_threads');
+}
 
 // Held in variables so that bundlers leave these URLs alone.
 const BUILT_SCRIPT = './kernel-thread.js';
@@ -52,16 +61,20 @@ export interface RunningHelper {
  */
 export function startHelperThread(options: { lazy?: boolean } = {}): RunningHelper {
   const control = new Int32Array(new SharedArrayBuffer(8));
-  const { port1, port2 } = new MessageChannel();
-  port1.unref();
+  // the thread's error messages come back on port1 (made with the thread)
+  let port1: MessagePort | null = null;
   let worker: Worker | null = null;
   let stopped = false;
   let running = false;
   let tasks = 0;
   const launch = (): Worker => {
     if (worker) return worker;
-    const data: ThreadData = { control, replies: port2 };
-    const w = new Worker(threadScript(), { workerData: data, transferList: [port2] });
+    const { MessageChannel, Worker } = workerThreads();
+    const channel = new MessageChannel();
+    port1 = channel.port1;
+    port1.unref();
+    const data: ThreadData = { control, replies: channel.port2 };
+    const w = new Worker(threadScript(), { workerData: data, transferList: [channel.port2] });
     w.unref();
     w.on('error', () => {
       stopped = true;
@@ -92,7 +105,7 @@ export function startHelperThread(options: { lazy?: boolean } = {}): RunningHelp
       while (Atomics.load(control, 0) === 0) Atomics.wait(control, 0, 0);
       running = false;
       if (Atomics.load(control, 0) === 2) {
-        const reply = receiveMessageOnPort(port1);
+        const reply = port1 ? workerThreads().receiveMessageOnPort(port1) : undefined;
         throw new Error(`the helper thread failed in a kernel: ${reply ? String(reply.message) : 'no message'}`);
       }
     },
@@ -115,7 +128,7 @@ export function startHelperThread(options: { lazy?: boolean } = {}): RunningHelp
     async stop(): Promise<void> {
       stopped = true;
       installHelperThread(null);
-      port1.close();
+      port1?.close();
       if (worker) await worker.terminate();
     },
   };
