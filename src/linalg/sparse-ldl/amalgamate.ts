@@ -97,19 +97,48 @@ function childrenByZeros(p: number, head: Int32Array, next: Int32Array, cols: In
   return k;
 }
 
-/** The structure of the merged fronts (into[s] = the supernode s was merged into, −1 for a top). */
+/**
+ * The structure of the merged fronts (into[s] = the supernode s was merged into, −1 for a top).
+ * Each pass is a one-loop function of its own: they run once per analysis on fresh code, and V8
+ * compiles a long first run of a loop mid-run and drops out of it where the loop ends.
+ */
 function renumber(st: Structure, into: Int32Array): Structure {
-  const { n, order, parent, colCount, rowCount, superStart, rowPtr, superRows, superParent } = st;
+  const { n, superStart, superParent } = st;
   const ns = superStart.length - 1;
   // the top of each supernode's group (merges point upwards, so one pass from the roots down)
   const top = new Int32Array(ns);
-  for (let s = ns - 1; s >= 0; s--) top[s] = into[s] < 0 ? s : top[into[s]];
+  groupTops(into, top);
   // members of each group, ascending (children before parents); the groups' tree
   const memberHead = new Int32Array(ns).fill(-1);
   const memberNext = new Int32Array(ns).fill(-1);
   const groupHead = new Int32Array(ns).fill(-1);
   const groupNext = new Int32Array(ns).fill(-1);
-  for (let s = ns - 1; s >= 0; s--) {
+  groupLists(top, superParent, memberHead, memberNext, groupHead, groupNext);
+  // a postorder of the groups; q[old column] = new column
+  const q = new Int32Array(n);
+  const groupIndex = new Int32Array(ns).fill(-1);
+  const tops = new Int32Array(ns);
+  const starts = new Int32Array(ns + 1);
+  const G = postorderGroups(top, superParent, superStart, memberHead, memberNext, groupHead, groupNext, q, groupIndex, tops, starts);
+  starts[G] = n;
+  const start = starts.slice(0, G + 1);
+  const ptr = new Int32Array(G + 1);
+  const parentG = new Int32Array(G).fill(-1);
+  frontSizes(st, tops, start, top, groupIndex, ptr, parentG);
+  // rows: the group's own run of columns, then its top's rows below, renumbered and sorted
+  const rows = new Int32Array(ptr[G]);
+  for (let g = 0; g < G; g++) groupRows(st, tops[g], start[g], start[g + 1], ptr[g], q, rows);
+  const out = { n, order: new Int32Array(n), perm: new Int32Array(n), parent: new Int32Array(n), colCount: new Int32Array(n), rowCount: new Int32Array(n) };
+  relabelColumns(st, q, out);
+  return { ...out, superStart: start, rowPtr: ptr, superRows: rows, superParent: parentG };
+}
+
+function groupTops(into: Int32Array, top: Int32Array): void {
+  for (let s = into.length - 1; s >= 0; s--) top[s] = into[s] < 0 ? s : top[into[s]];
+}
+
+function groupLists(top: Int32Array, superParent: Int32Array, memberHead: Int32Array, memberNext: Int32Array, groupHead: Int32Array, groupNext: Int32Array): void {
+  for (let s = top.length - 1; s >= 0; s--) {
     const g = top[s];
     memberNext[s] = memberHead[g];
     memberHead[g] = s;
@@ -119,12 +148,13 @@ function renumber(st: Structure, into: Int32Array): Structure {
       groupHead[pg] = s;
     }
   }
-  // a postorder of the groups; q[old column] = new column
-  const q = new Int32Array(n);
-  const groupIndex = new Int32Array(ns).fill(-1);
-  const tops: number[] = [];
-  const starts: number[] = [];
+}
+
+/** The groups in a postorder (tops, the first new column of each in starts), q filled; returns their number. */
+function postorderGroups(top: Int32Array, superParent: Int32Array, superStart: Int32Array, memberHead: Int32Array, memberNext: Int32Array, groupHead: Int32Array, groupNext: Int32Array, q: Int32Array, groupIndex: Int32Array, tops: Int32Array, starts: Int32Array): number {
+  const ns = top.length;
   const stack = new Int32Array(ns);
+  let G = 0;
   let col = 0;
   for (let r = 0; r < ns; r++) {
     if (top[r] !== r || superParent[r] >= 0) continue;
@@ -139,44 +169,44 @@ function renumber(st: Structure, into: Int32Array): Structure {
         continue;
       }
       depth--;
-      groupIndex[g] = tops.length;
-      tops.push(g);
-      starts.push(col);
-      for (let m = memberHead[g]; m >= 0; m = memberNext[m]) for (let j = superStart[m]; j < superStart[m + 1]; j++) q[j] = col++;
+      groupIndex[g] = G;
+      tops[G] = g;
+      starts[G++] = col;
+      for (let m = memberHead[g]; m >= 0; m = memberNext[m]) for (let j = superStart[m], jEnd = superStart[m + 1]; j < jEnd; j++) q[j] = col++;
     }
   }
-  const G = tops.length;
-  const start = Int32Array.from(starts.concat(n));
-  const ptr = new Int32Array(G + 1);
-  const parentG = new Int32Array(G).fill(-1);
-  for (let g = 0; g < G; g++) {
+  return G;
+}
+
+/** Each merged front's row count (ptr, cumulative) and parent. */
+function frontSizes(st: Structure, tops: Int32Array, start: Int32Array, top: Int32Array, groupIndex: Int32Array, ptr: Int32Array, parentG: Int32Array): void {
+  const { rowPtr, superStart, superParent } = st;
+  for (let g = 0; g < parentG.length; g++) {
     const t = tops[g];
     const ownBelow = rowPtr[t + 1] - rowPtr[t] - (superStart[t + 1] - superStart[t]);
     ptr[g + 1] = ptr[g] + (start[g + 1] - start[g]) + ownBelow;
     if (superParent[t] >= 0) parentG[g] = groupIndex[top[superParent[t]]];
   }
-  // rows: the group's own run of columns, then its top's rows below, renumbered and sorted
-  const rows = new Int32Array(ptr[G]);
-  for (let g = 0; g < G; g++) {
-    const t = tops[g];
-    let w = ptr[g];
-    for (let j = start[g]; j < start[g + 1]; j++) rows[w++] = j;
-    const from = w;
-    for (let a = rowPtr[t] + superStart[t + 1] - superStart[t]; a < rowPtr[t + 1]; a++) rows[w++] = q[superRows[a]];
-    sortRows(rows, from, w);
-  }
-  const order2 = new Int32Array(n);
-  const perm2 = new Int32Array(n);
-  const parent2 = new Int32Array(n);
-  const colCount2 = new Int32Array(n);
-  const rowCount2 = new Int32Array(n);
-  for (let j = 0; j < n; j++) {
+}
+
+/** A merged front's rows from w: its columns first … last − 1, then its top t's rows below, renumbered and sorted. */
+function groupRows(st: Structure, t: number, first: number, last: number, w: number, q: Int32Array, rows: Int32Array): void {
+  const { rowPtr, superStart, superRows } = st;
+  for (let j = first; j < last; j++) rows[w++] = j;
+  const from = w;
+  for (let a = rowPtr[t] + superStart[t + 1] - superStart[t], aEnd = rowPtr[t + 1]; a < aEnd; a++) rows[w++] = q[superRows[a]];
+  sortRows(rows, from, w);
+}
+
+/** order, perm, the elimination tree and the counts under the new numbering q. */
+function relabelColumns(st: Structure, q: Int32Array, out: Pick<Structure, 'order' | 'perm' | 'parent' | 'colCount' | 'rowCount'>): void {
+  const { order, parent, colCount, rowCount } = st;
+  for (let j = 0; j < q.length; j++) {
     const k = q[j];
-    order2[k] = order[j];
-    perm2[order[j]] = k;
-    parent2[k] = parent[j] >= 0 ? q[parent[j]] : -1;
-    colCount2[k] = colCount[j];
-    rowCount2[k] = rowCount[j];
+    out.order[k] = order[j];
+    out.perm[order[j]] = k;
+    out.parent[k] = parent[j] >= 0 ? q[parent[j]] : -1;
+    out.colCount[k] = colCount[j];
+    out.rowCount[k] = rowCount[j];
   }
-  return { n, order: order2, perm: perm2, parent: parent2, colCount: colCount2, rowCount: rowCount2, superStart: start, rowPtr: ptr, superRows: rows, superParent: parentG };
 }

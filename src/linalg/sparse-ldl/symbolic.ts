@@ -51,11 +51,10 @@ export interface SymbolicFactor {
 export function analyse(g: Graph, ordering: Int32Array, maxSupernode = 256): SymbolicFactor {
   const n = g.n;
   if (ordering.length !== n) throw new RangeError(`analyse: an ordering of ${ordering.length} for ${n} unknowns`);
-  const perm = new Int32Array(n).fill(-1);
-  for (let i = 0; i < n; i++) perm[ordering[i]] = i;
-  for (let i = 0; i < n; i++) if (perm[i] < 0) throw new RangeError('analyse: the ordering is not a permutation');
   // each step is its own function: V8 compiles a long first run of a loop with the feedback
   // gathered so far, so one function holding every loop was compiled again at each new loop
+  const perm = inversePermutation(ordering);
+  if (!perm) throw new RangeError('analyse: the ordering is not a permutation');
   // (no postorder first: nested dissection's orders come out postordered, or nearly, and the
   // merging renumbers the columns by a postorder of the merged tree anyway)
   const order = ordering;
@@ -66,18 +65,45 @@ export function analyse(g: Graph, ordering: Int32Array, maxSupernode = 256): Sym
   rowSubtreeCounts(g, order, perm, parent, mark, colCount, rowCount);
   const superStart = fundamentalSupernodes(parent, colCount, maxSupernode);
   const ns = superStart.length - 1;
-  const superOf = new Int32Array(n);
-  for (let s = 0; s < ns; s++) superOf.fill(s, superStart[s], superStart[s + 1]);
   const superParent = new Int32Array(ns).fill(-1);
-  for (let s = 0; s < ns; s++) {
-    const p = parent[superStart[s + 1] - 1];
-    if (p >= 0) superParent[s] = superOf[p];
-  }
+  supernodeParents(parent, superStart, superParent);
   const rowPtr = new Int32Array(ns + 1);
-  for (let s = 0; s < ns; s++) rowPtr[s + 1] = rowPtr[s] + colCount[superStart[s]];
+  frontStarts(colCount, superStart, rowPtr);
   mark.fill(-1);
   const superRows = supernodeRows(g, order, perm, superStart, superParent, rowPtr, mark);
   return finish(amalgamate({ n, order, perm, parent, colCount, rowCount, superStart, rowPtr, superRows, superParent }, maxSupernode));
+}
+
+/** perm[order[i]] = i, or null when order is not a permutation of 0 … n−1. */
+function inversePermutation(order: Int32Array): Int32Array | null {
+  const n = order.length;
+  const perm = new Int32Array(n).fill(-1);
+  for (let i = 0; i < n; i++) {
+    const v = order[i];
+    if (!(v >= 0 && v < n) || perm[v] >= 0) return null;
+    perm[v] = i;
+  }
+  return perm;
+}
+
+/** Each supernode's parent: the supernode holding its last column's parent (−1 at a root). */
+function supernodeParents(parent: Int32Array, superStart: Int32Array, superParent: Int32Array): void {
+  const ns = superStart.length - 1;
+  const superOf = new Int32Array(parent.length);
+  for (let s = 0; s < ns; s++) superOf.fill(s, superStart[s], superStart[s + 1]);
+  supernodeParentsOf(parent, superStart, superOf, superParent);
+}
+
+function supernodeParentsOf(parent: Int32Array, superStart: Int32Array, superOf: Int32Array, superParent: Int32Array): void {
+  for (let s = 0; s < superParent.length; s++) {
+    const p = parent[superStart[s + 1] - 1];
+    if (p >= 0) superParent[s] = superOf[p];
+  }
+}
+
+/** rowPtr: where each supernode's rows start (its first column's count, cumulative). */
+function frontStarts(colCount: Int32Array, superStart: Int32Array, rowPtr: Int32Array): void {
+  for (let s = 0; s + 1 < rowPtr.length; s++) rowPtr[s + 1] = rowPtr[s] + colCount[superStart[s]];
 }
 
 /** Elimination tree over the new indices, with path compression through `ancestor` (−1 at a root). */
