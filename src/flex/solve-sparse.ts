@@ -219,7 +219,8 @@ export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): Solv
   }
 
   const tau = (c * sigmaMax) ** 2;
-  // its factor is solved with only when nothing is below τ and the smallest kept σ is measured
+  // its factor is solved with when nothing is below τ and the smallest kept σ is measured (or,
+  // rarely, when the count is not certified: a pivots-only factor is then formed again with L)
   const first = inertiaCount(countSide, tau, ctx, 0.06, 0.45, options.gap === 'bound');
   const factor = factorReport(countSide, ctx);
   const kCount = first.below;
