@@ -277,15 +277,14 @@ export function extendAddComplex(FR: Float64Array, FI: Float64Array, UR: Float64
 
 /**
  * U_ab = F_(w+a)(w+b) − Σ_k W_(w+a)k L_(w+b)k for b ≤ a: four rows and two columns at a time (eight
- * sums held in registers, six loads per step), then the rest of the four rows' triangle, then any
- * last rows two and one at a time. Every entry's sum runs over k in order from 0, as one dot
- * product would.
+ * sums held in registers, six loads per step), then the rest of the four rows' triangle, then the
+ * last (at most three) rows one at a time. Every entry's sum runs over k in order from 0, as one
+ * dot product would.
  */
 export function schurReal(F: Float64Array, W: Float64Array, U: Float64Array, nf: number, w: number, nu: number): void {
   let a = 0;
   for (; a + 3 < nu; a += 4) schurRows4(F, W, U, nf, w, nu, a);
-  for (; a + 1 < nu; a += 2) schurRows2(F, W, U, nf, w, nu, a);
-  if (a < nu) schurRow(F, W, U, nf, w, nu, a, 0);
+  for (; a < nu; a++) schurRow(F, W, U, nf, w, nu, a, 0);
 }
 
 /** Rows a … a+3 of U (see schurReal). */
@@ -342,38 +341,6 @@ function schurRows4(F: Float64Array, W: Float64Array, U: Float64Array, nf: numbe
   }
   // b = a now: the 4×4 triangle left
   for (let r = 0; r < 4; r++) schurRow(F, W, U, nf, w, nu, a + r, b);
-}
-
-/** Rows a, a+1 of U (see schurReal). */
-function schurRows2(F: Float64Array, W: Float64Array, U: Float64Array, nf: number, w: number, nu: number, a: number): void {
-  const i0 = w + a;
-  const w0 = i0 * w;
-  const w1 = w0 + w;
-  let b = 0;
-  for (; b + 1 <= a; b += 2) {
-    const l0 = (w + b) * nf;
-    const l1 = l0 + nf;
-    let s00 = 0;
-    let s01 = 0;
-    let s10 = 0;
-    let s11 = 0;
-    for (let k = 0; k < w; k++) {
-      const x0 = W[w0 + k];
-      const x1 = W[w1 + k];
-      const y0 = F[l0 + k];
-      const y1 = F[l1 + k];
-      s00 += x0 * y0;
-      s01 += x0 * y1;
-      s10 += x1 * y0;
-      s11 += x1 * y1;
-    }
-    U[a * nu + b] = F[i0 * nf + w + b] - s00;
-    U[a * nu + b + 1] = F[i0 * nf + w + b + 1] - s01;
-    U[(a + 1) * nu + b] = F[(i0 + 1) * nf + w + b] - s10;
-    U[(a + 1) * nu + b + 1] = F[(i0 + 1) * nf + w + b + 1] - s11;
-  }
-  schurRow(F, W, U, nf, w, nu, a, b);
-  schurRow(F, W, U, nf, w, nu, a + 1, b);
 }
 
 /** Row a of U from column b0 to the diagonal (see schurReal). */
