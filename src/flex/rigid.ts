@@ -6,6 +6,7 @@
  * A pinned side ties the supercell to fixed ground, which fixes the frame of reference: then
  * no rigid motion is trivial (a motion relative to the ground is a genuine mechanism).
  */
+import { norm2 } from '../linalg/block.js';
 import { hasPinnedSide, reduceTurns, type Boundary } from '../supercell/boundary.js';
 import type { Supercell } from '../supercell/supercell.js';
 
@@ -40,7 +41,7 @@ export function rigidMotions(sc: Supercell): RigidMotion[] {
     else if (name === 'translation y') everySecond(f, 1);
     // about the centroid (rel is centred), hence orthogonal to both translations
     else quarterTurn(rel, f);
-    const norm = Math.sqrt(sumSquares(f));
+    const norm = norm2(f, null);
     if (norm === 0) continue; // a single joint cannot rotate about itself
     divideAll(f, norm);
     out.push({ name, field: f });
@@ -109,12 +110,6 @@ function quarterTurn(rel: Float64Array, f: Float64Array): void {
     f[i] = -rel[i + 1];
     f[i + 1] = rel[i];
   }
-}
-
-function sumSquares(a: Float64Array): number {
-  let s = 0;
-  for (let i = 0; i < a.length; i++) s += a[i] * a[i];
-  return s;
 }
 
 function divideAll(a: Float64Array, c: number): void {
