@@ -166,15 +166,6 @@ function rowOrdering(R: SparseMatrix, RH: SparseMatrix, colPerm: Int32Array): { 
   return { perm: rows.perm, bw: Math.min(rows.bw, Math.max(0, R.rows - 1)) };
 }
 
-/**
- * A lower bound of the half-bandwidth of K under every ordering: along a shortest path between
- * the first and the last unknown of a connected component (c unknowns) each step spans at most
- * b positions, so c − 1 ≤ b·diameter, and diameter ≤ 2·eccentricity(v) for any v of the
- * component (common practice). The smaller v's eccentricity, the better the bound: v is the
- * unknown nearest the middle of the drawing's bounding box when positions are given (2 per
- * unknown), and the middle of a long path (two searches find its ends) in each case; the
- * smallest eccentricity found is used, and the largest component reached decides.
- */
 /** The point nearest the middle of the points' bounding box (the first of equals). */
 function nearestToMiddle(positions: Float64Array, n: number): number {
   const box = new Float64Array([Infinity, -Infinity, Infinity, -Infinity]);
@@ -205,6 +196,17 @@ function nearest(p: Float64Array, n: number, cx: number, cy: number): number {
   return at;
 }
 
+/**
+ * A lower bound of the half-bandwidth of K under every ordering: along a shortest path between
+ * the first and the last unknown of a connected component (c unknowns) each step spans at most
+ * b positions, so c − 1 ≤ b·diameter, and diameter ≤ 2·eccentricity(v) for any v of the
+ * component (common practice). The smaller v's eccentricity, the better the bound. With
+ * positions (2 per unknown), v is the unknown nearest the middle of the drawing's bounding box,
+ * one search (on the gallery's open lattices its eccentricity is the smallest the path search
+ * below finds). Otherwise, and for the components the middle does not reach, v is the middle
+ * of a long path (two more searches find its ends), and the smaller eccentricity is used. The
+ * largest component reached decides.
+ */
 export function bandwidthLowerBound(K: HermitianCsr, positions: Float64Array | null = null): number {
   const n = K.n;
   if (n <= 1) return 0;
@@ -224,11 +226,13 @@ export function bandwidthLowerBound(K: HermitianCsr, positions: Float64Array | n
     for (let i = 0; i < reached; i++) seen[bfs.queue[i]] = 1;
     covered += reached;
     let ecc = eccFirst;
-    const [b, length] = search(a);
-    // the middle of the path a … b
-    let m = b;
-    for (let k = 0; k < length >> 1; k++) m = bfs.parent[m];
-    ecc = Math.min(ecc, search(m)[1]);
+    if (first !== centre) {
+      const [b, length] = search(a);
+      // the middle of the path a … b
+      let m = b;
+      for (let k = 0; k < length >> 1; k++) m = bfs.parent[m];
+      ecc = Math.min(ecc, search(m)[1]);
+    }
     if (ecc > 0) best = Math.max(best, Math.ceil((reached - 1) / (2 * ecc)));
   }
   return best;
