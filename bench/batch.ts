@@ -15,7 +15,7 @@ import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 
 const ROOT = join(dirname(fileURLToPath(import.meta.url)), '..');
-const BIN = join(ROOT, 'bin', 'shimmy.js');
+const BIN = join(ROOT, 'bin', 'shimmy.cjs');
 const TARGET = 1.6;
 
 const argv = process.argv.slice(2);

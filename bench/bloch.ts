@@ -2,7 +2,7 @@
  * The Bloch path against numpy's batched SVD of the same one-cell symbol blocks, in one run
  * (`npm run bench:bloch`; sizes and a spec may follow: `128,256 gallery:kagome`, default 256,512).
  *
- * shimmy: `node bin/shimmy.js count SPEC --cells NxN --bc periodic --json` from spawn to exit
+ * shimmy: `node bin/shimmy.cjs count SPEC --cells NxN --bc periodic --json` from spawn to exit
  * (whole process) and the count's own time (`seconds` of count --json). numpy: the symbol
  * Φ(φ) of src/spectrum/symbol.ts at every phase φ = (m1/N1, m2/N2), stacked into one
  * M×bars×2·joints complex array and passed to numpy.linalg.svd(compute_uv=False), single-threaded;
@@ -20,7 +20,7 @@ import { SymbolAssembler } from '../src/spectrum/symbol.js';
 import { firstLine, fmtSpread, pythonWorks, runPython, spread } from './reference.js';
 
 const ROOT = join(dirname(fileURLToPath(import.meta.url)), '..');
-const BIN = join(ROOT, 'bin', 'shimmy.js');
+const BIN = join(ROOT, 'bin', 'shimmy.cjs');
 const REPEATS = 3;
 
 const sizes = (process.argv[2] ?? '256,512').split(',').map(Number);

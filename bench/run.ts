@@ -11,7 +11,7 @@
  *   npm run bench -- --quick           # N = 8, 16, 24 and a 30 s budget
  *   npm run bench -- --budget 300 --sizes 8,16,32 --no-scipy --json bench-out.json
  *
- * Each run spawns `node bin/shimmy.js count SPEC --cells NxN --bc BC --json --solver S` and times
+ * Each run spawns `node bin/shimmy.cjs count SPEC --cells NxN --bc BC --json --solver S` and times
  * it from spawn to exit; peak memory is the child's maximum resident set size, written at exit by
  * bench/rss-hook.mjs (preloaded with node --import). A run whose predicted time (extrapolated
  * from the previous sizes of the same path) exceeds the budget is skipped with a note.
@@ -32,7 +32,7 @@ import { buildSupercell } from '../src/supercell/supercell.js';
 import { compileCholmod, fmtSpread, inertiaReferences, pythonWorks, scipyNullSpace, singleThreadEnv, spread, type CholmodProgram, type Ordering, type ReferenceResult, type Spread } from './reference.js';
 
 const ROOT = join(dirname(fileURLToPath(import.meta.url)), '..');
-const BIN = join(ROOT, 'bin', 'shimmy.js');
+const BIN = join(ROOT, 'bin', 'shimmy.cjs');
 const HOOK = join(ROOT, 'bench', 'rss-hook.mjs');
 
 // ---------------------------------------------------------------------------------------------

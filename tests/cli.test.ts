@@ -128,20 +128,20 @@ describe('help and errors', () => {
 });
 
 describe('the installed command', () => {
-  it('bin/shimmy.js runs the CLI (the build npm ci makes, or the sources through tsx) and sets the exit code', () => {
+  it('bin/shimmy.cjs runs the CLI (the build npm ci makes, or the sources through tsx) and sets the exit code', () => {
     // npm ci's prepare step builds the CLI bundle
     expect(existsSync('build/cli/run.cjs')).toBe(true);
     // and the V8 code cache the build writes beside it (tools/write-code-cache.mjs)
     expect(existsSync('build/cli/run.cjs.cache')).toBe(true);
     const outputs: string[] = [];
     for (const env of [{ ...process.env, SHIMMY_FROM_SOURCE: '1' }, process.env]) {
-      const ok = spawnSync(process.execPath, ['bin/shimmy.js', 'count', 'gallery:square', '--cells', '3x3', '--json'], { encoding: 'utf8', env });
+      const ok = spawnSync(process.execPath, ['bin/shimmy.cjs', 'count', 'gallery:square', '--cells', '3x3', '--json'], { encoding: 'utf8', env });
       expect(ok.status).toBe(0);
       expect(JSON.parse(ok.stdout).flexes).toBe(6); // 3×3 joints: a + b = 6 (Bolker & Crapo 1979)
       const { seconds, ...rest } = JSON.parse(ok.stdout);
       expect(seconds).toBeGreaterThan(0); // the count's own time
       outputs.push(JSON.stringify(rest));
-      const bad = spawnSync(process.execPath, ['bin/shimmy.js', 'count', 'gallery:square', '--bc', 'nope'], { encoding: 'utf8', env });
+      const bad = spawnSync(process.execPath, ['bin/shimmy.cjs', 'count', 'gallery:square', '--bc', 'nope'], { encoding: 'utf8', env });
       expect(bad.status).toBe(2);
       expect(bad.stderr).toContain('--bc');
       expect(bad.stderr).not.toMatch(/\n\s+at /);

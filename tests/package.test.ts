@@ -40,7 +40,7 @@ function scratchLock(tarballName: string, integrity: string, dependencies: Recor
   const repoLock = JSON.parse(readFileSync(join(ROOT, 'package-lock.json'), 'utf8')) as { packages: Record<string, { dependencies?: Record<string, string> }> };
   const packages: Record<string, unknown> = {
     '': { name: 'scratch', dependencies: { shimmy: `file:${tarballName}` } },
-    'node_modules/shimmy': { version: '0.1.0', resolved: `file:${tarballName}`, integrity, dependencies, bin: { shimmy: 'bin/shimmy.js' } },
+    'node_modules/shimmy': { version: '0.1.0', resolved: `file:${tarballName}`, integrity, dependencies, bin: { shimmy: 'bin/shimmy.cjs' } },
   };
   const todo = Object.keys(dependencies);
   while (todo.length) {
@@ -89,7 +89,7 @@ afterAll(() => rmSync(tmp, { recursive: true, force: true }));
 
 describe('npm pack', () => {
   it('ships compiled modules, types, the bin and the schemas, and no sources or shells', () => {
-    expect(files).toEqual(expect.arrayContaining(['package.json', 'README.md', 'bin/shimmy.js', 'lib/index.js', 'lib/index.d.ts', 'lib/cli/run.js', 'lib/batch/worker.js', 'schema/count.schema.json', 'schema/batch-line.schema.json']));
+    expect(files).toEqual(expect.arrayContaining(['package.json', 'README.md', 'bin/shimmy.cjs', 'lib/index.js', 'lib/index.d.ts', 'lib/cli/run.js', 'lib/batch/worker.js', 'schema/count.schema.json', 'schema/batch-line.schema.json']));
     expect(files.filter((f) => f.startsWith('src/') || f.startsWith('tests/') || f.endsWith('.ts') && !f.endsWith('.d.ts'))).toEqual([]);
     expect(files.filter((f) => f.startsWith('lib/app/') || f.startsWith('lib/worker/'))).toEqual([]);
     const pkg = JSON.parse(readFileSync(join(installed, 'package.json'), 'utf8')) as { dependencies: Record<string, string>; exports: Record<string, unknown> };
@@ -138,7 +138,7 @@ console.log(JSON.stringify({ joints: a.joints, bars: a.bars, flexes: a.flexes, s
   });
 
   it('runs the packed bin: count --json', () => {
-    const r = node([join(installed, 'bin', 'shimmy.js'), 'count', 'gallery:kagome', '--cells', '4x4', '--bc', 'periodic', '--json']);
+    const r = node([join(installed, 'bin', 'shimmy.cjs'), 'count', 'gallery:kagome', '--cells', '4x4', '--bc', 'periodic', '--json']);
     expect(r.status).toBe(0);
     const o = JSON.parse(r.stdout) as { schemaVersion: string; flexes: number; selfStresses: number; maxwellCalladine: { lhs: number; rhs: number } };
     expect(o.schemaVersion).toBe('shimmy.count/1');
@@ -148,7 +148,7 @@ console.log(JSON.stringify({ joints: a.joints, bars: a.bars, flexes: a.flexes, s
 
   it('runs the packed bin: batch on two worker threads of the compiled lib', () => {
     writeFileSync(join(scratch, 'plan.json'), JSON.stringify({ grid: { command: 'count', framework: 'gallery:kagome', cells: ['2x2', '3x3', '4x4'], bc: 'periodic' } }));
-    const r = node([join(installed, 'bin', 'shimmy.js'), 'batch', 'plan.json', '--workers', '2']);
+    const r = node([join(installed, 'bin', 'shimmy.cjs'), 'batch', 'plan.json', '--workers', '2']);
     expect(r.status).toBe(0);
     const lines = r.stdout.trim().split('\n').map((l) => JSON.parse(l) as { ok: boolean; job: { cells: [number, number] }; result: { flexes: number } });
     expect(lines.length).toBe(3);

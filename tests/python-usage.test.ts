@@ -1,6 +1,6 @@
 /**
  * The README's "Use from Python" snippet, run unchanged with python3 and numpy (skipped when
- * either is missing): `shimmy` on the PATH is this checkout's bin/shimmy.js. A few lines
+ * either is missing): `shimmy` on the PATH is this checkout's bin/shimmy.cjs. A few lines
  * appended after the snippet print what it loaded, and the checks below read that.
  */
 import { spawnSync } from 'node:child_process';
@@ -28,7 +28,7 @@ describe.skipIf(!hasNumpy)('README: Use from Python', () => {
     // `shimmy` on the PATH: this checkout's command
     const bin = join(tmp, 'bin');
     mkdirSync(bin);
-    writeFileSync(join(bin, 'shimmy'), `#!/bin/sh\nexec "${process.execPath}" "${join(ROOT, 'bin', 'shimmy.js')}" "$@"\n`);
+    writeFileSync(join(bin, 'shimmy'), `#!/bin/sh\nexec "${process.execPath}" "${join(ROOT, 'bin', 'shimmy.cjs')}" "$@"\n`);
     chmodSync(join(bin, 'shimmy'), 0o755);
     const report = `
 print(json.dumps({"cells": cells.tolist(), "counts": counts.tolist(),

@@ -1,4 +1,4 @@
-/** Process entry point of the CLI (bin/shimmy.js loads this through tsx). */
+/** Process entry point of the CLI (bin/shimmy.cjs loads this through tsx). */
 import { startHelperThread, threadsWanted } from '../linalg/parallel/node-thread.js';
 import { main } from './main.js';
 
