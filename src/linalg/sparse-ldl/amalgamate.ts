@@ -11,10 +11,10 @@
  * pattern up to the renumbering (J. W. H. Liu, "The role of elimination trees in sparse
  * factorization", SIAM J. Matrix Anal. Appl. 11, 134–172, 1990), so only the stored zeros change.
  */
-import { sortRows } from '../sparse.js';
 import type { SymbolicFactor } from './symbolic.js';
 
-export type Structure = Pick<SymbolicFactor, 'n' | 'order' | 'perm' | 'parent' | 'colCount' | 'rowCount' | 'superStart' | 'rowPtr' | 'superRows' | 'superParent'>;
+/** The supernodes' columns, sizes and tree (their rows are found after merging: symbolic.ts). */
+export type Structure = Pick<SymbolicFactor, 'n' | 'order' | 'perm' | 'parent' | 'colCount' | 'rowCount' | 'superStart' | 'rowPtr' | 'superParent'>;
 
 /** Entries of a supernode's trapezoid: w columns over nf rows, diagonal included. */
 export const trapezoid = (w: number, nf: number) => w * nf - (w * (w - 1)) / 2;
@@ -125,12 +125,9 @@ function renumber(st: Structure, into: Int32Array): Structure {
   const ptr = new Int32Array(G + 1);
   const parentG = new Int32Array(G).fill(-1);
   frontSizes(st, tops, start, top, groupIndex, ptr, parentG);
-  // rows: the group's own run of columns, then its top's rows below, renumbered and sorted
-  const rows = new Int32Array(ptr[G]);
-  for (let g = 0; g < G; g++) groupRows(st, tops[g], start[g], start[g + 1], ptr[g], q, rows);
   const out = { n, order: new Int32Array(n), perm: new Int32Array(n), parent: new Int32Array(n), colCount: new Int32Array(n), rowCount: new Int32Array(n) };
   relabelColumns(st, q, out);
-  return { ...out, superStart: start, rowPtr: ptr, superRows: rows, superParent: parentG };
+  return { ...out, superStart: start, rowPtr: ptr, superParent: parentG };
 }
 
 function groupTops(into: Int32Array, top: Int32Array): void {
@@ -187,15 +184,6 @@ function frontSizes(st: Structure, tops: Int32Array, start: Int32Array, top: Int
     ptr[g + 1] = ptr[g] + (start[g + 1] - start[g]) + ownBelow;
     if (superParent[t] >= 0) parentG[g] = groupIndex[top[superParent[t]]];
   }
-}
-
-/** A merged front's rows from w: its columns first … last − 1, then its top t's rows below, renumbered and sorted. */
-function groupRows(st: Structure, t: number, first: number, last: number, w: number, q: Int32Array, rows: Int32Array): void {
-  const { rowPtr, superStart, superRows } = st;
-  for (let j = first; j < last; j++) rows[w++] = j;
-  const from = w;
-  for (let a = rowPtr[t] + superStart[t + 1] - superStart[t], aEnd = rowPtr[t + 1]; a < aEnd; a++) rows[w++] = q[superRows[a]];
-  sortRows(rows, from, w);
 }
 
 /** order, perm, the elimination tree and the counts under the new numbering q. */

@@ -69,9 +69,11 @@ export function analyse(g: Graph, ordering: Int32Array, maxSupernode = 256): Sym
   supernodeParents(parent, superStart, superParent);
   const rowPtr = new Int32Array(ns + 1);
   frontStarts(colCount, superStart, rowPtr);
+  // merged by the sizes alone; each merged front's rows are then found once, in the new numbering
+  const merged = amalgamate({ n, order, perm, parent, colCount, rowCount, superStart, rowPtr, superParent }, maxSupernode);
   mark.fill(-1);
-  const superRows = supernodeRows(g, order, perm, superStart, superParent, rowPtr, mark);
-  return finish(amalgamate({ n, order, perm, parent, colCount, rowCount, superStart, rowPtr, superRows, superParent }, maxSupernode));
+  const superRows = supernodeRows(g, merged.order, merged.perm, merged.superStart, merged.superParent, merged.rowPtr, mark);
+  return finish({ ...merged, superRows });
 }
 
 /** perm[order[i]] = i, or null when order is not a permutation of 0 … n−1. */
@@ -225,7 +227,7 @@ function rowsOfSupernode(g: Graph, order: Int32Array, perm: Int32Array, superSta
 }
 
 /** The figures of a structure: sizes, flops, the update matrices' peak. */
-function finish(st: Structure): SymbolicFactor {
+function finish(st: Structure & Pick<SymbolicFactor, 'superRows'>): SymbolicFactor {
   const { n, colCount, rowCount, superStart, rowPtr, superParent } = st;
   const ns = superStart.length - 1;
   const firstChild = new Int32Array(ns).fill(-1);
