@@ -14,7 +14,7 @@ import { TooLargeError } from '../src/errors.js';
 import { bandFromDense, bandLdl, countEigenvaluesBelow, ldlSolve, reverseCuthillMcKee, type Graph } from '../src/linalg/banded.js';
 import type { NullBasis } from '../src/linalg/dense.js';
 import { sigmaMaxUpperBound } from '../src/linalg/lanczos.js';
-import { SparseBuilder, sparseMatVec, type SparseMatrix } from '../src/linalg/sparse.js';
+import { SparseBuilder, conjugateTranspose, gramMatVecInto, sparseMatVec, sparseMatVecInto, type SparseMatrix } from '../src/linalg/sparse.js';
 import { parseBoundary } from '../src/supercell/boundary.js';
 import { rigidityMatrix } from '../src/supercell/rigidity.js';
 import { buildSupercell } from '../src/supercell/supercell.js';
@@ -440,6 +440,94 @@ describe('σ_max: the Lanczos estimate and the upper bound', () => {
       const top = Math.sqrt(Math.max(0, ...new EigenvalueDecomposition(G).realEigenvalues));
       expect(sigmaMaxUpperBound(A)).toBeGreaterThanOrEqual(top * (1 - 1e-12));
     }
+  });
+});
+
+// The Lanczos step's product Aᴴ(A v) in one pass over A (sparse.ts gramMatVecInto): the same
+// sums in the same order as the two products through conjugateTranspose, so equal bit for bit;
+// on rigidity matrices (real open, complex twisted-phase) and random ones with rows of many
+// entries, and against a dense product to rounding.
+describe('Aᴴ(A v) in one pass', () => {
+  const twoProducts = (A: SparseMatrix, vr: Float64Array, vi: Float64Array | null) => {
+    const AH = conjugateTranspose(A);
+    const y = { re: new Float64Array(A.rows), im: vi ? new Float64Array(A.rows) : null };
+    const w = { re: new Float64Array(A.cols), im: vi ? new Float64Array(A.cols) : null };
+    sparseMatVecInto(A, vr, vi, y.re, y.im);
+    sparseMatVecInto(AH, y.re, y.im, w.re, w.im);
+    return w;
+  };
+  const onePass = (A: SparseMatrix, vr: Float64Array, vi: Float64Array | null) => {
+    // buffers full of other numbers: the product overwrites them
+    const w = { re: new Float64Array(A.cols).fill(7), im: vi ? new Float64Array(A.cols).fill(-3) : null };
+    gramMatVecInto(A, vr, vi, w.re, w.im);
+    return w;
+  };
+  const vectors = (n: number, complex: boolean, seed: number) => {
+    const rand = rng(seed);
+    return { vr: Float64Array.from({ length: n }, () => rand() - 0.5), vi: complex ? Float64Array.from({ length: n }, () => rand() - 0.5) : null };
+  };
+
+  it.each([
+    ['gallery:twisted-kagome?twist=15', 'free'],
+    ['gallery:kagome', 'x=twist:0.3,y=free'],
+    ['gallery:square', 'left=pinned,right=free,y=twist:0.25'],
+  ])('%s (%s), 10×12: R·Rᴴ and Rᴴ·R', (spec, bc) => {
+    const R = rigidityMatrix(buildSupercell(buildGallery(spec), [10, 12], parseBoundary(bc)));
+    for (const A of [R, conjugateTranspose(R)]) {
+      const { vr, vi } = vectors(A.cols, A.im !== null, 5);
+      const a = twoProducts(A, vr, vi);
+      const b = onePass(A, vr, vi);
+      expect(Array.from(b.re)).toEqual(Array.from(a.re));
+      if (A.im) expect(Array.from(b.im!)).toEqual(Array.from(a.im!));
+      else expect(b.im).toBeNull();
+    }
+  });
+
+  it('random matrices with dense rows, real and complex, equal the two products and a dense AᴴA v to rounding', () => {
+    const rand = rng(23);
+    for (let trial = 0; trial < 20; trial++) {
+      const rows = 10 + Math.floor(rand() * 30);
+      const cols = 10 + Math.floor(rand() * 30);
+      const complex = trial % 2 === 1;
+      const b = new SparseBuilder(cols);
+      for (let r = 0; r < rows; r++) {
+        b.newRow();
+        for (let c = 0; c < cols; c++) if (rand() < 0.5) b.add(r, c, rand() * 4 - 2, complex ? rand() * 4 - 2 : 0);
+      }
+      const A = b.build(complex);
+      const { vr, vi } = vectors(cols, complex, trial);
+      const one = onePass(A, vr, vi);
+      const two = twoProducts(A, vr, vi);
+      expect(Array.from(one.re)).toEqual(Array.from(two.re));
+      if (complex) expect(Array.from(one.im!)).toEqual(Array.from(two.im!));
+      // Σ_r conj(a_rk) (Σ_j a_rj v_j), entry by entry
+      for (let k = 0; k < cols; k++) {
+        let re = 0;
+        let im = 0;
+        for (let r = 0; r < rows; r++) {
+          let tr = 0;
+          let ti = 0;
+          for (let j = 0; j < cols; j++) {
+            const [ar, ai] = entry(A, r, j);
+            const xr = vr[j];
+            const xi = vi ? vi[j] : 0;
+            tr += ar * xr - ai * xi;
+            ti += ar * xi + ai * xr;
+          }
+          const [cr, ci] = entry(A, r, k);
+          re += cr * tr + ci * ti;
+          im += cr * ti - ci * tr;
+        }
+        expect(Math.abs(one.re[k] - re)).toBeLessThan(1e-12 * (1 + Math.abs(re)) * rows * cols);
+        if (complex) expect(Math.abs(one.im![k] - im)).toBeLessThan(1e-12 * (1 + Math.abs(im)) * rows * cols);
+      }
+    }
+  });
+
+  it('refuses a complex matrix with real vectors', () => {
+    const R = rigidityMatrix(buildSupercell(buildGallery('gallery:kagome'), [3, 3], parseBoundary('x=twist:0.3,y=free')));
+    expect(R.im).not.toBeNull();
+    expect(() => gramMatVecInto(R, new Float64Array(R.cols), null, new Float64Array(R.cols), null)).toThrow(/complex matrix needs complex vectors/);
   });
 });
 

@@ -192,7 +192,7 @@ export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): Solv
   report(0.02, 'σ_max (Lanczos)');
   const given = options.sigmaMax;
   if (given !== undefined && !(given >= 0 && Number.isFinite(given))) throw new RangeError(`sigmaMax must be a finite number ≥ 0, got ${given}`);
-  const lz = given !== undefined || n === 0 || m === 0 ? { sigma: given ?? 0, steps: 0 } : sigmaMaxByLanczos(R, RH, check);
+  const lz = given !== undefined || n === 0 || m === 0 ? { sigma: given ?? 0, steps: 0 } : sigmaMaxByLanczos(RH, check);
   const sigmaMax = lz.sigma;
   // a proved upper bound of σ_max for the rounding terms (an estimate from below does not bound them)
   const normBound = given !== undefined ? given : Math.max(sigmaMax, sigmaMaxUpperBound(R));
@@ -344,11 +344,11 @@ export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): Solv
 export const SIGMA_MAX_STALL = 1e-3;
 
 /** σ_max by Lanczos on RRᴴ until the largest Ritz value stalls to SIGMA_MAX_STALL relative. */
-function sigmaMaxByLanczos(R: SparseMatrix, RH: SparseMatrix, check: () => void): { sigma: number; steps: number } {
+function sigmaMaxByLanczos(RH: SparseMatrix, check: () => void): { sigma: number; steps: number } {
   // On RRᴴ (one unknown per bar), not RᴴR: turning or moving the framework multiplies R by an
   // orthogonal matrix on the joints' side and leaves RRᴴ unchanged, so the estimate (which stops
   // short of convergence) comes out the same for every placement, to rounding.
-  const lz = topLanczos(RH, R, check);
+  const lz = topLanczos(RH, check);
   const sigma = lz.run(SIGMA_MAX_STALL);
   return { sigma, steps: lz.steps() };
 }

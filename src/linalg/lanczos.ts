@@ -4,7 +4,7 @@
  */
 import { dotInto } from './block.js';
 import { seededUniform } from './random.js';
-import { sparseMatVecInto, type SparseMatrix } from './sparse.js';
+import { gramMatVecInto, type SparseMatrix } from './sparse.js';
 import { tridiagonalMax } from './tridiagonal.js';
 
 /** Lanczos on AᴴA for σ_max, resumable: a coarse screening run first, a fine one on the leaders. */
@@ -21,21 +21,20 @@ export interface TopLanczos {
 
 /**
  * σ_max of a block by Lanczos on AᴴA from a fixed pseudo-random start (common practice; G. H.
- * Golub & C. F. Van Loan, Matrix Computations, ch. 10, from memory). No reorthogonalisation is
- * needed for the largest eigenvalue: lost orthogonality only repeats converged Ritz values.
+ * Golub & C. F. Van Loan, Matrix Computations, ch. 10, from memory), each step one pass over A
+ * (sparse.ts gramMatVecInto). No reorthogonalisation is needed for the largest eigenvalue: lost
+ * orthogonality only repeats converged Ritz values.
  * The largest Ritz value rises to σ_max² (Courant–Fischer). It ends on an invariant subspace or
  * after 2000 steps. The top of a strip block's spectrum is a band of closely spaced values:
  * settling to 1e-14 takes about as many steps as the block has columns / 2 (more near phase ½).
  */
-export function topLanczos(A: SparseMatrix, AH: SparseMatrix, check: () => void): TopLanczos {
+export function topLanczos(A: SparseMatrix, check: () => void): TopLanczos {
   const n = A.cols;
   const complex = A.im !== null;
   const rand = seededUniform(0x9e3779b9, -0.5, 0.5);
   // three rotating vectors: previous, current, next
   const bufRe = [new Float64Array(n), new Float64Array(n), new Float64Array(n)];
   const bufIm = complex ? [new Float64Array(n), new Float64Array(n), new Float64Array(n)] : null;
-  const yr = new Float64Array(A.rows);
-  const yi = complex ? new Float64Array(A.rows) : null;
   let p = 0;
   let c = 1;
   let nx = 2;
@@ -74,8 +73,7 @@ export function topLanczos(A: SparseMatrix, AH: SparseMatrix, check: () => void)
         const pi = bufIm ? bufIm[p] : null;
         const wr = bufRe[nx];
         const wi = bufIm ? bufIm[nx] : null;
-        sparseMatVecInto(A, vr, vi, yr, yi);
-        sparseMatVecInto(AH, yr, yi, wr, wi);
+        gramMatVecInto(A, vr, vi, wr, wi);
         const a = dotInto(0, vr, wr, n) + (vi && wi ? dotInto(0, vi, wi, n) : 0);
         alpha.push(a);
         const s = threeTerm(wr, vr, pr, a, prevBeta, n) + (vi && wi && pi ? threeTerm(wi, vi, pi, a, prevBeta, n) : 0);

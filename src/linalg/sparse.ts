@@ -137,6 +137,61 @@ function realMatVec(rows: number, rowPtr: Int32Array, colIdx: Int32Array, re: Fl
   }
 }
 
+/**
+ * w = Aᴴ(A v) in one pass over A's rows: each row's product t = a_r·v is added at once to w as
+ * conj(a_rk)·t at every column k of the row (vi and wi null for a real A). The same products
+ * are summed in the same order as Aᴴ·(A·v) with Aᴴ from conjugateTranspose (whose row k lists
+ * column k of A by ascending row), so the result is the same bit for bit, from half the reads.
+ */
+export function gramMatVecInto(A: SparseMatrix, vr: Float64Array, vi: Float64Array | null, wr: Float64Array, wi: Float64Array | null): void {
+  wr.fill(0);
+  if (!A.im || !vi || !wi) {
+    if (A.im || vi || wi) throw new RangeError('gramMatVecInto: a complex matrix needs complex vectors, and a real one real vectors');
+    realGramMatVec(A.rows, A.rowPtr, A.colIdx, A.re, vr, wr);
+    return;
+  }
+  wi.fill(0);
+  complexGramMatVec(A.rows, A.rowPtr, A.colIdx, A.re, A.im, vr, vi, wr, wi);
+}
+
+function realGramMatVec(rows: number, rowPtr: Int32Array, colIdx: Int32Array, re: Float64Array, v: Float64Array, w: Float64Array): void {
+  let k = rowPtr[0];
+  for (let r = 0; r < rows; r++) {
+    const start = k;
+    const end = rowPtr[r + 1];
+    let t = 0;
+    for (; k < end; k++) t += re[k] * v[colIdx[k]];
+    for (let q = start; q < end; q++) w[colIdx[q]] += re[q] * t;
+  }
+}
+
+/** As realGramMatVec, with the products written as sparseMatVecInto writes them (the conjugate's imaginary part −im). */
+function complexGramMatVec(rows: number, rowPtr: Int32Array, colIdx: Int32Array, re: Float64Array, im: Float64Array, vr: Float64Array, vi: Float64Array, wr: Float64Array, wi: Float64Array): void {
+  let k = rowPtr[0];
+  for (let r = 0; r < rows; r++) {
+    const start = k;
+    const end = rowPtr[r + 1];
+    let tr = 0;
+    let ti = 0;
+    for (; k < end; k++) {
+      const c = colIdx[k];
+      const ar = re[k];
+      const ai = im[k];
+      const br = vr[c];
+      const bi = vi[c];
+      tr += ar * br - ai * bi;
+      ti += ar * bi + ai * br;
+    }
+    for (let q = start; q < end; q++) {
+      const c = colIdx[q];
+      const ar = re[q];
+      const ai = -im[q];
+      wr[c] += ar * tr - ai * ti;
+      wi[c] += ar * ti + ai * tr;
+    }
+  }
+}
+
 /** y = A x for real or complex A and x given as (re, im) parts (im may be null for real x). */
 export function sparseMatVec(A: SparseMatrix, xRe: Float64Array, xIm: Float64Array | null): { re: Float64Array; im: Float64Array } {
   const yRe = new Float64Array(A.rows);

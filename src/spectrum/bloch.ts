@@ -217,7 +217,7 @@ function solveBloch(sc: Supercell, R: SparseMatrix | null, options: SolveOptions
     const path = paths[b];
     if (!representative(b)) blockMax[b] = blockMax[source(b)];
     else if (path === 'sparse') {
-      const lz = topLanczos(blk.matrix, conjugateTranspose(blk.matrix), check);
+      const lz = topLanczos(blk.matrix, check);
       blockMax[b] = lz.run(SCREEN_STALL);
       lanczos[b] = lz;
     } else {
