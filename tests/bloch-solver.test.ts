@@ -16,7 +16,8 @@ import { conjugateTranspose, sparseMatVec, type SparseMatrix } from '../src/lina
 import { AMBIGUOUS_RATIO, combineRankParts, decideRank, rankPartOf } from '../src/linalg/rank.js';
 import { blochPlan, blochSolver, makeBlochSolver, SPARSE_STRIP_COLUMNS } from '../src/spectrum/bloch.js';
 import { parseBoundary } from '../src/supercell/boundary.js';
-import { rigidityApply, rigidityMatrix } from '../src/supercell/rigidity.js';
+import { rigidityApply, rigidityMatrix, rigiditySquaredNorm } from '../src/supercell/rigidity.js';
+import { rigidMotions } from '../src/flex/rigid.js';
 import { analyseSupercell } from '../src/flex/spaces.js';
 import { buildSupercell, type Supercell } from '../src/supercell/supercell.js';
 import { randomFramework, rng } from './helpers.js';
@@ -379,6 +380,24 @@ describe('a Bloch analysis works without the full rigidity matrix', () => {
         const got = rigidityApply(sc, u);
         for (let i = 0; i < ref.length; i++) expect(Math.abs(got[i] - ref[i])).toBeLessThanOrEqual(1e-14 * (1 + Math.abs(ref[i])));
       }
+      // ‖R·[u v w]‖_F² in one pass (the rigid-motion test's first look) against the products
+      const fields = [0, 1, 2].map(() => Float64Array.from({ length: R.cols }, () => 2 * r() - 1));
+      const sum = fields.reduce((s, u) => s + sparseMatVec(R, u, null).re.reduce((t, x) => t + x * x, 0), 0);
+      expect(sum).toBeGreaterThan(1);
+      expect(Math.abs(rigiditySquaredNorm(sc, fields) - sum)).toBeLessThanOrEqual(1e-13 * sum);
+      // the rigid motions themselves: R·T vanishes to rounding, far below the tolerance, so the
+      // count of trivial flexes is the number of motions tested without a QR
+      // (none are allowed with an axis twisted by θ ≠ 0)
+      const motions = rigidMotions(sc);
+      expect(motions.length).toBe(bc === 'twist:0.5,0' ? 0 : 2);
+      expect(Math.sqrt(rigiditySquaredNorm(sc, motions.map((m) => m.field)))).toBeLessThan(1e-12);
+      expect(a.trivialFlexes).toBe(motions.length);
     }
+    // free sides: the rotation too, whose field is rounded (positions about the centroid)
+    const free = buildSupercell(buildGallery('gallery:twisted-kagome?twist=15'), [6, 5], parseBoundary('free'));
+    const motions = rigidMotions(free);
+    expect(motions.map((m) => m.name)).toEqual(['translation x', 'translation y', 'rotation']);
+    expect(Math.sqrt(rigiditySquaredNorm(free, motions.map((m) => m.field)))).toBeLessThan(1e-12);
+    expect(analyseSupercell(free).trivialFlexes).toBe(3);
   });
 });

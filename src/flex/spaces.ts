@@ -12,7 +12,7 @@ import { Matrix, SingularValueDecomposition } from 'ml-matrix';
 import { DENSE_MEMORY_LIMIT, type NullBasis } from '../linalg/dense.js';
 import { DEFAULT_RELATIVE_TOLERANCE, flagDecision, type Gap, type RankDecision } from '../linalg/rank.js';
 import type { SparseMatrix } from '../linalg/sparse.js';
-import { rigidityApply, rigidityMatrix } from '../supercell/rigidity.js';
+import { rigidityApply, rigidityMatrix, rigiditySquaredNorm } from '../supercell/rigidity.js';
 import { buildSupercell, type Supercell } from '../supercell/supercell.js';
 import { rigidMotions, type RigidMotion } from './rigid.js';
 import { chooseSolver } from './solvers.js';
@@ -90,13 +90,18 @@ export interface FlexAnalysis extends FlexCounts {
 
 /**
  * Number of independent columns of R·T for orthonormal rigid fields T, at the given absolute
- * tolerance (R·T formed bar by bar, without assembling R). The m×t product is reduced by
- * Householder QR to its min(m, t)×t triangle (same singular values, to rounding), whose SVD is tiny.
+ * tolerance (R·T formed bar by bar, without assembling R). Every singular value of R·T is at most
+ * ‖R·T‖_F, so at or below half the tolerance the rank is 0 (the QR below would say the same: its
+ * values carry errors of about ε·‖R·T‖_F). The allowed rigid motions move every framework they are
+ * tested on without stretching a bar, so this one pass is the rule. Otherwise the m×t product is
+ * reduced by Householder QR to its min(m, t)×t triangle (same singular values, to rounding),
+ * whose SVD is tiny.
  */
 function rigidRank(sc: Supercell, motions: RigidMotion[], absTol: number): number {
   const t = motions.length;
   const m = sc.barCount;
   if (t === 0 || m === 0) return 0;
+  if (Math.sqrt(rigiditySquaredNorm(sc, motions.map((mo) => mo.field))) <= 0.5 * absTol) return 0;
   const cols = motions.map((mo) => rigidityApply(sc, mo.field));
   // q×t upper triangle; q < t when there are fewer bars than motions (e.g. a 2×1 free square)
   const q = Math.min(m, t);

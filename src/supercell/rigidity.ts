@@ -115,6 +115,31 @@ function putEnd(colIdx: Int32Array, re: Float64Array, im: Float64Array | null, k
 }
 
 /**
+ * ‖R·[u_1 … u_t]‖_F² for real velocity fields (2 entries per joint), in one pass over the rows
+ * without assembling R or the products (each entry formed as rigidityApply forms it). Only for
+ * real supercells (every phase ±1).
+ */
+export function rigiditySquaredNorm(sc: Supercell, fields: Float64Array[]): number {
+  const { count: m, a: A, b: B, source, phase } = sc.rows;
+  const p = scaledBarVectors(sc.framework, sc.lengthScale);
+  let s = 0;
+  for (let r = 0; r < m; r++) {
+    const px = p[2 * source[r]];
+    const py = p[2 * source[r] + 1];
+    const a = A[r];
+    const b = B[r];
+    for (let c = 0; c < fields.length; c++) {
+      const u = fields[c];
+      let v = 0;
+      if (a >= 0) v += -px * u[2 * a] - py * u[2 * a + 1];
+      if (b >= 0) v += phase[2 * r] * px * u[2 * b] + phase[2 * r] * py * u[2 * b + 1];
+      s += v * v;
+    }
+  }
+  return s;
+}
+
+/**
  * R·u for a real velocity field u (2 entries per joint) without assembling R: the same entries
  * as rigidityMatrix, row by row. Only for real supercells (every phase ±1).
  */
