@@ -364,17 +364,28 @@ function adviceFor(sc: Supercell): (need: number, allowed: number) => string {
   };
 }
 
-/** Joint positions for R's columns, bar midpoints for its rows (a grounded bar's from its joint). */
+/** Joint positions for R's columns (formed on first read: a count orders one side), bar midpoints for its rows (a grounded bar's from its joint). */
 function sidePositions(sc: Supercell): SidePositions {
   const p = sc.positions;
-  const columns = new Float64Array(4 * sc.jointCount);
-  for (let k = 0; k < sc.jointCount; k++) {
+  let columns: Float64Array | null = null;
+  const { count: m, a: A, b: B, source } = sc.rows;
+  const half = new Float64Array(resolveBars(sc.framework).flatMap((bar) => [bar.vector[0] / 2, bar.vector[1] / 2]));
+  return {
+    get columns() {
+      return (columns ??= jointColumns(p, sc.jointCount));
+    },
+    rows: barMidpoints(p, A, B, source, half, m),
+  };
+}
+
+/** Each joint's position twice (its two columns of R). */
+function jointColumns(p: Float64Array, joints: number): Float64Array {
+  const columns = new Float64Array(4 * joints);
+  for (let k = 0; k < joints; k++) {
     columns[4 * k] = columns[4 * k + 2] = p[2 * k];
     columns[4 * k + 1] = columns[4 * k + 3] = p[2 * k + 1];
   }
-  const { count: m, a: A, b: B, source } = sc.rows;
-  const half = new Float64Array(resolveBars(sc.framework).flatMap((bar) => [bar.vector[0] / 2, bar.vector[1] / 2]));
-  return { columns, rows: barMidpoints(p, A, B, source, half, m) };
+  return columns;
 }
 
 /** Each bar's midpoint (a grounded bar's from its joint), 2 per bar; `half` holds each unit-cell bar's vector / 2. */

@@ -304,7 +304,10 @@ export function makeSides(R: SparseMatrix, RH: SparseMatrix, positions?: SidePos
     },
     gramName: 'RᴴR',
     opName: 'R',
-    positions: positions?.columns ?? null,
+    // read when this side is ordered (a count orders only the smaller side)
+    get positions() {
+      return positions?.columns ?? null;
+    },
   };
   const stress: Side = {
     kind: 'selfStresses',
