@@ -159,6 +159,25 @@ function realGramMatVec(rows: number, rowPtr: Int32Array, colIdx: Int32Array, re
   for (let r = 0; r < rows; r++) {
     const start = k;
     const end = rowPtr[r + 1];
+    if (end - start === 4) {
+      // the usual row of R or Rᴴ (a bar's two joints; a joint of four bars) written out: the same
+      // sums in the same order as the loops below
+      const c0 = colIdx[k];
+      const c1 = colIdx[k + 1];
+      const c2 = colIdx[k + 2];
+      const c3 = colIdx[k + 3];
+      const a0 = re[k];
+      const a1 = re[k + 1];
+      const a2 = re[k + 2];
+      const a3 = re[k + 3];
+      const t = 0 + a0 * v[c0] + a1 * v[c1] + a2 * v[c2] + a3 * v[c3];
+      w[c0] += a0 * t;
+      w[c1] += a1 * t;
+      w[c2] += a2 * t;
+      w[c3] += a3 * t;
+      k = end;
+      continue;
+    }
     let t = 0;
     for (; k < end; k++) t += re[k] * v[colIdx[k]];
     for (let q = start; q < end; q++) w[colIdx[q]] += re[q] * t;
