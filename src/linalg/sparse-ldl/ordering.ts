@@ -68,7 +68,7 @@ export function nestedDissection(g: Graph, options: OrderingOptions = {}): Int32
   };
 
   const split: GeometricSplit | null = positions
-    ? { ptr: g.ptr, adj: g.adj, p: positions, reach: neighbourReach(g, positions), coords: new Float64Array(n), isLow, inBoundary, label, box: new Float64Array(5), counts: new Int32Array(2), cut: new CutGraph(n) }
+    ? { ptr: g.ptr, adj: g.adj, p: positions, reach: neighbourReach(g, positions), coords: new Float64Array(n), isLow, inBoundary, label, box: new Float64Array(5), counts: new Int32Array(2), cut: new CutGraph(n), scratch: new Int32Array(n) }
     : null;
 
   /** Breadth-first level structure inside the subset; returns the nodes reached, by level. */
@@ -196,6 +196,8 @@ interface GeometricSplit {
   counts: Int32Array;
   /** The bipartite graph of the edges across a cut and its matching (coverCut), buffers reused. */
   cut: CutGraph;
+  /** Room for one subset's nodes while they are put in order (splitGeometric). */
+  scratch: Int32Array;
 }
 
 /** coverCut's buffers: low i and high j are places in the boundary lists; grown when short. */
@@ -262,11 +264,12 @@ function splitGeometric(st: GeometricSplit, nodes: Int32Array, id: number): [Int
   markBoundary(st, nodes, id, axis, median);
   const cover = coverCut(st, nodes, id);
   if (cover.size >= len / 2) return null;
-  const A = new Int32Array(lowCount - cover.low);
-  const B = new Int32Array(len - lowCount - (cover.size - cover.low));
-  const S = new Int32Array(cover.size);
-  distribute(nodes, st.isLow, st.inBoundary, A, B, S);
-  return [A, B, S];
+  // the parts in place, as views of `nodes`: no fresh memory at each level of the dissection
+  const a = lowCount - cover.low;
+  const b = len - lowCount - (cover.size - cover.low);
+  distribute(nodes, st.isLow, st.inBoundary, a, b, st.scratch);
+  nodes.set(st.scratch.subarray(0, len));
+  return [nodes.subarray(0, a), nodes.subarray(a, a + b), nodes.subarray(a + b)];
 }
 
 /**
@@ -495,16 +498,19 @@ function keepCover(inBoundary: Uint8Array, list: Int32Array, reached: Uint8Array
   return kept;
 }
 
-/** The separator (inBoundary), then the low and high sides, each in the nodes' order. */
-function distribute(nodes: Int32Array, isLow: Uint8Array, inBoundary: Uint8Array, A: Int32Array, B: Int32Array, S: Int32Array): void {
+/**
+ * Into out: the low side (the first lowSize), the high side (the next highSize), then the
+ * separator (inBoundary), each in the nodes' order.
+ */
+function distribute(nodes: Int32Array, isLow: Uint8Array, inBoundary: Uint8Array, lowSize: number, highSize: number, out: Int32Array): void {
   let a = 0;
-  let b = 0;
-  let c = 0;
+  let b = lowSize;
+  let c = lowSize + highSize;
   for (let t = 0; t < nodes.length; t++) {
     const v = nodes[t];
-    if (inBoundary[v]) S[c++] = v;
-    else if (isLow[v]) A[a++] = v;
-    else B[b++] = v;
+    if (inBoundary[v]) out[c++] = v;
+    else if (isLow[v]) out[a++] = v;
+    else out[b++] = v;
   }
 }
 
