@@ -10,6 +10,7 @@ import { sparseSolver, sparseSpaces } from '../src/flex/solve-sparse.js';
 import { buildGallery } from '../src/framework/gallery.js';
 import { reverseCuthillMcKee, type Graph } from '../src/linalg/banded.js';
 import { analyse, nestedDissection, type HermitianCsr } from '../src/linalg/sparse-ldl/index.js';
+import { CutGraph, smallestCover } from '../src/linalg/sparse-ldl/cut-cover.js';
 import { MinimumDegreeWork, minimumDegree } from '../src/linalg/sparse-ldl/minimum-degree.js';
 import { conjugateTranspose, type SparseMatrix } from '../src/linalg/sparse.js';
 import { parseBoundary } from '../src/supercell/boundary.js';
@@ -485,6 +486,60 @@ function geometricGraph(side: number, seed: number): { g: Graph; p: Float64Array
   lists.forEach((l, i) => (ptr[i + 1] = ptr[i] + l.length));
   return { g: { n, ptr, adj: Int32Array.from(lists.flat()) }, p };
 }
+
+// The separator of a cut (cut-cover.ts): a smallest vertex cover of a bipartite graph, from a
+// largest matching (König's theorem; common practice), against every subset of small graphs.
+describe('smallest vertex cover of a cut', () => {
+  const coverOf = (nl: number, nh: number, edges: [number, number][]) => {
+    const cut = new CutGraph(0);
+    cut.ptr = new Int32Array(nl + 1);
+    const lists: number[][] = Array.from({ length: nl }, () => []);
+    for (const [i, j] of edges) lists[i].push(j);
+    lists.forEach((l, i) => (cut.ptr[i + 1] = cut.ptr[i] + l.length));
+    cut.adj = Int32Array.from(lists.flat());
+    const size = smallestCover(cut, nl, nh);
+    const low = Array.from({ length: nl }, (_, i) => cut.reachedLow[i] === 0);
+    const high = Array.from({ length: nh }, (_, j) => cut.reachedHigh[j] === 1);
+    return { size, low, high };
+  };
+  const bruteForce = (nl: number, nh: number, edges: [number, number][]) => {
+    let best = nl + nh;
+    for (let mask = 0; mask < 1 << (nl + nh); mask++) {
+      const inCover = (v: number) => (mask >> v) & 1;
+      if (edges.every(([i, j]) => inCover(i) || inCover(nl + j))) best = Math.min(best, popcount(mask));
+    }
+    return best;
+  };
+  const popcount = (x: number) => {
+    let c = 0;
+    for (; x; x &= x - 1) c++;
+    return c;
+  };
+
+  it('a path of five edges across the cut needs three nodes; a star one', () => {
+    // low 0–high 0–low 1–high 1–low 2–high 2 (alternating path of 5 edges)
+    expect(coverOf(3, 3, [[0, 0], [1, 0], [1, 1], [2, 1], [2, 2]]).size).toBe(3);
+    // one high node joined to four low ones
+    const star = coverOf(4, 1, [[0, 0], [1, 0], [2, 0], [3, 0]]);
+    expect(star.size).toBe(1);
+    expect(star.high).toEqual([true]);
+    expect(star.low).toEqual([false, false, false, false]);
+  });
+
+  it('random bipartite graphs up to 6 + 6 nodes: as small as the smallest cover, and a cover', () => {
+    const rand = rng(77);
+    for (let trial = 0; trial < 200; trial++) {
+      const nl = 1 + Math.floor(rand() * 6);
+      const nh = 1 + Math.floor(rand() * 6);
+      const edges: [number, number][] = [];
+      for (let i = 0; i < nl; i++) for (let j = 0; j < nh; j++) if (rand() < 0.35) edges.push([i, j]);
+      const c = coverOf(nl, nh, edges);
+      expect(c.size).toBe(bruteForce(nl, nh, edges));
+      expect(c.low.filter(Boolean).length + c.high.filter(Boolean).length).toBe(c.size);
+      for (const [i, j] of edges) expect(c.low[i] || c.high[j]).toBe(true);
+    }
+  });
+});
 
 describe('nested dissection by coordinate bisection', () => {
   it('equals the reference that scans every node of every cut (grids with ties and long links, far from the origin too)', () => {

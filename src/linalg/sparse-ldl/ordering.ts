@@ -6,13 +6,14 @@
  * halves once S is removed); each half is ordered recursively and S comes last, so eliminating
  * one half never fills the other. Halves come from the unknowns' positions when the caller gives
  * them (recursive coordinate bisection at the median of the longer extent; S is a smallest
- * vertex cover of the edges across the cut), otherwise from the graph alone (a breadth-first
+ * vertex cover of the edges across the cut, cut-cover.ts), otherwise from the graph alone (a breadth-first
  * level structure from a pseudo-peripheral node; S is the median level). Subsets of at most
  * `leafSize` unknowns are ordered by minimum degree (minimum-degree.ts): on open kagome 96×96,
  * leaves of 128 so ordered leave 24 % fewer entries in L (and 10 % fewer flops) than leaves of
  * 48 in reverse Cuthill–McKee order.
  */
 import { reverseCuthillMcKee, type Graph } from '../banded.js';
+import { CutGraph, smallestCover } from './cut-cover.js';
 import { MinimumDegreeWork, minimumDegree } from './minimum-degree.js';
 
 export interface OrderingOptions {
@@ -200,49 +201,6 @@ interface GeometricSplit {
   scratch: Int32Array;
 }
 
-/** coverCut's buffers: low i and high j are places in the boundary lists; grown when short. */
-class CutGraph {
-  low = new Int32Array(0);
-  high = new Int32Array(0);
-  /** slot[v]: v's place in its list (read only for boundary nodes of the current cut). */
-  slot: Int32Array;
-  ptr = new Int32Array(0);
-  adj = new Int32Array(0);
-  mateLow = new Int32Array(0);
-  mateHigh = new Int32Array(0);
-  visited = new Int32Array(0);
-  stackLow = new Int32Array(0);
-  cursor = new Int32Array(0);
-  via = new Int32Array(0);
-  reachedLow = new Uint8Array(0);
-  reachedHigh = new Uint8Array(0);
-  constructor(n: number) {
-    this.slot = new Int32Array(n);
-  }
-  /** Sizes the matching's buffers for nl low and nh high nodes and clears them. */
-  prepare(nl: number, nh: number): void {
-    if (this.mateLow.length < nl) {
-      const k = Math.max(nl, 2 * this.mateLow.length);
-      this.mateLow = new Int32Array(k);
-      this.stackLow = new Int32Array(k);
-      this.cursor = new Int32Array(k);
-      this.via = new Int32Array(k);
-      this.reachedLow = new Uint8Array(k);
-    }
-    if (this.mateHigh.length < nh) {
-      const k = Math.max(nh, 2 * this.mateHigh.length);
-      this.mateHigh = new Int32Array(k);
-      this.visited = new Int32Array(k);
-      this.reachedHigh = new Uint8Array(k);
-    }
-    this.mateLow.fill(-1, 0, nl);
-    this.mateHigh.fill(-1, 0, nh);
-    this.visited.fill(0, 0, nh);
-    this.reachedLow.fill(0, 0, nl);
-    this.reachedHigh.fill(0, 0, nh);
-  }
-}
-
 /** Split `nodes` (all carrying label `id`) into [A, B, S]; null when no useful split exists. */
 function splitGeometric(st: GeometricSplit, nodes: Int32Array, id: number): [Int32Array, Int32Array, Int32Array] | null {
   const len = nodes.length;
@@ -296,9 +254,7 @@ function coverCut(st: GeometricSplit, nodes: Int32Array, id: number): { size: nu
     clearBoundary(st.inBoundary, cut.high, nh);
     return { size: 0, low: 0 };
   }
-  cut.prepare(nl, nh);
-  const size = maximumMatching(cut, nl);
-  alternatingReach(cut, nl);
+  const size = smallestCover(cut, nl, nh);
   const low = keepCover(st.inBoundary, cut.low, cut.reachedLow, nl, 0);
   keepCover(st.inBoundary, cut.high, cut.reachedHigh, nh, 1);
   return { size, low };
@@ -418,72 +374,6 @@ function cutEdges(st: GeometricSplit, id: number, nl: number, cut: CutGraph): nu
 
 function clearBoundary(inBoundary: Uint8Array, list: Int32Array, k: number): void {
   for (let i = 0; i < k; i++) inBoundary[list[i]] = 0;
-}
-
-/**
- * A largest matching of the cut's bipartite graph: each low node in turn, by a depth-first search
- * for an augmenting path (explicit stack; each high node visited once per search). Returns its size.
- */
-function maximumMatching(cut: CutGraph, nl: number): number {
-  let size = 0;
-  for (let root = 0; root < nl; root++) if (augment(cut, root, root + 1)) size++;
-  return size;
-}
-
-function augment(cut: CutGraph, root: number, stamp: number): boolean {
-  const { ptr, adj, mateLow, mateHigh, visited, stackLow, cursor, via } = cut;
-  let depth = 0;
-  stackLow[0] = root;
-  cursor[0] = ptr[root];
-  while (depth >= 0) {
-    const i = stackLow[depth];
-    if (cursor[depth] === ptr[i + 1]) {
-      depth--;
-      continue;
-    }
-    const j = adj[cursor[depth]++];
-    if (visited[j] === stamp) continue;
-    visited[j] = stamp;
-    via[depth] = j;
-    const next = mateHigh[j];
-    if (next < 0) {
-      // flip the path root … j
-      for (let d = depth; d >= 0; d--) {
-        mateLow[stackLow[d]] = via[d];
-        mateHigh[via[d]] = stackLow[d];
-      }
-      return true;
-    }
-    stackLow[++depth] = next;
-    cursor[depth] = ptr[next];
-  }
-  return false;
-}
-
-/** The nodes alternating paths from the unmatched low nodes reach (reachedLow, reachedHigh). */
-function alternatingReach(cut: CutGraph, nl: number): void {
-  const { ptr, adj, mateLow, mateHigh, reachedLow, reachedHigh, stackLow } = cut;
-  let top = 0;
-  for (let i = 0; i < nl; i++) {
-    if (mateLow[i] < 0) {
-      reachedLow[i] = 1;
-      stackLow[top++] = i;
-    }
-  }
-  while (top > 0) {
-    const i = stackLow[--top];
-    for (let k = ptr[i], kEnd = ptr[i + 1]; k < kEnd; k++) {
-      const j = adj[k];
-      if (reachedHigh[j]) continue;
-      reachedHigh[j] = 1;
-      // matched, or the matching would not be largest
-      const i2 = mateHigh[j];
-      if (!reachedLow[i2]) {
-        reachedLow[i2] = 1;
-        stackLow[top++] = i2;
-      }
-    }
-  }
 }
 
 /** inBoundary = 1 on the listed nodes whose reached flag equals `coverWhen`, 0 on the others; returns how many are 1. */
