@@ -187,7 +187,6 @@ export function sparseSpaces(R: SparseMatrix, options: SparseSolveOptions): Solv
   const { flex, stress } = makeSides(R, RH, options.positions);
   // 2. the inertia count runs on the smaller Gram matrix: check its band fits before anything else
   const countSide = m <= n ? stress : flex;
-  const otherSide = countSide === stress ? flex : stress;
   if (m > 0 && n > 0) checkMemory(ctx, countSide, guards, 'the inertia count');
   report(0.02, 'σ_max (Lanczos)');
   const given = options.sigmaMax;
