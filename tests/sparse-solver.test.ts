@@ -413,12 +413,7 @@ describe('σ_max: the Lanczos estimate and the upper bound', () => {
       const rows = 5 + Math.floor(rand() * 30);
       const cols = 5 + Math.floor(rand() * 30);
       const complex = trial % 2 === 1;
-      const b = new SparseBuilder(cols);
-      for (let r = 0; r < rows; r++) {
-        b.newRow();
-        for (let c = 0; c < cols; c++) if (rand() < 0.2) b.add(r, c, rand() * 4 - 2, complex ? rand() * 4 - 2 : 0);
-      }
-      const A = b.build(complex);
+      const A = randomSparse(rand, rows, cols, 0.2, complex);
       // σ_max² = the largest eigenvalue of the real symmetric embedding of AᴴA
       const n = cols;
       const G = Matrix.zeros(2 * n, 2 * n);
@@ -489,12 +484,7 @@ describe('Aᴴ(A v) in one pass', () => {
       const rows = 10 + Math.floor(rand() * 30);
       const cols = 10 + Math.floor(rand() * 30);
       const complex = trial % 2 === 1;
-      const b = new SparseBuilder(cols);
-      for (let r = 0; r < rows; r++) {
-        b.newRow();
-        for (let c = 0; c < cols; c++) if (rand() < 0.5) b.add(r, c, rand() * 4 - 2, complex ? rand() * 4 - 2 : 0);
-      }
-      const A = b.build(complex);
+      const A = randomSparse(rand, rows, cols, 0.5, complex);
       const { vr, vi } = vectors(cols, complex, trial);
       const one = onePass(A, vr, vi);
       const two = twoProducts(A, vr, vi);
@@ -530,6 +520,16 @@ describe('Aᴴ(A v) in one pass', () => {
     expect(() => gramMatVecInto(R, new Float64Array(R.cols), null, new Float64Array(R.cols), null)).toThrow(/complex matrix needs complex vectors/);
   });
 });
+
+/** A random rows×cols matrix, each entry present with probability `density`, parts uniform in [−2, 2). */
+function randomSparse(rand: () => number, rows: number, cols: number, density: number, complex: boolean): SparseMatrix {
+  const b = new SparseBuilder(cols);
+  for (let r = 0; r < rows; r++) {
+    b.newRow();
+    for (let c = 0; c < cols; c++) if (rand() < density) b.add(r, c, rand() * 4 - 2, complex ? rand() * 4 - 2 : 0);
+  }
+  return b.build(complex);
+}
 
 function entry(A: SparseMatrix, r: number, c: number): [number, number] {
   for (let k = A.rowPtr[r]; k < A.rowPtr[r + 1]; k++) if (A.colIdx[k] === c) return [A.re[k], A.im ? A.im[k] : 0];
