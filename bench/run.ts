@@ -13,7 +13,7 @@
  *
  * Each run spawns `node bin/shimmy.cjs count SPEC --cells NxN --bc BC --json --solver S` and times
  * it from spawn to exit; peak memory is the child's maximum resident set size, written at exit by
- * bench/rss-hook.mjs (preloaded with node --import). A run whose predicted time (extrapolated
+ * bench/rss-hook.cjs (preloaded with node --require). A run whose predicted time (extrapolated
  * from the previous sizes of the same path) exceeds the budget is skipped with a note.
  */
 import { spawnSync } from 'node:child_process';
@@ -33,7 +33,7 @@ import { compileCholmod, fmtSpread, inertiaReferences, pythonWorks, scipyNullSpa
 
 const ROOT = join(dirname(fileURLToPath(import.meta.url)), '..');
 const BIN = join(ROOT, 'bin', 'shimmy.cjs');
-const HOOK = join(ROOT, 'bench', 'rss-hook.mjs');
+const HOOK = join(ROOT, 'bench', 'rss-hook.cjs');
 
 // ---------------------------------------------------------------------------------------------
 // Options
@@ -100,7 +100,7 @@ function timeCommand(args: string[], timeoutSeconds: number, env: Record<string,
   const dir = mkdtempSync(join(tmpdir(), 'shimmy-bench-'));
   const rssFile = join(dir, 'rss');
   const t0 = process.hrtime.bigint();
-  const child = spawnSync(process.execPath, ['--import', HOOK, BIN, ...args], {
+  const child = spawnSync(process.execPath, ['--require', HOOK, BIN, ...args], {
     cwd: ROOT,
     env: { ...process.env, ...env, SHIMMY_BENCH_RSS: rssFile },
     encoding: 'utf8',
