@@ -9,9 +9,10 @@
  *
  * The elimination graph is a dense bit matrix (leaves have at most a few hundred unknowns). Each
  * neighbour's row takes the union with the eliminated unknown's row a word at a time, and its
- * degree is the row's bit count, so a step costs O(n) to choose (one scan of integer keys
- * degree·n + index) and O(d·n/32) to join d neighbours. Ties go to the lowest index, so the order
- * is deterministic.
+ * degree is the row's bit count. The unknowns wait in buckets by degree (a bit set per degree),
+ * so choosing one reads the few lowest buckets' words, not every unknown's degree, and a step
+ * costs O(d·n/32) to join d neighbours. Ties go to the lowest index, so the order is
+ * deterministic.
  */
 import type { Graph } from '../banded.js';
 
@@ -20,24 +21,28 @@ export const MINIMUM_DEGREE_MAX = 4096;
 
 /**
  * Buffers one minimum-degree ordering needs, kept between calls: nested dissection orders
- * hundreds of leaves, and allocating (and zeroing) six small arrays per leaf was a third of the
- * time spent on them.
+ * hundreds of leaves, and allocating (and zeroing) small arrays per leaf was a third of the time
+ * spent on them.
  */
 export class MinimumDegreeWork {
   bits = new Uint32Array(0);
+  buckets = new Uint32Array(0);
   degree = new Int32Array(0);
-  key = new Int32Array(0);
   nb = new Int32Array(0);
 
-  /** The buffers for n unknowns, bits cleared. */
+  /** The buffers for n unknowns, bits and buckets cleared. */
   reserve(n: number, words: number): this {
-    if (this.key.length < n) {
+    if (this.degree.length < n) {
       this.degree = new Int32Array(n);
-      this.key = new Int32Array(n);
       this.nb = new Int32Array(n);
     }
-    if (this.bits.length < n * words) this.bits = new Uint32Array(n * words);
-    else this.bits.fill(0, 0, n * words);
+    if (this.bits.length < n * words) {
+      this.bits = new Uint32Array(n * words);
+      this.buckets = new Uint32Array(n * words);
+    } else {
+      this.bits.fill(0, 0, n * words);
+      this.buckets.fill(0, 0, n * words);
+    }
     return this;
   }
 }
@@ -47,7 +52,7 @@ export function minimumDegree(g: Graph, work: MinimumDegreeWork = new MinimumDeg
   const n = g.n;
   if (n > MINIMUM_DEGREE_MAX) throw new RangeError(`minimumDegree: ${n} unknowns, at most ${MINIMUM_DEGREE_MAX} (a dense elimination graph)`);
   const words = (n + 31) >>> 5;
-  const { bits, degree, key, nb } = work.reserve(n, words);
+  const { bits, buckets, degree, nb } = work.reserve(n, words);
   for (let v = 0; v < n; v++)
     for (let k = g.ptr[v], kEnd = g.ptr[v + 1]; k < kEnd; k++) {
       const u = g.adj[k];
@@ -56,14 +61,22 @@ export function minimumDegree(g: Graph, work: MinimumDegreeWork = new MinimumDeg
         bits[u * words + (v >>> 5)] |= 1 << (v & 31);
       }
     }
-  for (let v = 0; v < n; v++) degree[v] = rowBits(bits, v * words, words);
-  // key = degree·n + index (below 2²⁴ for n ≤ 4096): the least key is the next unknown
-  for (let v = 0; v < n; v++) key[v] = degree[v] * n + v;
+  // bucket d (a bit set of `words` words) holds the unknowns left of degree d: the next unknown is
+  // the lowest index in the lowest nonempty bucket, at or above `low` (no unknown left has a
+  // smaller degree)
+  let low = n;
+  for (let v = 0; v < n; v++) {
+    const d = (degree[v] = rowBits(bits, v * words, words));
+    buckets[d * words + (v >>> 5)] |= 1 << (v & 31);
+    if (d < low) low = d;
+  }
   const order = new Int32Array(n);
   for (let t = 0; t < n; t++) {
-    const v = leastKey(key, n) % n;
+    const v = lowestInBuckets(buckets, low, words);
+    const dv = degree[v];
+    low = dv;
     order[t] = v;
-    key[v] = ELIMINATED;
+    buckets[dv * words + (v >>> 5)] &= ~(1 << (v & 31));
     const d = neighbours(bits, v * words, words, nb);
     // v leaves the graph; its neighbours become a clique: row a ← (row a ∪ row v) without a and v
     for (let i = 0; i < d; i++) {
@@ -72,19 +85,21 @@ export function minimumDegree(g: Graph, work: MinimumDegreeWork = new MinimumDeg
       joinRow(bits, ra, v * words, words);
       bits[ra + (a >>> 5)] &= ~(1 << (a & 31));
       bits[ra + (v >>> 5)] &= ~(1 << (v & 31));
-      degree[a] = rowBits(bits, ra, words);
-      key[a] = degree[a] * n + a;
+      buckets[degree[a] * words + (a >>> 5)] &= ~(1 << (a & 31));
+      const da = (degree[a] = rowBits(bits, ra, words));
+      buckets[da * words + (a >>> 5)] |= 1 << (a & 31);
+      if (da < low) low = da;
     }
   }
   return order;
 }
 
-const ELIMINATED = 0x7fffffff;
-
-function leastKey(key: Int32Array, n: number): number {
-  let least = ELIMINATED;
-  for (let u = 0; u < n; u++) if (key[u] < least) least = key[u];
-  return least;
+/** The lowest unknown of the lowest nonempty bucket from degree `low` up. */
+function lowestInBuckets(buckets: Uint32Array, low: number, words: number): number {
+  for (let at = low * words; ; at++) {
+    const x = buckets[at];
+    if (x) return (at % words << 5) + (31 - Math.clz32(x & -x));
+  }
 }
 
 /** The set bits of the row at `row` into nb, ascending; returns how many. */
