@@ -196,6 +196,13 @@ export interface BarRows {
   source: Int32Array;
   /** Phase factor of the `to` end's velocity (re, im), 2 per row. */
   phase: Float64Array;
+}
+
+/**
+ * Where each row lies, in the same order as BarRows: only the row objects (Supercell.bars) carry
+ * it, so the solvers' rows do not write (and page in) these two arrays.
+ */
+interface RowPlaces {
   /** Wrap counts (w1, w2) of the `to` end, 2 per row. */
   wraps: Int32Array;
   /** Cell (i, j) of the `from` end in the infinite framework, 2 per row. */
@@ -223,8 +230,6 @@ function listRows(blocks: RowBlock[], cells: [number, number], boundary: Boundar
     b: new Int32Array(count),
     source: new Int32Array(count),
     phase: new Float64Array(2 * count),
-    wraps: new Int32Array(2 * count),
-    cells: new Int32Array(2 * count),
   };
   let r = 0;
   for (const { source, sa, sb, shift: [s1, s2], y, xs } of blocks) {
@@ -260,17 +265,32 @@ function listRun(out: BarRows, r: number, lo: number, hi: number, j: number, sou
       out.phase[2 * r] = cr;
       out.phase[2 * r + 1] = ci;
     }
-    out.wraps[2 * r] = w1;
-    out.wraps[2 * r + 1] = w2;
-    out.cells[2 * r] = i;
-    out.cells[2 * r + 1] = j;
     r++;
   }
   return r;
 }
 
+/** The wraps and cells of the rows, in listRows's order (see RowPlaces). */
+function listPlaces(blocks: RowBlock[], cells: [number, number], boundary: Boundary, count: number): RowPlaces {
+  const [N1, N2] = cells;
+  const out: RowPlaces = { wraps: new Int32Array(2 * count), cells: new Int32Array(2 * count) };
+  let r = 0;
+  for (const { shift: [s1, s2], y, xs } of blocks)
+    for (let j = y.lo; j < y.hi; j++) {
+      const w2 = wrapCount(j + s2, N2, boundary.y);
+      for (const x of xs)
+        for (let i = x.lo; i < x.hi; i++, r++) {
+          out.wraps[2 * r] = wrapCount(i + s1, N1, boundary.x);
+          out.wraps[2 * r + 1] = w2;
+          out.cells[2 * r] = i;
+          out.cells[2 * r + 1] = j;
+        }
+    }
+  return out;
+}
+
 /** The row objects, one per row of R, from the typed rows. */
-function listBars(rows: BarRows, vectors: Vec2[]): SupercellBar[] {
+function listBars(rows: BarRows, places: RowPlaces, vectors: Vec2[]): SupercellBar[] {
   const bars: SupercellBar[] = new Array(rows.count);
   for (let r = 0; r < rows.count; r++) {
     const a = rows.a[r];
@@ -280,9 +300,9 @@ function listBars(rows: BarRows, vectors: Vec2[]): SupercellBar[] {
       b,
       vector: vectors[rows.source[r]],
       phase: [rows.phase[2 * r], rows.phase[2 * r + 1]],
-      wraps: [rows.wraps[2 * r], rows.wraps[2 * r + 1]],
+      wraps: [places.wraps[2 * r], places.wraps[2 * r + 1]],
       source: rows.source[r],
-      cell: [rows.cells[2 * r], rows.cells[2 * r + 1]],
+      cell: [places.cells[2 * r], places.cells[2 * r + 1]],
       grounded: a < 0 || b < 0,
     };
   }
@@ -346,7 +366,7 @@ export function buildSupercell(fw: Framework, cells: [number, number], boundary:
       return rowsOf();
     },
     get bars() {
-      return (bars ??= listBars(rowsOf(), resolveBars(fw).map((bar) => bar.vector)));
+      return (bars ??= listBars(rowsOf(), listPlaces(blocks, [N1, N2], boundary, rows), resolveBars(fw).map((bar) => bar.vector)));
     },
     barCount: rows,
     dropped,
