@@ -58,11 +58,11 @@ export function analyse(g: Graph, ordering: Int32Array, maxSupernode = 256): Sym
   // (no postorder first: nested dissection's orders come out postordered, or nearly, and the
   // merging renumbers the columns by a postorder of the merged tree anyway)
   const order = ordering;
-  const parent = eliminationTree(g, order, perm);
+  const parent = new Int32Array(n).fill(-1);
   const colCount = new Int32Array(n).fill(1);
-  const rowCount = new Int32Array(n).fill(1);
+  const rowCount = new Int32Array(n);
   const mark = new Int32Array(n).fill(-1);
-  rowSubtreeCounts(g, order, perm, parent, mark, colCount, rowCount);
+  treeAndCounts(g, order, perm, parent, mark, colCount, rowCount);
   const superStart = fundamentalSupernodes(parent, colCount, maxSupernode);
   const ns = superStart.length - 1;
   const superParent = new Int32Array(ns).fill(-1);
@@ -108,15 +108,23 @@ function frontStarts(colCount: Int32Array, superStart: Int32Array, rowPtr: Int32
   for (let s = 0; s + 1 < rowPtr.length; s++) rowPtr[s + 1] = rowPtr[s] + colCount[superStart[s]];
 }
 
-/** Elimination tree over the new indices, with path compression through `ancestor` (−1 at a root). */
-function eliminationTree(g: Graph, order: Int32Array, perm: Int32Array): Int32Array {
+/**
+ * The elimination tree over the new indices (−1 at a root) and the row and column counts of L, in
+ * one pass over the rows. Row k first links the tree: from each i < k with A_ki ≠ 0, up through
+ * `ancestor` (path compression) to a root, which gets parent k. Then row k of L is the union of
+ * the tree paths from those i up to k (every node on them is below k, so its parent is set by
+ * now): it adds 1 to the column count of every column on them.
+ */
+function treeAndCounts(g: Graph, order: Int32Array, perm: Int32Array, parent: Int32Array, mark: Int32Array, colCount: Int32Array, rowCount: Int32Array): void {
   const n = g.n;
   const { ptr, adj } = g;
-  const parent = new Int32Array(n).fill(-1);
+  // path-compressed ancestors (shortcuts up the tree being built)
   const ancestor = new Int32Array(n).fill(-1);
   for (let k = 0; k < n; k++) {
     const v = order[k];
-    for (let t = ptr[v], tEnd = ptr[v + 1]; t < tEnd; t++) {
+    const tBegin = ptr[v];
+    const tEnd = ptr[v + 1];
+    for (let t = tBegin; t < tEnd; t++) {
       let i = perm[adj[t]];
       while (i !== -1 && i < k) {
         const next = ancestor[i];
@@ -128,19 +136,9 @@ function eliminationTree(g: Graph, order: Int32Array, perm: Int32Array): Int32Ar
         i = next;
       }
     }
-  }
-  return parent;
-}
-
-/** Row k of L is the union of the tree paths from each i < k with A_ki ≠ 0 up to k: adds 1 per entry. */
-function rowSubtreeCounts(g: Graph, order: Int32Array, perm: Int32Array, parent: Int32Array, mark: Int32Array, colCount: Int32Array, rowCount: Int32Array): void {
-  const n = g.n;
-  const { ptr, adj } = g;
-  for (let k = 0; k < n; k++) {
     mark[k] = k;
-    const v = order[k];
     let row = 1;
-    for (let t = ptr[v], tEnd = ptr[v + 1]; t < tEnd; t++) {
+    for (let t = tBegin; t < tEnd; t++) {
       let j = perm[adj[t]];
       if (j >= k) continue;
       while (mark[j] !== k) {
