@@ -65,7 +65,7 @@ function entryCount(A: Int32Array, B: Int32Array, m: number): number {
 }
 
 /** R's rows (see rigidityMatrix). */
-function fillRows(A: Int32Array, B: Int32Array, source: Int32Array, phase: Float64Array, p: Float64Array, m: number, rowPtr: Int32Array, colIdx: Int32Array, re: Float64Array, im: Float64Array | null): void {
+function fillRows(A: Int32Array, B: Int32Array, source: Int32Array, phase: Float64Array | null, p: Float64Array, m: number, rowPtr: Int32Array, colIdx: Int32Array, re: Float64Array, im: Float64Array | null): void {
   let k = 0;
   for (let r = 0; r < m; r++) {
     const a = A[r];
@@ -73,8 +73,8 @@ function fillRows(A: Int32Array, B: Int32Array, source: Int32Array, phase: Float
     const s = source[r];
     const px = p[2 * s];
     const py = p[2 * s + 1];
-    const cr = phase[2 * r];
-    const ci = phase[2 * r + 1];
+    const cr = phase ? phase[2 * r] : 1;
+    const ci = phase ? phase[2 * r + 1] : 0;
     if (a >= 0 && b === a) {
       colIdx[k] = 2 * a;
       // (0 + …: the fixed end's imaginary part is 0, and a sum never gives −0)
@@ -132,7 +132,10 @@ export function rigiditySquaredNorm(sc: Supercell, fields: Float64Array[]): numb
       const u = fields[c];
       let v = 0;
       if (a >= 0) v += -px * u[2 * a] - py * u[2 * a + 1];
-      if (b >= 0) v += phase[2 * r] * px * u[2 * b] + phase[2 * r] * py * u[2 * b + 1];
+      if (b >= 0) {
+        const cr = phase ? phase[2 * r] : 1;
+        v += cr * px * u[2 * b] + cr * py * u[2 * b + 1];
+      }
       s += v * v;
     }
   }
@@ -154,7 +157,10 @@ export function rigidityApply(sc: Supercell, u: Float64Array): Float64Array {
     const b = B[r];
     let v = 0;
     if (a >= 0) v += -px * u[2 * a] - py * u[2 * a + 1];
-    if (b >= 0) v += phase[2 * r] * px * u[2 * b] + phase[2 * r] * py * u[2 * b + 1];
+    if (b >= 0) {
+      const cr = phase ? phase[2 * r] : 1;
+      v += cr * px * u[2 * b] + cr * py * u[2 * b + 1];
+    }
     out[r] = v;
   }
   return out;

@@ -194,8 +194,11 @@ export interface BarRows {
   b: Int32Array;
   /** Unit-cell bar of each row. */
   source: Int32Array;
-  /** Phase factor of the `to` end's velocity (re, im), 2 per row. */
-  phase: Float64Array;
+  /**
+   * Phase factor of the `to` end's velocity (re, im), 2 per row; null when every one is 1 (a real
+   * supercell with no twist), so that the common case writes and reads no array for them.
+   */
+  phase: Float64Array | null;
 }
 
 /**
@@ -223,13 +226,13 @@ function listRows(blocks: RowBlock[], cells: [number, number], boundary: Boundar
   const [N1, N2] = cells;
   const theta1 = boundary.x.kind === 'twist' ? reduceTurns(boundary.x.theta) : 0;
   const theta2 = boundary.y.kind === 'twist' ? reduceTurns(boundary.y.theta) : 0;
-  const real = boundaryIsReal(boundary);
+  const unit = boundaryIsReal(boundary) && theta1 === 0 && theta2 === 0;
   const out: BarRows = {
     count,
     a: new Int32Array(count),
     b: new Int32Array(count),
     source: new Int32Array(count),
-    phase: new Float64Array(2 * count),
+    phase: unit ? null : new Float64Array(2 * count),
   };
   let r = 0;
   for (const { source, sa, sb, shift: [s1, s2], y, xs } of blocks) {
@@ -238,7 +241,7 @@ function listRows(blocks: RowBlock[], cells: [number, number], boundary: Boundar
       const fyW = wrapCount(j, N2, boundary.y);
       const tyOut = isOut(j + s2, N2, boundary.y);
       const w2 = wrapCount(j + s2, N2, boundary.y);
-      for (const x of xs) r = listRun(out, r, x.lo, x.hi, j, source, sa, sb, s1, s2, N1, N2, S, boundary.x, fyOut, fyW, tyOut, w2, real, theta1, theta2);
+      for (const x of xs) r = listRun(out, r, x.lo, x.hi, j, source, sa, sb, s1, s2, N1, N2, S, boundary.x, fyOut, fyW, tyOut, w2, theta1, theta2);
     }
   }
   if (r !== count) throw new Error(`internal error: the supercell listed ${r} rows, its count is ${count}`);
@@ -250,7 +253,8 @@ function listRows(blocks: RowBlock[], cells: [number, number], boundary: Boundar
  * row. Its own function, called once per run: V8 compiles it whole after a few calls (as one loop
  * inside listRows it ran on fresh code to its end).
  */
-function listRun(out: BarRows, r: number, lo: number, hi: number, j: number, source: number, sa: number, sb: number, s1: number, s2: number, N1: number, N2: number, S: number, rx: AxisRule, fyOut: boolean, fyW: number, tyOut: boolean, w2: number, real: boolean, theta1: number, theta2: number): number {
+function listRun(out: BarRows, r: number, lo: number, hi: number, j: number, source: number, sa: number, sb: number, s1: number, s2: number, N1: number, N2: number, S: number, rx: AxisRule, fyOut: boolean, fyW: number, tyOut: boolean, w2: number, theta1: number, theta2: number): number {
+  const phase = out.phase;
   for (let i = lo; i < hi; i++) {
     const fxW = wrapCount(i, N1, rx);
     const w1 = wrapCount(i + s1, N1, rx);
@@ -259,11 +263,10 @@ function listRun(out: BarRows, r: number, lo: number, hi: number, j: number, sou
     out.a[r] = fromOut ? -1 : jointIndex(i - fxW * N1, j - fyW * N2, sa, N1, S);
     out.b[r] = toOut ? -1 : jointIndex(i + s1 - w1 * N1, j + s2 - w2 * N2, sb, N1, S);
     out.source[r] = source;
-    if (real && theta1 === 0 && theta2 === 0) out.phase[2 * r] = 1;
-    else {
+    if (phase) {
       const [cr, ci] = cis(theta1 * w1 + theta2 * w2);
-      out.phase[2 * r] = cr;
-      out.phase[2 * r + 1] = ci;
+      phase[2 * r] = cr;
+      phase[2 * r + 1] = ci;
     }
     r++;
   }
@@ -299,7 +302,7 @@ function listBars(rows: BarRows, places: RowPlaces, vectors: Vec2[]): SupercellB
       a,
       b,
       vector: vectors[rows.source[r]],
-      phase: [rows.phase[2 * r], rows.phase[2 * r + 1]],
+      phase: rows.phase ? [rows.phase[2 * r], rows.phase[2 * r + 1]] : [1, 0],
       wraps: [places.wraps[2 * r], places.wraps[2 * r + 1]],
       source: rows.source[r],
       cell: [places.cells[2 * r], places.cells[2 * r + 1]],
