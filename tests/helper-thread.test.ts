@@ -12,7 +12,7 @@ import { weightedGram } from '../src/flex/classify/rest-split.js';
 import { addRandomColumns, orthonormalityDefect, residualNorms, shareableMatrix, unitColumns, type Block } from '../src/linalg/block.js';
 import { cholQr2 } from '../src/linalg/cholesky-qr.js';
 import { seededUniform } from '../src/linalg/random.js';
-import { CHUNKS, chunkStart, helperThreadInstalled, inChunks, sharedFloats, SPLIT_WORK, triangleChunkStart } from '../src/linalg/parallel/helper.js';
+import { CHUNKS, chunkStart, helperThreadInstalled, inChunks, runBeside, sharedFloats, SPLIT_WORK, triangleChunkStart } from '../src/linalg/parallel/helper.js';
 import { startHelperThread, threadsWanted, type RunningHelper } from '../src/linalg/parallel/node-thread.js';
 import { analyseHermitian, sparseLdl, type HermitianCsr } from '../src/linalg/sparse-ldl/index.js';
 import { rng } from './helpers.js';
@@ -260,4 +260,67 @@ describe('split kernels on two threads give the one-thread results bit for bit',
       throw new Error('this thread failed too');
     }) as never, [cols, null, null, null], 4)).toThrow(/helper thread failed in a kernel: .*(null|undefined)/);
   });
+});
+
+describe('a helper thread that ends while a kernel waits for it', () => {
+  const script = new URL('./fixtures/ending-thread.mjs', import.meta.url);
+  const columns = (seed: number) => {
+    const rand = rng(seed);
+    return Array.from({ length: 6 }, () => vector(20_000, () => rand() - 0.5));
+  };
+  const unitOnOneThread = (seed: number) => {
+    const x = columns(seed).map((c) => Float64Array.from(c));
+    for (let c = 0; c < CHUNKS; c++) unitColumns(x, null, c, CHUNKS);
+    return x;
+  };
+
+  it('fails the call, naming what is missing, when it ended holding a chunk; later kernels run here', async () => {
+    process.env.SHIMMY_TEST_ENDING = 'mid-chunk';
+    const helper = startHelperThread({ script, stallMs: 2000 });
+    try {
+      await helper.ready();
+      // the kernel's one chunk goes to the other thread (which claims it and ends), while this
+      // one runs its own part
+      const x = columns(5);
+      let mine = false;
+      const t0 = Date.now();
+      expect(() => runBeside('unitColumns', unitColumns, [x, null], () => (mine = true))).toThrow(
+        /helper thread (ended|computed nothing for 2 s) during kernel unitColumns with 1 of its 1 chunks not computed, so the result would be incomplete; .*SHIMMY_THREADS=1/,
+      );
+      expect(mine).toBe(true);
+      // on Linux its end is seen at once, not after the stall rule's time
+      if (process.platform === 'linux') expect(Date.now() - t0).toBeLessThan(1500);
+      // the thread is out of use: the same kernel now runs whole here, and gives the one-thread result
+      const tasks = helper.tasks;
+      const y = columns(5);
+      inChunks('unitColumns', unitColumns, [y, null], CHUNKS);
+      expect(helper.tasks).toBe(tasks);
+      expect(differences(y, unitOnOneThread(5))).toBe(0);
+    } finally {
+      delete process.env.SHIMMY_TEST_ENDING;
+      await helper.stop();
+    }
+  }, 30_000);
+
+  it('lets the call go on, with a warning, when it ended before claiming any chunk', async () => {
+    process.env.SHIMMY_TEST_ENDING = 'at-once';
+    const warnings: string[] = [];
+    const onWarning = (w: Error) => warnings.push(w.message);
+    process.on('warning', onWarning);
+    const helper = startHelperThread({ script, stallMs: 2000 });
+    try {
+      await helper.ready();
+      const x = columns(6);
+      inChunks('unitColumns', unitColumns, [x, null], CHUNKS);
+      expect(helper.tasks).toBe(1);
+      // this thread computed every chunk: the output is whole and the same as on one thread
+      expect(differences(x, unitOnOneThread(6))).toBe(0);
+      await new Promise((r) => setTimeout(r, 50));
+      expect(warnings.some((w) => /helper thread ended during kernel unitColumns, after its chunks were done; the run goes on on one thread/.test(w) || /computed nothing/.test(w))).toBe(true);
+    } finally {
+      process.off('warning', onWarning);
+      delete process.env.SHIMMY_TEST_ENDING;
+      await helper.stop();
+    }
+  }, 30_000);
 });

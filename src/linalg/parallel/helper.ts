@@ -18,11 +18,14 @@ import type { KernelName } from './kernels.js';
 export interface HelperThread {
   /**
    * Start claiming chunks of kernel `name` on `args` on the other thread (claimChunks with this
-   * counter). False when it cannot take work now (not started yet, or stopped); then nothing
-   * was started.
+   * counter, made by chunkCounter). False when it cannot take work now (not started yet, or
+   * stopped); then nothing was started.
    */
   start(name: KernelName, args: readonly unknown[], counter: Int32Array, chunks: number): boolean;
-  /** Block until the started kernel has finished; rethrows its error. */
+  /**
+   * Block until the started kernel has finished; rethrows its error. Throws as well when the
+   * other thread ended before it finished its chunks (they would be missing from the output).
+   */
   finish(): void;
   /** Get ready to take work soon (a thread started lazily starts now). */
   prepare?(): void;
@@ -116,7 +119,7 @@ export type ChunkKernel<A extends unknown[]> = (...args: [...A, number, number])
 export function inChunks<A extends unknown[]>(name: KernelName, kernel: ChunkKernel<A>, args: A, chunks: number): void {
   const h = installed;
   if (chunks > 1 && h && allShared(args)) {
-    const counter = new Int32Array(new SharedArrayBuffer(4));
+    const counter = chunkCounter(chunks);
     if (h.start(name, args, counter, chunks)) {
       try {
         claimChunks(kernel as ChunkKernel<unknown[]>, args, counter, chunks);
@@ -130,9 +133,27 @@ export function inChunks<A extends unknown[]>(name: KernelName, kernel: ChunkKer
   for (let c = 0; c < chunks; c++) kernel(...args, c, chunks);
 }
 
-/** Run the chunks not yet claimed from `counter`, one at a time (both threads run this). */
+/**
+ * The shared counter of a split kernel: [0] the next chunk to claim, then one word per chunk, set
+ * to 1 once that chunk is computed (whichever thread computed it).
+ */
+export function chunkCounter(chunks: number): Int32Array {
+  return new Int32Array(new SharedArrayBuffer(4 * (chunks + 1)));
+}
+
+/** Run the chunks not yet claimed from `counter`, one at a time, marking each when done (both threads run this). */
 export function claimChunks(kernel: ChunkKernel<unknown[]>, args: readonly unknown[], counter: Int32Array, chunks: number): void {
-  for (let c = Atomics.add(counter, 0, 1); c < chunks; c = Atomics.add(counter, 0, 1)) kernel(...args, c, chunks);
+  for (let c = Atomics.add(counter, 0, 1); c < chunks; c = Atomics.add(counter, 0, 1)) {
+    kernel(...args, c, chunks);
+    Atomics.store(counter, 1 + c, 1);
+  }
+}
+
+/** How many chunks of the counter's kernel are computed. */
+export function chunksDone(counter: Int32Array, chunks: number): number {
+  let done = 0;
+  for (let c = 0; c < chunks; c++) done += Atomics.load(counter, 1 + c);
+  return done;
 }
 
 /** The first index of chunk c of `chunks` over 0 … n−1 (a multiple of `align` except at n): equal lengths. */
@@ -163,7 +184,7 @@ export function runBeside<A extends unknown[]>(name: KernelName, kernel: ChunkKe
   const h = installed;
   if (h && allShared(args)) {
     // the other thread claims the one chunk; this one never does
-    const counter = new Int32Array(new SharedArrayBuffer(4));
+    const counter = chunkCounter(1);
     if (h.start(name, args, counter, 1)) {
       try {
         mine();

@@ -9,7 +9,7 @@ import { createRequire } from 'node:module';
 import { availableParallelism } from 'node:os';
 import { fileURLToPath } from 'node:url';
 import type { MessagePort, Worker } from 'node:worker_threads';
-import { installHelperThread, type HelperThread } from './helper.js';
+import { chunksDone, installHelperThread, type HelperThread } from './helper.js';
 import type { KernelName } from './kernels.js';
 import type { KernelMessage, ThreadData } from './kernel-thread.js';
 
@@ -25,6 +25,16 @@ function workerThreads(): typeof import('node:worker_threads') {
 const BUILT_SCRIPT = './kernel-thread.js';
 const SOURCE_SCRIPT = './source-thread.mjs';
 
+/** How long the waiting thread sleeps between checks that the helper thread still runs (ms). */
+const CHECK_MS = 50;
+
+/**
+ * A helper thread that computes no chunk for this long (ms) is taken for stuck. On Linux a thread
+ * that has ended is seen at once (its /proc entry goes), so this rule matters only elsewhere; it
+ * is long because one chunk of a very large kernel may legitimately take minutes.
+ */
+const STALL_MS = 30 * 60_000;
+
 /** The thread's script: kernel-thread.ts through tsx from the sources, else the compiled file beside this one. */
 function threadScript(): URL {
   const here = import.meta.url;
@@ -35,6 +45,11 @@ function threadScript(): URL {
     throw new Error(`the helper thread's script ${fileURLToPath(built)} is missing; rebuild with npm run build:cli (or npm run build:lib)`);
   }
   return built;
+}
+
+/** True when the thread with this Linux thread id (0: unknown) is known to have ended. */
+function threadGone(tid: number): boolean {
+  return tid > 0 && !existsSync(`/proc/self/task/${tid}`);
 }
 
 /** The number of threads the environment variable SHIMMY_THREADS asks for (1 or 2; default: 2 when two cores are available). */
@@ -57,16 +72,22 @@ export interface RunningHelper {
 /**
  * Install the helper thread. With `lazy` (the CLI's choice) the thread starts at the first kernel
  * large enough to split, which itself runs on the calling thread: commands that never split a
- * kernel (a sparse count) pay nothing for it.
+ * kernel (a sparse count) pay nothing for it. A thread that ends (or computes nothing for
+ * `stallMs`) while a kernel waits for it is taken out of use: the call goes on when every chunk
+ * was computed anyway, and throws otherwise, rather than wait for ever. `script` replaces the
+ * thread's script (tests).
  */
-export function startHelperThread(options: { lazy?: boolean } = {}): RunningHelper {
-  const control = new Int32Array(new SharedArrayBuffer(8));
+export function startHelperThread(options: { lazy?: boolean; script?: URL; stallMs?: number } = {}): RunningHelper {
+  const control = new Int32Array(new SharedArrayBuffer(12));
+  const stallMs = options.stallMs ?? STALL_MS;
   // the thread's error messages come back on port1 (made with the thread)
   let port1: MessagePort | null = null;
   let worker: Worker | null = null;
   let stopped = false;
   let running = false;
   let tasks = 0;
+  // the kernel being run by the thread: its counter tells which chunks are done
+  let job: { name: KernelName; counter: Int32Array; chunks: number } | null = null;
   const launch = (): Worker => {
     if (worker) return worker;
     const { MessageChannel, Worker } = workerThreads();
@@ -74,7 +95,7 @@ export function startHelperThread(options: { lazy?: boolean } = {}): RunningHelp
     port1 = channel.port1;
     port1.unref();
     const data: ThreadData = { control, replies: channel.port2 };
-    const w = new Worker(threadScript(), { workerData: data, transferList: [channel.port2] });
+    const w = new Worker(options.script ?? threadScript(), { workerData: data, transferList: [channel.port2] });
     w.unref();
     w.on('error', () => {
       stopped = true;
@@ -94,6 +115,7 @@ export function startHelperThread(options: { lazy?: boolean } = {}): RunningHelp
       Atomics.store(control, 0, 0);
       w.postMessage({ name, args: [...args], counter, chunks } satisfies KernelMessage);
       running = true;
+      job = { name, counter, chunks };
       tasks++;
       return true;
     },
@@ -102,7 +124,30 @@ export function startHelperThread(options: { lazy?: boolean } = {}): RunningHelp
     },
     finish(): void {
       if (!running) return;
-      while (Atomics.load(control, 0) === 0) Atomics.wait(control, 0, 0);
+      // An ended thread never sets the control word, and this thread's event loop (which would
+      // hear of its exit) is blocked here: wait in short slices and look between them.
+      let done = -1;
+      let since = Date.now();
+      while (Atomics.load(control, 0) === 0) {
+        if (Atomics.wait(control, 0, 0, CHECK_MS) !== 'timed-out') continue;
+        const now = chunksDone(job!.counter, job!.chunks);
+        if (now !== done) [done, since] = [now, Date.now()];
+        const gone = threadGone(Atomics.load(control, 2));
+        if (!gone && Date.now() - since < stallMs) continue;
+        // it will never report: take it out of use
+        running = false;
+        stopped = true;
+        void worker?.terminate().catch(() => undefined);
+        const what = gone ? 'ended' : `computed nothing for ${Math.round(stallMs / 1000)} s`;
+        if (done === job!.chunks) {
+          // every chunk is computed (this thread took the rest): the output is whole
+          process.emitWarning(`the helper thread ${what} during kernel ${job!.name}, after its chunks were done; the run goes on on one thread`);
+          return;
+        }
+        throw new Error(
+          `the helper thread ${what} during kernel ${job!.name} with ${job!.chunks - done} of its ${job!.chunks} chunks not computed, so the result would be incomplete; run again, or with SHIMMY_THREADS=1 to compute on one thread`,
+        );
+      }
       running = false;
       if (Atomics.load(control, 0) === 2) {
         const reply = port1 ? workerThreads().receiveMessageOnPort(port1) : undefined;
