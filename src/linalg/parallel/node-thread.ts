@@ -9,8 +9,8 @@ import { createRequire } from 'node:module';
 import { availableParallelism } from 'node:os';
 import { fileURLToPath } from 'node:url';
 import type { MessagePort, Worker } from 'node:worker_threads';
-import { chunksDone, installHelperThread, type HelperThread } from './helper.js';
-import type { KernelName } from './kernels.js';
+import { chunksDone, claimChunks, installHelperThread, type ChunkKernel, type HelperThread } from './helper.js';
+import { KERNELS, type KernelName } from './kernels.js';
 import type { KernelMessage, ThreadData } from './kernel-thread.js';
 
 /**
@@ -73,9 +73,10 @@ export interface RunningHelper {
  * Install the helper thread. With `lazy` (the CLI's choice) the thread starts at the first kernel
  * large enough to split, which itself runs on the calling thread: commands that never split a
  * kernel (a sparse count) pay nothing for it. A thread that ends (or computes nothing for
- * `stallMs`) while a kernel waits for it is taken out of use: the call goes on when every chunk
- * was computed anyway, and throws otherwise, rather than wait for ever. `script` replaces the
- * thread's script (tests).
+ * `stallMs`) while a kernel waits for it is taken out of use: the chunks it never claimed are
+ * computed here and the call goes on, unless it left a chunk unfinished (that one may be half
+ * written): then the call throws, rather than wait for ever. `script` replaces the thread's
+ * script (tests).
  */
 export function startHelperThread(options: { lazy?: boolean; script?: URL; stallMs?: number } = {}): RunningHelper {
   const control = new Int32Array(new SharedArrayBuffer(12));
@@ -87,7 +88,7 @@ export function startHelperThread(options: { lazy?: boolean; script?: URL; stall
   let running = false;
   let tasks = 0;
   // the kernel being run by the thread: its counter tells which chunks are done
-  let job: { name: KernelName; counter: Int32Array; chunks: number } | null = null;
+  let job: { name: KernelName; args: readonly unknown[]; counter: Int32Array; chunks: number } | null = null;
   const launch = (): Worker => {
     if (worker) return worker;
     const { MessageChannel, Worker } = workerThreads();
@@ -115,7 +116,7 @@ export function startHelperThread(options: { lazy?: boolean; script?: URL; stall
       Atomics.store(control, 0, 0);
       w.postMessage({ name, args: [...args], counter, chunks } satisfies KernelMessage);
       running = true;
-      job = { name, counter, chunks };
+      job = { name, args, counter, chunks };
       tasks++;
       return true;
     },
@@ -134,18 +135,21 @@ export function startHelperThread(options: { lazy?: boolean; script?: URL; stall
         if (now !== done) [done, since] = [now, Date.now()];
         const gone = threadGone(Atomics.load(control, 2));
         if (!gone && Date.now() - since < stallMs) continue;
-        // it will never report: take it out of use
+        // it will never report: take it out of use, compute here the chunks nobody claimed
+        // (a chunk it claimed and left unfinished may be half written: that one cannot be redone)
         running = false;
         stopped = true;
         void worker?.terminate().catch(() => undefined);
+        const { name, args, counter, chunks } = job!;
+        claimChunks(KERNELS[name] as ChunkKernel<unknown[]>, args, counter, chunks);
+        const missing = chunks - chunksDone(counter, chunks);
         const what = gone ? 'ended' : `computed nothing for ${Math.round(stallMs / 1000)} s`;
-        if (done === job!.chunks) {
-          // every chunk is computed (this thread took the rest): the output is whole
-          process.emitWarning(`the helper thread ${what} during kernel ${job!.name}, after its chunks were done; the run goes on on one thread`);
+        if (missing === 0) {
+          process.emitWarning(`the helper thread ${what} during kernel ${name}; every chunk was computed on this thread, and the run goes on on one thread`);
           return;
         }
         throw new Error(
-          `the helper thread ${what} during kernel ${job!.name} with ${job!.chunks - done} of its ${job!.chunks} chunks not computed, so the result would be incomplete; run again, or with SHIMMY_THREADS=1 to compute on one thread`,
+          `the helper thread ${what} during kernel ${name} with ${missing} of its ${chunks} chunks not computed, so the result would be incomplete; run again, or with SHIMMY_THREADS=1 to compute on one thread`,
         );
       }
       running = false;
