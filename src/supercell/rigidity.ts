@@ -126,16 +126,9 @@ export function rigiditySquaredNorm(sc: Supercell, fields: Float64Array[]): numb
   for (let r = 0; r < m; r++) {
     const px = p[2 * source[r]];
     const py = p[2 * source[r] + 1];
-    const a = A[r];
-    const b = B[r];
+    const cr = phase ? phase[2 * r] : 1;
     for (let c = 0; c < fields.length; c++) {
-      const u = fields[c];
-      let v = 0;
-      if (a >= 0) v += -px * u[2 * a] - py * u[2 * a + 1];
-      if (b >= 0) {
-        const cr = phase ? phase[2 * r] : 1;
-        v += cr * px * u[2 * b] + cr * py * u[2 * b + 1];
-      }
+      const v = rowTimes(fields[c], A[r], B[r], px, py, cr);
       s += v * v;
     }
   }
@@ -153,15 +146,15 @@ export function rigidityApply(sc: Supercell, u: Float64Array): Float64Array {
   for (let r = 0; r < m; r++) {
     const px = p[2 * source[r]];
     const py = p[2 * source[r] + 1];
-    const a = A[r];
-    const b = B[r];
-    let v = 0;
-    if (a >= 0) v += -px * u[2 * a] - py * u[2 * a + 1];
-    if (b >= 0) {
-      const cr = phase ? phase[2 * r] : 1;
-      v += cr * px * u[2 * b] + cr * py * u[2 * b + 1];
-    }
-    out[r] = v;
+    out[r] = rowTimes(u, A[r], B[r], px, py, phase ? phase[2 * r] : 1);
   }
   return out;
+}
+
+/** Row r of R times a real field u: −p·u_a + φ·p·u_b (a fixed end, index −1, adds nothing). */
+function rowTimes(u: Float64Array, a: number, b: number, px: number, py: number, cr: number): number {
+  let v = 0;
+  if (a >= 0) v += -px * u[2 * a] - py * u[2 * a + 1];
+  if (b >= 0) v += cr * px * u[2 * b] + cr * py * u[2 * b + 1];
+  return v;
 }
